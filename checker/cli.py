@@ -1,0 +1,223 @@
+"""The command line: commands and options only; the work is done in the library modules.
+
+Heavy libraries (spaCy, pdfminer, rich) are imported inside the commands that need them, so that --help and
+--version answer at once.
+"""
+
+from __future__ import annotations
+
+import argparse
+import os
+import sys
+from pathlib import Path
+from typing import Sequence
+
+from . import __version__
+from .errors import ExitCode, StudygapError, UsageError
+
+EPILOG = """exit codes: 0 done (nothing over --fail-on), 1 items over --fail-on, 2 usage, checklist or input error,
+3 a batch ran but some inputs could not be read.
+A complete report does not show that a study is sound; a person must still read the document."""
+
+
+def _limits_options(p: argparse.ArgumentParser) -> None:
+    g = p.add_argument_group("limits (for untrusted input)")
+    g.add_argument("--max-bytes", type=int, default=None, metavar="N", help="largest input file read (default 100 MB)")
+    g.add_argument("--max-pages", type=int, default=None, metavar="N", help="most PDF pages read (default 2000)")
+    g.add_argument("--max-inflated-bytes", type=int, default=None, metavar="N",
+                   help="largest uncompressed size of a DOCX's parts (default 200 MB)")
+    g.add_argument("--regex-seconds", type=float, default=None, metavar="S",
+                   help="time bound for one checklist regex over one document (default 2)")
+
+
+def _limits(args):
+    import dataclasses
+
+    from .limits import DEFAULT_LIMITS
+
+    changes = {k: getattr(args, k) for k in ("max_bytes", "max_pages", "max_inflated_bytes", "regex_seconds")
+               if getattr(args, k, None) is not None}
+    for k, v in changes.items():
+        if v <= 0:
+            raise UsageError(f"--{k.replace('_', '-')} must be above 0")
+    return dataclasses.replace(DEFAULT_LIMITS, **changes)
+
+
+def build_parser() -> argparse.ArgumentParser:
+    from .reports import names
+
+    parser = argparse.ArgumentParser(
+        prog="studygap",
+        description="Check whether a validation-study document reports what its readers need.",
+        epilog=EPILOG,
+        formatter_class=argparse.RawDescriptionHelpFormatter,
+    )
+    parser.add_argument("--version", action="version", version=f"studygap {__version__}")
+    sub = parser.add_subparsers(dest="command", metavar="COMMAND")
+
+    c = sub.add_parser("check", help="the gap report for each document", epilog=EPILOG,
+                       formatter_class=argparse.RawDescriptionHelpFormatter)
+    c.add_argument("files", nargs="+", metavar="FILE", help="PDF, DOCX, LaTeX, Markdown, HTML or text files")
+    c.add_argument("--checklist", default=None, metavar="ID|PATH",
+                   help="built-in checklist id, a YAML file, or 'auto' (default: chosen from the document's words)")
+    c.add_argument("--format", "-f", default="terminal", choices=names(), help="output format (default terminal)")
+    c.add_argument("-o", "--output", metavar="PATH", help="write the report to this file (atomically)")
+    c.add_argument("--fail-on", choices=["missing", "partial"], default=None,
+                   help="exit 1 when an item is missing (or missing or partial)")
+    c.add_argument("--config", metavar="FILE", help="settings file (default: nearest studygap.yaml or pyproject.toml)")
+    c.add_argument("--verbose", "-v", action="store_true", help="show every passage and facet")
+    c.add_argument("--quiet", "-q", action="store_true", help="no progress display")
+    c.add_argument("--no-color", action="store_true", help="no colour (NO_COLOR is respected too)")
+    _limits_options(c)
+
+    o = sub.add_parser("outline", help="what the reader saw: sections, pages, lines, word counts")
+    o.add_argument("file", metavar="FILE")
+    o.add_argument("--format", "-f", default="terminal", choices=["terminal", "json"])
+    o.add_argument("-o", "--output", metavar="PATH")
+    _limits_options(o)
+
+    k = sub.add_parser("checklists", help="list, show and validate checklists")
+    ksub = k.add_subparsers(dest="action", metavar="ACTION")
+    ksub.add_parser("list", help="the built-in checklists")
+    show = ksub.add_parser("show", help="the items of one checklist")
+    show.add_argument("ref", metavar="ID|PATH")
+    val = ksub.add_parser("validate", help="check checklist files and report every problem with its place")
+    val.add_argument("paths", nargs="+", metavar="PATH")
+    return parser
+
+
+def _color(args) -> bool:
+    if getattr(args, "no_color", False) or os.environ.get("NO_COLOR"):
+        return False
+    return sys.stdout.isatty() and not getattr(args, "output", None)
+
+
+def _write(text: str | bytes, output: str | None, inputs: Sequence[str] = ()) -> None:
+    if output is None or output == "-":
+        if isinstance(text, bytes):
+            sys.stdout.buffer.write(text)
+        else:
+            sys.stdout.write(text)
+        sys.stdout.flush()
+        return
+    from .output import write_atomic
+
+    write_atomic(Path(output), text, inputs)
+
+
+def cmd_check(args) -> int:
+    from .config import load_config
+    from .engine import check_document
+    from .reports import RenderOptions, info, render
+
+    limits = _limits(args)
+    config = load_config(args.config)
+    checklist = args.checklist or config.checklist
+    fail_on = args.fail_on or config.fail_on
+    if checklist != "auto":  # a broken checklist is refused before any document is read
+        from .checklist import load_checklist
+
+        load_checklist(checklist)
+    if info(args.format).binary and not args.output:
+        raise UsageError(f"the {args.format} format is a file: give -o PATH")
+    reports = []
+    errors = []
+    show_progress = not args.quiet and sys.stderr.isatty() and len(args.files) > 1
+    progress = None
+    if show_progress:
+        from rich.progress import Progress
+
+        progress = Progress(transient=True)
+        progress.start()
+        task = progress.add_task("checking", total=len(args.files))
+    try:
+        for f in args.files:
+            try:
+                reports.append(check_document(f, checklist, config, limits))
+            except StudygapError as exc:
+                if len(args.files) == 1 or getattr(exc, "path", None) is None:
+                    raise
+                errors.append(exc)
+                print(exc.line(), file=sys.stderr)
+            if progress is not None:
+                progress.advance(task)
+    finally:
+        if progress is not None:
+            progress.stop()
+    if reports:
+        out = render(args.format, reports, RenderOptions(verbose=args.verbose, color=_color(args), many=len(args.files) > 1))
+        _write(out, args.output, args.files)
+    if errors:
+        return ExitCode.SOME_INPUTS_FAILED
+    if fail_on:
+        bad = {"missing"} if fail_on == "missing" else {"missing", "partial"}
+        if any(it.status in bad for r in reports for it in r.items):
+            return ExitCode.ITEMS_OVER_THRESHOLD
+    return ExitCode.OK
+
+
+def cmd_outline(args) -> int:
+    from .outline import outline, render_outline
+
+    data = outline(args.file, _limits(args))
+    _write(render_outline(data, args.format, color=_color(args)), args.output, [args.file])
+    return ExitCode.OK
+
+
+def cmd_checklists(args) -> int:
+    from .checklist import builtin_ids, load_checklist
+
+    if args.action in (None, "list"):
+        for cid in builtin_ids():
+            cl = load_checklist(cid)
+            print(f"{cl.id:<24} {cl.version:<6} {len(cl.items):>3} items  {cl.title}")
+        return ExitCode.OK
+    if args.action == "show":
+        cl = load_checklist(args.ref)
+        print(f"{cl.id} {cl.version}: {cl.title}")
+        if cl.description:
+            print(cl.description)
+        for g in cl.groups:
+            print(f"\n{g.title}")
+            for it in cl.items:
+                if it.group == g.id:
+                    print(f"  {it.id:<34} {it.title}")
+                    print(f"  {'':<34} {it.question}")
+        return ExitCode.OK
+    problems: list[str] = []
+    for p in args.paths:
+        try:
+            cl = load_checklist(p)
+            print(f"{p}: valid ({len(cl.items)} items)")
+        except StudygapError as exc:
+            problems.extend(getattr(exc, "problems", [str(exc)]))
+    if problems:
+        print("\n".join(problems), file=sys.stderr)
+        return ExitCode.ERROR
+    return ExitCode.OK
+
+
+def main(argv: Sequence[str] | None = None) -> int:
+    parser = build_parser()
+    args = parser.parse_args(argv)
+    if args.command is None:
+        parser.print_help()
+        return ExitCode.ERROR
+    try:
+        if args.command == "check":
+            return int(cmd_check(args))
+        if args.command == "outline":
+            return int(cmd_outline(args))
+        return int(cmd_checklists(args))
+    except StudygapError as exc:
+        print(exc.line(), file=sys.stderr)
+        return ExitCode.ERROR
+    except KeyboardInterrupt:
+        print("studygap: interrupted; no output was written", file=sys.stderr)
+        return ExitCode.INTERRUPTED
+    except BrokenPipeError:
+        return ExitCode.OK
+
+
+if __name__ == "__main__":  # pragma: no cover
+    sys.exit(main())

@@ -1,0 +1,100 @@
+"""Settings: command line > --config FILE > [tool.studygap] in the nearest pyproject.toml or studygap.yaml > defaults."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+from .errors import UsageError
+
+FAIL_ON = ("missing", "partial")
+_KEYS = {"checklist", "fail-on", "fail_on", "waivers", "ignore-sections", "ignore_sections", "rules"}
+
+
+@dataclass(frozen=True)
+class Config:
+    checklist: str = "auto"
+    fail_on: str | None = None
+    #: item id -> the user's reason; a waiver without a reason is refused
+    waivers: dict[str, str] = field(default_factory=dict)
+    #: headings whose sections are not searched (e.g. "Supplementary material")
+    ignore_sections: tuple[str, ...] = ()
+    #: rule id -> False to switch a rule off
+    rules: dict[str, bool] = field(default_factory=dict)
+    source: str = "defaults"
+
+
+def _load_toml(path: Path) -> dict[str, Any]:
+    try:
+        import tomllib
+    except ModuleNotFoundError:  # Python 3.10
+        import tomli as tomllib  # type: ignore[no-redef]
+    try:
+        with path.open("rb") as fh:
+            data = tomllib.load(fh)
+    except (OSError, tomllib.TOMLDecodeError) as exc:
+        raise UsageError(f"{path}: cannot read the configuration: {exc}") from None
+    return data.get("tool", {}).get("studygap", {}) if path.name == "pyproject.toml" else data
+
+
+def _load_yaml(path: Path) -> dict[str, Any]:
+    import yaml
+
+    try:
+        data = yaml.safe_load(path.read_text(encoding="utf-8")) or {}
+    except (OSError, UnicodeDecodeError, yaml.YAMLError) as exc:
+        raise UsageError(f"{path}: cannot read the configuration: {exc}") from None
+    if not isinstance(data, dict):
+        raise UsageError(f"{path}: the configuration must be a mapping of settings")
+    return data.get("studygap", data) if isinstance(data.get("studygap"), dict) else data
+
+
+def find_config(start: Path) -> Path | None:
+    """The nearest studygap.yaml, or pyproject.toml with a [tool.studygap] table, from start upwards."""
+    start = start.resolve()
+    for folder in (start, *start.parents):
+        for name in ("studygap.yaml", "studygap.yml"):
+            if (folder / name).is_file():
+                return folder / name
+        pp = folder / "pyproject.toml"
+        if pp.is_file() and "[tool.studygap" in pp.read_text(encoding="utf-8", errors="replace"):
+            return pp
+    return None
+
+
+def load_config(explicit: str | None = None, start: Path | None = None) -> Config:
+    path = Path(explicit) if explicit else find_config(start or Path.cwd())
+    if path is None:
+        return Config()
+    if not path.is_file():
+        raise UsageError(f"{path}: no such configuration file")
+    data = _load_toml(path) if path.suffix == ".toml" else _load_yaml(path)
+    return parse_config(data, str(path))
+
+
+def parse_config(data: dict[str, Any], source: str) -> Config:
+    unknown = sorted(set(data) - _KEYS)
+    if unknown:
+        raise UsageError(f"{source}: unknown setting {unknown[0]!r} (known: checklist, fail-on, waivers, "
+                         "ignore-sections, rules)")
+    fail_on = data.get("fail-on", data.get("fail_on"))
+    if fail_on is not None and fail_on not in FAIL_ON:
+        raise UsageError(f"{source}: fail-on must be 'missing' or 'partial', not {fail_on!r}")
+    waivers_raw = data.get("waivers", {}) or {}
+    if not isinstance(waivers_raw, dict):
+        raise UsageError(f"{source}: waivers must map item ids to reasons, e.g. waivers = {{\"ranking.method\" = "
+                         "\"single method, nothing is ranked\"}}")
+    waivers = {}
+    for item, reason in waivers_raw.items():
+        if not isinstance(reason, str) or not reason.strip():
+            raise UsageError(f"{source}: the waiver of {item!r} needs a reason (why the item does not apply)")
+        waivers[str(item)] = reason.strip()
+    ignore = data.get("ignore-sections", data.get("ignore_sections", [])) or []
+    if isinstance(ignore, str):
+        ignore = [ignore]
+    rules = data.get("rules", {}) or {}
+    if not isinstance(rules, dict) or not all(isinstance(v, bool) for v in rules.values()):
+        raise UsageError(f"{source}: rules must map rule ids to true or false")
+    checklist = data.get("checklist", "auto")
+    return Config(str(checklist), fail_on, waivers, tuple(str(s) for s in ignore), dict(rules), source)

@@ -1,0 +1,123 @@
+"""The one document model every reader fills: Document, Block, Sentence and Location (frozen)."""
+
+from __future__ import annotations
+
+import bisect
+from dataclasses import dataclass, field
+from typing import Any, Literal
+
+BlockKind = Literal["heading", "paragraph", "list-item", "table-row", "caption", "footnote"]
+
+
+@dataclass(frozen=True)
+class Location:
+    """Where a passage stands in its source file. Only the fields that the format has are set."""
+
+    file: str
+    page: int | None = None  # 1-based, PDF
+    line: int | None = None  # 1-based source line (LaTeX, Markdown, HTML, text); the PDF line on its page
+    paragraph: int | None = None  # 1-based body paragraph (DOCX)
+    table: int | None = None  # 1-based table number (DOCX, Markdown, HTML)
+    row: int | None = None  # 1-based row within that table
+    section: tuple[str, ...] = ()
+
+    def section_text(self) -> str:
+        return " > ".join(self.section)
+
+    def describe(self) -> str:
+        """Human words for the place: 'page 4, section 2.3 Reference annotation'."""
+        parts: list[str] = []
+        if self.page is not None:
+            parts.append(f"page {self.page}")
+        if self.table is not None:
+            parts.append(f"table {self.table}" + (f", row {self.row}" if self.row is not None else ""))
+        elif self.paragraph is not None:
+            parts.append(f"paragraph {self.paragraph}")
+        if self.line is not None and self.page is None:
+            parts.append(f"line {self.line}")
+        if self.section:
+            parts.append(f"section {self.section[-1]}")
+        return ", ".join(parts) if parts else self.file
+
+    def to_dict(self) -> dict[str, Any]:
+        return {
+            "file": self.file,
+            "page": self.page,
+            "line": self.line,
+            "paragraph": self.paragraph,
+            "table": self.table,
+            "row": self.row,
+            "section": self.section_text() or None,
+        }
+
+
+@dataclass(frozen=True)
+class Mark:
+    """From character ``offset`` of a block on, the text stands at this page and line of the source."""
+
+    offset: int
+    page: int | None = None
+    line: int | None = None
+
+
+@dataclass(frozen=True)
+class Block:
+    text: str
+    kind: BlockKind
+    location: Location
+    level: int | None = None  # heading level, 1 = top
+    #: section titles from the outermost heading to the innermost one that contains this block
+    section: tuple[str, ...] = ()
+    #: role of the innermost section with a known role (methods, references, ...), "body" when none
+    role: str = "body"
+    #: where the text moves to another line or page inside the block; the first mark is at offset 0
+    marks: tuple[Mark, ...] = ()
+
+    def location_at(self, offset: int) -> Location:
+        """The location of the character at ``offset``, with the block's section path."""
+        loc = self.location
+        if self.marks:
+            starts = [m.offset for m in self.marks]
+            i = max(0, bisect.bisect_right(starts, offset) - 1)
+            m = self.marks[i]
+            loc = Location(
+                file=loc.file,
+                page=m.page if m.page is not None else loc.page,
+                line=m.line if m.line is not None else loc.line,
+                paragraph=loc.paragraph,
+                table=loc.table,
+                row=loc.row,
+            )
+        if loc.section != self.section:
+            loc = Location(loc.file, loc.page, loc.line, loc.paragraph, loc.table, loc.row, self.section)
+        return loc
+
+
+@dataclass(frozen=True)
+class Sentence:
+    text: str
+    block: int  # index into Document.blocks
+    start: int  # character offsets into the block's text
+    end: int
+    location: Location
+    role: str = "body"
+    kind: BlockKind = "paragraph"
+
+
+@dataclass(frozen=True)
+class Document:
+    path: str
+    format: str
+    blocks: tuple[Block, ...]
+    pages: int | None = None
+    sha256: str = ""
+    warnings: tuple[str, ...] = ()
+    sentences: tuple[Sentence, ...] = field(default=(), compare=False)
+
+    @property
+    def words(self) -> int:
+        return sum(len(b.text.split()) for b in self.blocks)
+
+    @property
+    def text(self) -> str:
+        return "\n\n".join(b.text for b in self.blocks)

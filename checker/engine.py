@@ -1,0 +1,153 @@
+"""One document through the whole pipeline: read, parse, choose a checklist, match, decide, report."""
+
+from __future__ import annotations
+
+import dataclasses
+from functools import lru_cache
+from pathlib import Path
+
+from rapidfuzz import fuzz
+
+from . import __version__
+from .checklist import Checklist, builtin_ids, load_checklist
+from .config import Config
+from .document import Document
+from .limits import DEFAULT_LIMITS, Limits
+from .matching import CompiledChecklist
+from .report import Report
+from .verdicts import evaluate
+
+AUTO = "auto"
+
+
+@lru_cache(maxsize=32)
+def compiled_for(ref: str) -> CompiledChecklist:
+    """Compile a checklist once per process (workers of a batch reuse it)."""
+    return CompiledChecklist(load_checklist(ref))
+
+
+def ignore_sections(document: Document, headings: tuple[str, ...]) -> Document:
+    """Mark blocks under the named headings so that no evidence is taken from them."""
+    if not headings:
+        return document
+    wanted = [h.lower() for h in headings]
+
+    def hit(path: tuple[str, ...]) -> bool:
+        return any(fuzz.ratio(t.lower(), w) >= 90 or w in t.lower() for t in path for w in wanted)
+
+    blocks = tuple(dataclasses.replace(b, role="references") if hit(b.section) else b for b in document.blocks)
+    return dataclasses.replace(document, blocks=blocks)
+
+
+def choose_checklist(docs_text: list, nlp=None) -> tuple[str, str]:
+    """The built-in checklist whose `choose_when` cues the document uses most, and a sentence saying why."""
+    scores = []
+    for cid in builtin_ids():
+        compiled = compiled_for(cid)
+        if not compiled.checklist.choose_when:
+            continue
+        found: dict[str, int] = {}
+        for doc in docs_text:
+            for mkey, s, e in compiled._match_doc(doc):
+                if mkey == "choose":
+                    word = doc[s:e].text.lower()
+                    found[word] = found.get(word, 0) + 1
+        scores.append((sum(min(n, 3) for n in found.values()), len(found), cid, found))
+    if not scores:
+        return "validation-study", "validation-study: the default checklist"
+    scores.sort(key=lambda t: (-t[0], -t[1], t[2]))
+    score, _, cid, found = scores[0]
+    if score == 0:
+        return "validation-study", "validation-study: nothing pointed to another kind of document, so the default"
+    top = sorted(found, key=lambda w: (-found[w], w))[:4]
+    return cid, f"{cid}: mentions " + ", ".join(top)
+
+
+def check_document(
+    path: str | Path,
+    checklist: str = AUTO,
+    config: Config | None = None,
+    limits: Limits = DEFAULT_LIMITS,
+) -> Report:
+    from .nlp import parse_blocks
+    from .readers import read_document
+
+    config = config or Config()
+    document = read_document(path, limits)
+    document = ignore_sections(document, config.ignore_sections)
+    docs = list(parse_blocks(b.text for b in document.blocks))
+    if checklist == AUTO:
+        ref, choice = choose_checklist(docs)
+    else:
+        ref, choice = checklist, f"{Path(checklist).stem if checklist.endswith(('.yaml', '.yml')) else checklist}: " \
+                                 "named by the user"
+    compiled = compiled_for(ref)
+    scan = compiled.scan(document, regex_seconds=limits.regex_seconds, docs=docs)
+    items = evaluate(compiled, scan, config.waivers)
+    unknown_waivers = sorted(set(config.waivers) - {it.id for it in compiled.checklist.items})
+    warnings = list(document.warnings)
+    if unknown_waivers:
+        warnings.append(f"the configuration waives {', '.join(unknown_waivers)}, which checklist "
+                        f"{compiled.checklist.id} does not have")
+    return build_report(document, compiled.checklist, items, choice, tuple(warnings), scan=scan, config=config)
+
+
+def build_report(document: Document, checklist: Checklist, items, choice: str, warnings: tuple[str, ...],
+                 *, scan=None, config: Config | None = None) -> Report:
+    findings: tuple = ()
+    try:
+        from .rules import run_rules  # cross-item rules, where present
+    except ImportError:
+        run_rules = None
+    if run_rules is not None and scan is not None:
+        findings = tuple(run_rules(scan, items, checklist, config or Config()))
+    return Report(
+        tool_version=__version__,
+        document_path=document.path,
+        document_format=document.format,
+        pages=document.pages,
+        words=document.words,
+        sha256=document.sha256,
+        checklist_id=checklist.id,
+        checklist_title=checklist.title,
+        checklist_version=checklist.version,
+        items=items,
+        findings=findings,
+        checklist_choice=choice,
+        warnings=warnings,
+        groups=tuple((g.id, g.title) for g in checklist.groups),
+    )
+
+
+def document_from_text(text: str, path: str = "<text>") -> Document:
+    """A Document of plain paragraphs (blank-line separated), for library use and tests."""
+    import hashlib
+
+    from .document import Block, Location, Mark
+    from .sections import assign_sections
+
+    blocks = []
+    line = 1
+    for para in text.split("\n\n"):
+        stripped = para.strip("\n")
+        if stripped.strip():
+            marks, offset = [], 0
+            joined_lines = []
+            for i, ln in enumerate(stripped.split("\n")):
+                marks.append(Mark(offset, line=line + i))
+                joined_lines.append(ln.strip())
+                offset += len(ln.strip()) + 1
+            blocks.append(Block(" ".join(joined_lines), "paragraph", Location(path, line=line), marks=tuple(marks)))
+        line += para.count("\n") + 2
+    return Document(path, "text", tuple(assign_sections(blocks)), sha256=hashlib.sha256(text.encode()).hexdigest())
+
+
+def check_text(text: str, checklist: str = "validation-study", config: Config | None = None) -> Report:
+    """The report for a string (paragraphs separated by blank lines) against a checklist id or path."""
+    config = config or Config()
+    document = document_from_text(text)
+    compiled = compiled_for(checklist)
+    scan = compiled.scan(document)
+    items = evaluate(compiled, scan, config.waivers)
+    return build_report(document, compiled.checklist, items, f"{checklist}: named by the user", (), scan=scan,
+                        config=config)

@@ -1,0 +1,272 @@
+"""Cue matching: every cue of a checklist compiled once, then one pass over a document's sentences.
+
+Phrases go to two PhraseMatchers (lemma and lower case), token patterns to one Matcher, regexes are compiled
+with a time bound. A match key says which item, facet and part of the facet (cue, near, unless, applies) it is
+for, so one pass serves every item.
+"""
+
+from __future__ import annotations
+
+import re
+import time
+from dataclasses import dataclass, field
+from typing import TYPE_CHECKING, Iterable
+
+from .checklist import Checklist, Cues
+from .document import Document, Sentence
+from .errors import StudygapError
+
+if TYPE_CHECKING:
+    from spacy.tokens import Doc
+
+#: section role -> how much evidence found there counts; references never count
+ROLE_WEIGHTS = {
+    "methods": 1.0,
+    "data": 1.0,
+    "evaluation": 1.0,
+    "results": 0.9,
+    "abstract": 0.9,
+    "acknowledgements": 0.9,
+    "appendix": 0.9,
+    "body": 0.9,
+    "introduction": 0.6,
+    "discussion": 0.6,
+    "limitations": 0.6,
+    "related-work": 0.3,
+    "references": 0.0,
+}
+#: a heading names a topic but states nothing about it: alone it never makes a facet found
+HEADING_FACTOR = 0.4
+FOUND_AT = 0.5
+
+CUE, NEAR, UNLESS, APPLIES = "cue", "near", "unless", "applies"
+
+
+@dataclass(frozen=True)
+class Hit:
+    sentence: int  # index into Scan.sentences
+    start: int  # character offsets into the sentence text
+    end: int
+    #: named regex groups: (name, text, start, end) with offsets into the sentence text
+    groups: tuple[tuple[str, str, int, int], ...] = ()
+
+
+@dataclass
+class Scan:
+    """All sentences of a document (outside the references) and every cue hit, by match key."""
+
+    document: Document
+    sentences: list[Sentence]
+    #: section path of each sentence's block, to keep `near` inside one section
+    sections: list[tuple[str, ...]]
+    hits: dict[str, list[Hit]] = field(default_factory=dict)
+    #: sentences from the references section, kept only so that they can be counted in an outline
+    skipped_reference_sentences: int = 0
+
+    def weight(self, i: int) -> float:
+        s = self.sentences[i]
+        w = ROLE_WEIGHTS.get(s.role, 0.9)
+        return w * HEADING_FACTOR if s.kind == "heading" else w
+
+
+def key(item: int, facet: int, part: str) -> str:
+    return f"{item}:{facet}:{part}"
+
+
+def _variants(phrase: str) -> list[str]:
+    """Spelling variants authors mix: hyphen or not, British or American endings."""
+    out = {phrase}
+    if "-" in phrase:
+        out.add(phrase.replace("-", " "))
+        out.add(phrase.replace("-", ""))
+    for a, b in (("isation", "ization"), ("ise", "ize"), ("ised", "ized"), ("ising", "izing"), ("centre", "center"),
+                 ("labelled", "labeled"), ("labelling", "labeling"), ("modelling", "modeling"), ("colour", "color"),
+                 ("analyse", "analyze"), ("tumour", "tumor"), ("oedema", "edema"), ("haem", "hem")):
+        for v in list(out):
+            if a in v:
+                out.add(v.replace(a, b))
+            if b in v:
+                out.add(v.replace(b, a))
+    return sorted(out)
+
+
+class CompiledChecklist:
+    """A checklist's cues compiled for one spaCy pipeline; build once, scan many documents."""
+
+    def __init__(self, checklist: Checklist, nlp=None) -> None:
+        import regex
+        from spacy.matcher import Matcher, PhraseMatcher
+
+        from .facts import expand_macros
+        from .nlp import pipeline
+
+        self.checklist = checklist
+        self.nlp = nlp or pipeline()
+        vocab = self.nlp.vocab
+        self.lemma_matcher = PhraseMatcher(vocab, attr="LEMMA")
+        self.lower_matcher = PhraseMatcher(vocab, attr="LOWER")
+        self.token_matcher = Matcher(vocab)
+        self.regexes: list[tuple[str, object, str]] = []  # (key, compiled, source)
+        self.keys: set[str] = set()
+        phrase_docs: dict[str, list[str]] = {}
+        for ii, item in enumerate(checklist.items):
+            for fi, facet in enumerate(item.facets):
+                self._add(key(ii, fi, CUE), facet.cues, phrase_docs)
+                if facet.near is not None:
+                    self._add(key(ii, fi, NEAR), facet.near.cues, phrase_docs)
+                if facet.unless is not None:
+                    self._add(key(ii, fi, UNLESS), facet.unless, phrase_docs)
+            if item.applies_when is not None:
+                self._add(key(ii, -1, APPLIES), item.applies_when.cues, phrase_docs)
+        self._add("choose", checklist.choose_when, phrase_docs)
+        for k, phrases in phrase_docs.items():
+            texts = sorted({v for p in phrases for v in _variants(p)})
+            self.lemma_matcher.add(k, list(self.nlp.pipe(texts)))
+            self.lower_matcher.add(k, [self.nlp.make_doc(t) for t in texts])
+        flags = regex.IGNORECASE | regex.V0
+        self._compiled = [(k, regex.compile(expand_macros(src), flags), src) for k, src in self._regex_sources]
+        self.regexes = self._compiled
+        # a regex can only match where its literal words occur: sentences without them are skipped
+        self._prefilter = {k: _required_words(src) for k, _, src in self._compiled}
+        self._matchers = [m for m in (self.lemma_matcher, self.lower_matcher, self.token_matcher) if len(m)]
+
+    _regex_sources: list[tuple[str, str]]
+
+    def _add(self, k: str, cues: Cues, phrase_docs: dict[str, list[str]]) -> None:
+        if not hasattr(self, "_regex_sources"):
+            self._regex_sources = []
+        if not cues:
+            return
+        self.keys.add(k)
+        if cues.phrases:
+            phrase_docs.setdefault(k, []).extend(cues.phrases)
+        if cues.patterns:
+            self.token_matcher.add(k, [list(p) for p in cues.patterns])
+        for src in cues.regex:
+            self._regex_sources.append((k, src))
+
+    def scan(self, document: Document, *, regex_seconds: float = 2.0, docs: Iterable["Doc"] | None = None) -> Scan:
+        """Find every cue in the document's sentences; the references section is passed over."""
+        from .nlp import sentences_of
+
+        sentences: list[Sentence] = []
+        sections: list[tuple[str, ...]] = []
+        hits: dict[str, list[Hit]] = {}
+        skipped = 0
+        strings = self.nlp.vocab.strings
+        current_doc = None
+        token_sent: list[int] = []
+        for sent, doc, tstart, tend in sentences_of(document, docs):
+            if sent.role == "references":
+                skipped += 1
+                continue
+            si = len(sentences)
+            sentences.append(sent)
+            sections.append(document.blocks[sent.block].section)
+            if doc is not current_doc:
+                current_doc = doc
+                matches = self._match_doc(doc)
+                token_sent = []
+                doc_matches = matches
+            # token matches whose start lies in this sentence
+            for mkey, ms, me in doc_matches:
+                if tstart <= ms < tend:
+                    span = doc[ms:min(me, tend)]
+                    hits.setdefault(mkey, []).append(
+                        Hit(si, span.start_char - sent.start, span.end_char - sent.start)
+                    )
+        self._scan_regexes(sentences, hits, regex_seconds, document.path)
+        for v in hits.values():
+            v.sort(key=lambda h: (h.sentence, h.start, h.end))
+        deduped = {k: _dedupe(v) for k, v in hits.items()}
+        del token_sent
+        return Scan(document, sentences, sections, deduped, skipped)
+
+    def _match_doc(self, doc: "Doc") -> list[tuple[str, int, int]]:
+        strings = self.nlp.vocab.strings
+        out = []
+        for matcher in self._matchers:
+            for mid, s, e in matcher(doc):
+                out.append((strings[mid], s, e))
+        return out
+
+    def _scan_regexes(self, sentences: list[Sentence], hits: dict[str, list[Hit]], seconds: float, path: str) -> None:
+        import regex
+
+        lowered = [s.text.lower() for s in sentences]
+        for k, rx, src in self._compiled:
+            need = self._prefilter[k]
+            started = time.monotonic()
+            for si, s in enumerate(sentences):
+                if need and not any(w in lowered[si] for w in need):
+                    continue
+                left = seconds - (time.monotonic() - started)
+                try:
+                    for m in rx.finditer(s.text, timeout=max(left, 0.001)):
+                        if m.end() == m.start():
+                            continue
+                        groups = tuple(
+                            (name, m.group(name), m.start(name), m.end(name))
+                            for name in sorted(rx.groupindex, key=lambda n: rx.groupindex[n])
+                            if m.group(name) is not None
+                        )
+                        hits.setdefault(k, []).append(Hit(si, m.start(), m.end(), groups))
+                except TimeoutError:
+                    raise StudygapError(
+                        f"{path}: the checklist regex {src!r} took longer than {seconds:g} s "
+                        "(it backtracks too much on this text; simplify it, or raise --regex-seconds)"
+                    ) from None
+                except regex.error as exc:  # pragma: no cover - validated at load time
+                    raise StudygapError(f"checklist regex {src!r} failed: {exc}") from None
+
+
+def _dedupe(hits: list[Hit]) -> list[Hit]:
+    out: list[Hit] = []
+    seen = set()
+    for h in hits:
+        k = (h.sentence, h.start, h.end)
+        if k in seen:
+            continue
+        seen.add(k)
+        out.append(h)
+    return out
+
+
+_WORD = re.compile(r"[a-z]{4,}")
+
+
+def _required_words(src: str) -> tuple[str, ...]:
+    """A literal word that must occur for the regex to match, or () when there is none for sure.
+
+    Sentences without it are not searched (most regexes name a word such as 'bootstrap'). Only the regex's
+    top level counts: groups, classes, alternatives and optional letters are set aside.
+    """
+    top = _strip_groups(re.sub(r"\{[A-Z]+\}", " ", src))
+    if "|" in top:
+        return ()
+    top = re.sub(r"\[[^\]]*\]", " ", top)
+    top = re.sub(r".(?:\?|\*|\{[^}]*\})", " ", top)
+    words = _WORD.findall(top.lower())
+    return (max(words, key=len),) if words else ()
+
+
+def _strip_groups(src: str) -> str:
+    """The regex with every parenthesised group and escape replaced by a space."""
+    depth, out = 0, []
+    esc = False
+    for c in src:
+        if esc:
+            esc = False
+            continue
+        if c == "\\":
+            esc = True
+            out.append(" ")
+            continue
+        if c == "(":
+            depth += 1
+            out.append(" ")
+        elif c == ")":
+            depth = max(0, depth - 1)
+        elif depth == 0:
+            out.append(c)
+    return "".join(out)

@@ -1,0 +1,132 @@
+"""`studygap outline`: what the reader saw — format, pages, words, the section tree with roles and places."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Any
+
+from .document import Document, Location
+from .limits import DEFAULT_LIMITS, Limits
+
+
+@dataclass
+class SectionNode:
+    title: str
+    level: int
+    role: str
+    start: Location
+    end: Location | None = None
+    words: int = 0
+    sentences: int = 0
+    children: list["SectionNode"] = field(default_factory=list)
+
+    def to_dict(self) -> dict[str, Any]:
+        return {
+            "title": self.title,
+            "level": self.level,
+            "role": self.role,
+            "start": _place(self.start),
+            "end": _place(self.end or self.start),
+            "words": self.words,
+            "sentences": self.sentences,
+            "sections": [c.to_dict() for c in self.children],
+        }
+
+
+def _place(loc: Location) -> dict[str, Any]:
+    return {k: v for k, v in loc.to_dict().items() if k in ("file", "page", "line", "paragraph", "table", "row")
+            and v is not None}
+
+
+def section_tree(document: Document) -> tuple[list[SectionNode], int, int]:
+    """Top-level sections, and the words and sentences before the first heading."""
+    roots: list[SectionNode] = []
+    stack: list[SectionNode] = []
+    pre_words = pre_sents = 0
+    counts: dict[int, int] = {}
+    for s in document.sentences:
+        counts[s.block] = counts.get(s.block, 0) + 1
+    for bi, b in enumerate(document.blocks):
+        if b.kind == "heading":
+            level = b.level or 1
+            while stack and stack[-1].level >= level:
+                stack.pop()
+            node = SectionNode(" ".join(b.text.split()), level, b.role, b.location)
+            (stack[-1].children if stack else roots).append(node)
+            stack.append(node)
+            continue
+        words = len(b.text.split())
+        if not stack:
+            pre_words += words
+            pre_sents += counts.get(bi, 0)
+        for node in stack:
+            node.words += words
+            node.sentences += counts.get(bi, 0)
+            node.end = b.location
+    return roots, pre_words, pre_sents
+
+
+def outline(path, limits: Limits = DEFAULT_LIMITS) -> dict[str, Any]:
+    from .nlp import segment
+    from .readers import read_document
+
+    doc = segment(read_document(path, limits))
+    roots, pre_words, pre_sents = section_tree(doc)
+    kinds: dict[str, int] = {}
+    for b in doc.blocks:
+        kinds[b.kind] = kinds.get(b.kind, 0) + 1
+    return {
+        "path": doc.path,
+        "format": doc.format,
+        "pages": doc.pages,
+        "words": doc.words,
+        "sentences": len(doc.sentences),
+        "blocks": dict(sorted(kinds.items())),
+        "sha256": doc.sha256,
+        "before_first_heading": {"words": pre_words, "sentences": pre_sents},
+        "sections": [r.to_dict() for r in roots],
+        "warnings": list(doc.warnings),
+    }
+
+
+def _where(p: dict[str, Any]) -> str:
+    if "page" in p:
+        return f"p.{p['page']}" + (f" l.{p['line']}" if "line" in p else "")
+    if "table" in p:
+        return f"table {p['table']}"
+    if "paragraph" in p:
+        return f"¶{p['paragraph']}"
+    if "line" in p:
+        return f"l.{p['line']}"
+    return ""
+
+
+def render_outline(data: dict[str, Any], fmt: str = "terminal", color: bool = False) -> str:
+    if fmt == "json":
+        from .reports.json import dumps
+
+        return dumps(data)
+    lines = [f"{data['path']}: {data['format']}"
+             + (f", {data['pages']} pages" if data["pages"] else "")
+             + f", {data['words']:,} words, {data['sentences']:,} sentences"]
+    blocks = ", ".join(f"{n} {k}" for k, n in data["blocks"].items())
+    lines.append(f"blocks: {blocks}")
+    if data["before_first_heading"]["words"]:
+        lines.append(f"before the first heading: {data['before_first_heading']['words']:,} words")
+
+    def walk(nodes, depth):
+        for n in nodes:
+            span = _where(n["start"])
+            end = _where(n["end"])
+            if end and end != span:
+                span += f"–{end}"
+            role = "" if n["role"] == "body" else f"  [{n['role']}]"
+            lines.append(f"{'  ' * depth}{n['title']}{role}  ({span}; {n['words']:,} words)")
+            walk(n["sections"], depth + 1)
+
+    walk(data["sections"], 1)
+    if not data["sections"]:
+        lines.append("  no headings were recognised")
+    for w in data["warnings"]:
+        lines.append(f"warning: {w}")
+    return "\n".join(lines) + "\n"

@@ -1,0 +1,40 @@
+"""Writing outputs safely: to a temporary file beside the target, then renamed over it in one step."""
+
+from __future__ import annotations
+
+import os
+import tempfile
+from pathlib import Path
+from typing import Sequence
+
+from .errors import UsageError
+
+
+def write_atomic(target: Path, data: str | bytes, inputs: Sequence[str | Path] = ()) -> None:
+    """Write data to target so that a reader sees either the old file or the whole new one, never a half."""
+    folder = target.parent if str(target.parent) else Path(".")
+    if not folder.is_dir():
+        raise UsageError(f"{target}: the folder {folder} does not exist (create it first)")
+    if target.is_dir():
+        raise UsageError(f"{target}: is a folder; give a file name for the output")
+    resolved = target.resolve()
+    for i in inputs:
+        try:
+            if Path(i).resolve() == resolved:
+                raise UsageError(f"{target}: is one of the input documents; studygap never writes over an input")
+        except OSError:
+            continue
+    payload = data.encode("utf-8") if isinstance(data, str) else data
+    fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".part", dir=folder)
+    try:
+        with os.fdopen(fd, "wb") as fh:
+            fh.write(payload)
+            fh.flush()
+            os.fsync(fh.fileno())
+        os.replace(tmp, target)
+    except BaseException:
+        try:
+            os.unlink(tmp)
+        except OSError:
+            pass
+        raise

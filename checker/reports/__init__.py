@@ -1,0 +1,58 @@
+"""Renderers of Reports, registered by name; ``--format`` choices come from here.
+
+A renderer module defines ``render(reports, options) -> str | bytes`` and decides nothing: it shows the
+statuses, evidence and findings that the Report already holds.
+"""
+
+from __future__ import annotations
+
+import importlib
+from dataclasses import dataclass
+from typing import Sequence
+
+from ..report import Report
+
+
+@dataclass(frozen=True)
+class RenderOptions:
+    verbose: bool = False
+    color: bool = True
+    width: int | None = None
+    #: several documents were asked for (JSON then gives a list even when only one could be read)
+    many: bool = False
+
+
+@dataclass(frozen=True)
+class RendererInfo:
+    name: str
+    module: str
+    summary: str
+    binary: bool = False
+    suffix: str = ".txt"
+
+
+_REGISTRY: dict[str, RendererInfo] = {}
+
+
+def register(info: RendererInfo) -> None:
+    _REGISTRY[info.name] = info  # re-registering the same name replaces it, never doubles it
+
+
+for _info in (
+    RendererInfo("terminal", "checker.reports.terminal", "readable report for a terminal", suffix=".txt"),
+    RendererInfo("json", "checker.reports.json", "the JSON contract, for other tools", suffix=".json"),
+):
+    register(_info)
+
+
+def names() -> list[str]:
+    return list(_REGISTRY)
+
+
+def info(name: str) -> RendererInfo:
+    return _REGISTRY[name]
+
+
+def render(name: str, reports: Sequence[Report], options: RenderOptions = RenderOptions()) -> str | bytes:
+    mod = importlib.import_module(_REGISTRY[name].module)
+    return mod.render(list(reports), options)

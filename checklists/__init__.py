@@ -1,0 +1,1 @@
+"""Built-in checklists (YAML), installed as the package ``checker.checklists``."""
