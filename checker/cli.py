@@ -76,6 +76,10 @@ def build_parser() -> argparse.ArgumentParser:
     o.add_argument("-o", "--output", metavar="PATH")
     _limits_options(o)
 
+    from . import evaluate_cmd
+
+    evaluate_cmd.add_parser(sub)
+
     k = sub.add_parser("checklists", help="list, show and validate checklists")
     ksub = k.add_subparsers(dest="action", metavar="ACTION")
     ksub.add_parser("list", help="the built-in checklists")
@@ -208,6 +212,10 @@ def main(argv: Sequence[str] | None = None) -> int:
             return int(cmd_check(args))
         if args.command == "outline":
             return int(cmd_outline(args))
+        if args.command == "evaluate":
+            from . import evaluate_cmd
+
+            return int(evaluate_cmd.run(args))
         return int(cmd_checklists(args))
     except StudygapError as exc:
         print(exc.line(), file=sys.stderr)

@@ -14,7 +14,7 @@ import regex
 
 __all__ = [
     "NUMBER", "DECIMAL", "UNIT", "PERCENT", "MACROS", "expand_macros", "parse_number", "Quantity",
-    "parse_value", "Fact", "extract_facts",
+    "parse_value", "Fact", "extract_facts", "KINDS",
 ]
 
 # ---------------------------------------------------------------------------------------------------------------
@@ -22,7 +22,8 @@ __all__ = [
 # correct whether or not the pattern is compiled case-insensitively (case matters for "m" vs "M", "ms" vs "MS").
 
 _SP = r"[ \t\u00A0\u2009\u202F]"  # a space inside a number or between a number and its unit (thin spaces too)
-_DIGITS = rf"(?:\d{{1,3}}(?:,\d{{3}})+|\d{{1,3}}(?:{_SP}\d{{3}})+|\d+)"
+# a space groups thousands only in a short run: "12 000" is one number, "128 256 512" in a table are three
+_DIGITS = rf"(?:\d{{1,3}}(?:,\d{{3}})+|\d{{1,3}}(?:{_SP}\d{{3}}){{1,3}}(?!{_SP}?\d)|\d+)"
 
 _ONES = ["zero", "one", "two", "three", "four", "five", "six", "seven", "eight", "nine", "ten", "eleven", "twelve",
          "thirteen", "fourteen", "fifteen", "sixteen", "seventeen", "eighteen", "nineteen"]
@@ -52,7 +53,7 @@ NUMBER = rf"(?i:(?<![\d.,])(?:{_DSCALE}|{_KFORM}|{_DIGITS})(?![.,]?\d)|{_WORDS})
 #: a number with an optional decimal part and sign (also the unicode minus): "2", "-0.5", "−3", "1,000.25", ".5"
 DECIMAL = rf"(?:(?:(?<![\w.,])[-+\u2212]{_SP}?)?(?<![\d.,])(?:{_DIGITS}(?:\.\d+)?|\.\d+)(?![.,]?\d))"
 
-_END = r"(?![\p{L}\p{N}_])"
+_END = r"(?![\p{L}\p{N}_]|/\p{L})"  # "mm" but not "mmHg" or the "cm" of a speed "cm/s"
 #: a length or size unit: mm, cm, m, µm/um, nm, px, pixel(s), voxel(s), mm³, degrees, s, ms (spelled out too)
 UNIT = (
     rf"(?:(?-i:mm|cm|dm|km|nm|µm|μm|um|m)(?:\^?[23]|[²³])?{_END}"
@@ -82,6 +83,11 @@ def _c(src: str) -> regex.Pattern:
     return regex.compile(src, _FLAGS)
 
 
+def _back(src: str) -> regex.Pattern:
+    """A pattern anchored at the end of a look-back window, searched from the end (far faster than forwards)."""
+    return regex.compile(src, _FLAGS | regex.REVERSE)
+
+
 # ---------------------------------------------------------------------------------------------------------------
 # Numbers
 
@@ -90,6 +96,12 @@ _DIGITS_FULL = _c(rf"[-+]?(?:{_DIGITS}(?:\.\d+)?|\.\d+)")
 _SCALED_FULL = _c(rf"([-+]?{_DIGITS}(?:\.\d+)?){_SP}*(k|thousand|million|billion)")
 _WORDS_FULL = _c(_WORDS)
 _SYMBOL_PREFIX = _c(r"(?:[a-z]{1,2}|[\p{Greek}])(?:_\{?\w+\}?)?\s*[=:≈]\s*")
+_GROUPING = regex.compile(r"[,\s\u00A0\u2009\u202F]")
+_LETTERS = regex.compile(r"[a-z]+")
+_VALUE_START = regex.compile(r"[-+\d.]|\p{L}")
+_POWER_END = regex.compile(r"\^?([23²³])$")
+_LENGTH_POWER = regex.compile(r"(?:mm|cm|dm|km|nm|µm|μm|um|m)\^?[23²³]$")
+_SPLIT_NAME = regex.compile(r"split|ratio|proportion|partition|fraction", regex.IGNORECASE)
 _SCALE = {"k": 1000, "thousand": 1000, "million": 10**6, "billion": 10**9}
 
 
@@ -107,14 +119,14 @@ def _digits_value(t: str) -> int | float | None:
     if not _DIGITS_FULL.fullmatch(t):
         return None
     try:
-        d = Decimal(regex.sub(r"[,\s\u00A0\u2009\u202F]", "", t))
+        d = Decimal(_GROUPING.sub("", t))
     except InvalidOperation:  # pragma: no cover - the regex only lets digits through
         return None
     return _to_number(d, "." in t)
 
 
 def _words_value(t: str) -> int | None:
-    words = [w for w in regex.findall(r"[a-z]+", t.lower()) if w != "and"]
+    words = [w for w in _LETTERS.findall(t.lower()) if w != "and"]
     if words == ["a", "single"]:
         return 1
     total = current = 0
@@ -142,14 +154,14 @@ def parse_number(text: str) -> int | float | None:
     if not t:
         return None
     m = _SYMBOL_PREFIX.match(t)
-    if m and m.end() < len(t) and regex.match(r"[-+\d.]|\p{L}", t[m.end():]) and not _WORDS_FULL.fullmatch(t):
+    if m and m.end() < len(t) and _VALUE_START.match(t, m.end()) and not _WORDS_FULL.fullmatch(t):
         t = t[m.end():]
     v = _digits_value(t)
     if v is not None:
         return v
     m = _SCALED_FULL.fullmatch(t)
     if m:
-        d = Decimal(regex.sub(r"[,\s\u00A0\u2009\u202F]", "", m.group(1))) * _SCALE[m.group(2).lower()]
+        d = Decimal(_GROUPING.sub("", m.group(1))) * _SCALE[m.group(2).lower()]
         return _to_number(d, False)
     if _WORDS_FULL.fullmatch(t):
         return _words_value(t)
@@ -174,13 +186,11 @@ def _unit(raw: str) -> str:
     """The one spelling studygap uses for a unit: "millimetres" -> "mm", "pixels" -> "px", "um^3" -> "µm³"."""
     r = raw.strip()
     power = ""
-    m = regex.search(r"\^?([23²³])$", r)
-    if m and regex.match(r"(?:mm|cm|dm|km|nm|µm|μm|um|m)\^?[23²³]$", r):
+    m = _POWER_END.search(r)
+    if m and _LENGTH_POWER.match(r):
         power, r = _POWER[m.group(1)], r[: m.start()]
     for pattern, name in _UNIT_NAME_RE:
         if pattern.fullmatch(r):
-            if name in ("m", "s", "ms") and r != r.lower() and len(r) <= 2:
-                break  # "M", "MS" are not units
             return name + power
     return r.lower() + power
 
@@ -254,7 +264,7 @@ def parse_value(name: str, text: str) -> int | float | str | Quantity | dict | l
     m = _SYMBOL_PREFIX.match(t)
     if m and m.end() < len(t) and not _WORDS_FULL.match(t):
         body = t[m.end():]
-    splitish = regex.search(r"split|ratio|proportion|partition|fraction", name, regex.IGNORECASE) is not None
+    splitish = _SPLIT_NAME.search(name) is not None
     if _SPLIT_FULL.fullmatch(body) or (splitish and _DASH_SPLIT_FULL.fullmatch(body)):
         return _split_values(body)
     m = _RANGE_FULL.fullmatch(body)
@@ -330,8 +340,8 @@ class Fact:
 
 #: things validation documents count; a head noun from here wins over words after it ("3 radiologists read")
 _KNOWN_NOUNS = frozenset("""
-image patch tile slide frame video sequence scan volume slice series study exam examination case patient subject
-participant volunteer person individual child adult man woman mouse rat animal cohort population sample specimen
+image patch tile slide frame video scan volume slice series study exam examination case patient subject
+participant volunteer person individual child adult man woman mouse rat animal population sample specimen
 lesion nodule tumor tumour polyp cell nucleus fracture gland organ structure tissue vessel segment landmark region roi
 label class category annotation segmentation mask contour outline box instance object tooth vertebra eye breast kidney
 liver lung heart brain mammogram radiograph x-ray ct mri pet ultrasound biopsy record report recording visit session
@@ -343,8 +353,8 @@ second reader rater annotator observer grader labeler labeller expert specialist
 resident fellow student technician technologist sonographer nurse analyst scientist researcher worker member
 organiser organizer reviewer author user operator radiologist pathologist ophthalmologist dermatologist cardiologist
 oncologist neurologist endocrinologist neuroradiologist dentist neuroscientist biologist anatomist physicist shape
-pair tooth word sentence document question item sentence page disease diagnosis condition finding abnormality
-pathology type view projection modality sequence protocol vendor frame point pixel voxel mesh graph node edge
+pair word sentence document question item page disease diagnosis condition finding abnormality
+pathology type view projection modality sequence protocol point pixel voxel mesh graph node edge
 value gpu cpu core paper computer container folder server filter marker cluster chapter encoder decoder
 """.split())
 _PERSON_SUFFIX = regex.compile(r"(?:ologist|ician|iatrist|ographer|ist)$")
@@ -375,8 +385,15 @@ def _singular(word: str) -> str:
     return w
 
 
+#: words ending in s that are not plurals
+_SINGULAR_S = frozenset("atlas bias gas canvas alias pancreas thorax lens news physics diabetes means chaos "
+                        "this its thus perhaps whereas always sometimes".split())
+
+
 def _plural_looking(word: str) -> bool:
     w = word.lower()
+    if w in _SINGULAR_S:
+        return False
     return w in _IRREGULAR or (w.endswith("s") and not w.endswith(("ss", "us", "is")) and len(w) > 2)
 
 
@@ -403,6 +420,7 @@ _BAD_HEAD = frozenset("different separate additional main major minor independen
 
 _WORD_TOKEN = regex.compile(r"(?:\p{L}[\p{L}\p{N}]*|\p{N}+\p{L}[\p{L}\p{N}]*)(?:[-'’/][\p{L}\p{N}]+)*")
 _ABBREV = regex.compile(r"\(\p{Lu}[\p{L}\p{N}\-]{0,9}\)")
+_RATE = regex.compile(r"(?:mm|cm|m|µm|μm|um|nm|km|px|pixels?|voxels?|deg|degrees?|ml|l|g|kg|mg)/\w{1,4}")
 _SPACES = regex.compile(r"[ \t\u00A0\u2009\u202F]+|\s+")
 
 
@@ -430,6 +448,8 @@ def _noun_after(text: str, pos: int, value: float | int | None = None) -> tuple[
             break
         w = m.group()
         lw = w.lower()
+        if "/" in lw and _RATE.fullmatch(lw):
+            break  # a rate such as "cm/s", not a thing counted
         if lw in _STOP:
             # "left and right adrenal glands": a coordination of modifiers, not of counted things
             if lw in ("and", "or") and words and not any(_known(_singular(x)) for x, _, _ in words) \
@@ -447,9 +467,11 @@ def _noun_after(text: str, pos: int, value: float | int | None = None) -> tuple[
             break
     if not words:
         return None
-    for k, (w, _s, e) in enumerate(words[:-1]):
-        # "three experts segment a neuron": a plural count noun followed by a singular word ends the phrase
-        if _plural_looking(w) and _known(_singular(w)) and not _plural_looking(words[k + 1][0]):
+    for k, (w, _s, e) in enumerate(words):
+        # the first plural heads the phrase: what follows it is a verb ("three experts segment a neuron", "the
+        # three comparators agrees"), since compounds put their plural last ("image patches", "disease labels");
+        # a vendor name before a plural is a modifier ("two Philips scanners")
+        if _plural_looking(w) and not (w[:1].isupper() and k + 1 < len(words) and _plural_looking(words[k + 1][0])):
             return _singular(w), e
     for w, _s, e in reversed(words):
         lem = _singular(w)
@@ -457,7 +479,7 @@ def _noun_after(text: str, pos: int, value: float | int | None = None) -> tuple[
             return lem, e
     w, _s, e = words[-1]
     lw = w.lower()
-    if lw in _BAD_HEAD or lw.endswith(("ing", "ly")) or lw.endswith("ed"):
+    if lw in _BAD_HEAD or lw.endswith(("ing", "ly", "ed")):
         return None
     if value != 1 and not _plural_looking(w):
         return None
@@ -471,7 +493,7 @@ def _noun_after(text: str, pos: int, value: float | int | None = None) -> tuple[
 _LABELS = (
     r"fig|figs|figure|figures|table|tables|tab|tabs|eq|eqs|equation|equations|section|sections|sec|secs|§|chapter|"
     r"chapters|chap|appendix|appendices|app|algorithm|alg|line|lines|page|pages|p|pp|step|steps|theorem|lemma|"
-    r"corollary|proposition|definition|example|note|ref|refs|reference|references|no|nr|number|item|task|tasks|"
+    r"corollary|proposition|definition|ref|refs|reference|references|no|nr|number|item|task|tasks|"
     r"track|phase|round|stage|grade|level|levels|class|category|type|group|arm|experiment|exp|setting|scenario|"
     r"version|ver|v|release|rev|revision|patient|case|subject|participant|slice|layer|epoch|iteration|visit|"
     r"session|run|trial|site|centre|center|hospital|scanner|dataset|part|unit|module|block|panel|row|column|col|"
@@ -479,29 +501,30 @@ _LABELS = (
     r"numpy|itk|slicer|isbi|miccai|bi-rads|pi-rads|birads|pirads|gleason|isup|grade|tnm|icd|model|option|question|"
     r"rule|criterion|day|week|month|year"
 )
-_LABEL_BEFORE = _c(rf"(?:^|[^\p{{L}}\p{{N}}])(?:{_LABELS})\.?\s*\(?\s*(?:\d+\s*(?:,|and|&|or|[-–])\s*)*$")
+_LABEL_BEFORE = _back(rf"(?:^|[^\p{{L}}\p{{N}}])(?:{_LABELS})\.?\s*\(?\s*(?:\d+\s*(?:,|and|&|or|[-–])\s*)*$")
 _MONTH = r"(?-i:Jan|Feb|Mar|Apr|May|Jun|Jul|Aug|Sep|Sept|Oct|Nov|Dec)(?-i:[a-z]*)\.?"
-_MONTH_BEFORE = _c(rf"(?:^|\W){_MONTH}\s*$")
-_MONTH_AFTER = _c(rf"^,?\s*{_MONTH}(?:\W|$)")
-_PVALUE_BEFORE = _c(r"(?:^|[^\p{L}])(?:p(?:[-\s]?values?)?|α|alpha)\s*(?:[<>=≤≥]|of|was|is|were)\s*$")
-_GLUED_BEFORE = _c(r"(?:[\p{L}\p{N}_^]|\p{L}[-_‐]|[$€£¥#§@±×]\s*|\d\s*[×x*]\s*|\d\s*[/:]|\d\s?[-–−]\s?)$")
-_GLUED_AFTER = _c(r"^(?:[\p{L}\p{N}_]|[-‐‑]\p{L}|\s*[×x*]\s*\d|\s*±|[/:]\d|\s?[-–−]\s?\d|\+|'s\b|’s\b)")
-_CITATION = _c(r"\[[\d\s,;–\-]*$")
-_CITATION_END = _c(r"^[\d\s,;–\-]*\]")
-_YEAR_WORDS = _c(r"(?:^|\W)(?:in|since|from|until|till|to|by|during|between|of|year|years|early|late|mid|and|"
+_MONTH_BEFORE = _back(rf"(?:^|\W){_MONTH}\s*$")
+_MONTH_AFTER = _c(rf",?\s*{_MONTH}(?:\W|$)")
+_PVALUE_BEFORE = _back(r"(?:^|[^\p{L}])(?:p(?:[-\s]?values?)?|α|alpha)\s*(?:[<>=≤≥]|of|was|is|were)\s*$")
+_GLUED_BEFORE = _back(r"(?:[\p{L}\p{N}_^]|\p{L}[-_‐]|[$€£¥#§±×]\s*|\d\s*[×x*]\s*|\d\s*[/:]"
+                      r"|\d\s?[-–−]\s?)$")
+_GLUED_AFTER = _c(r"(?:[\p{L}\p{N}_]|[-‐‑]\p{L}|\s*[×x*]\s*\d|\s*±|[/:]\d|\s?[-–−]\s?\d|\+|'s\b|’s\b)")
+_CITATION = _back(r"\[[\d\s,;–\-]*$")
+_CITATION_END = _c(r"[\d\s,;–\-]*\]")
+_YEAR_WORDS = _back(r"(?:^|\W)(?:in|since|from|until|till|to|by|during|between|of|year|years|early|late|mid|and|"
                  r"before|after|around|circa|c\.)\s*$")
 
 
 def _blocked(text: str, s: int, e: int, *, after: bool = True) -> bool:
     """Whether the number at text[s:e] is part of something else: a name, a reference, a date, a dimension."""
-    before = text[max(0, s - 40):s]
-    if _GLUED_BEFORE.search(before) or _LABEL_BEFORE.search(before) or _PVALUE_BEFORE.search(before):
+    lo = max(0, s - 40)
+    if _GLUED_BEFORE.search(text, lo, s) or _LABEL_BEFORE.search(text, lo, s) or _PVALUE_BEFORE.search(text, lo, s):
         return True
-    if _MONTH_BEFORE.search(before) or _MONTH_AFTER.search(text[e:e + 20]):
+    if _MONTH_BEFORE.search(text, lo, s) or _MONTH_AFTER.match(text, e, e + 20):
         return True
-    if _CITATION.search(text[max(0, s - 30):s]) and _CITATION_END.match(text[e:e + 30]):
+    if _CITATION.search(text, max(0, s - 30), s) and _CITATION_END.match(text, e, e + 30):
         return True
-    return bool(after and _GLUED_AFTER.match(text[e:e + 10]))
+    return bool(after and _GLUED_AFTER.match(text, e, e + 10))
 
 
 def _is_year(text: str, s: int, e: int) -> bool:
@@ -555,16 +578,21 @@ def _num(v: float | int) -> int | float:
 # percentiles ---------------------------------------------------------------------------------------------------
 _ORD = {"fifth": 5, "tenth": 10, "twentieth": 20, "twenty-fifth": 25, "fiftieth": 50, "seventy-fifth": 75,
         "ninetieth": 90, "ninety-fifth": 95, "ninety-ninth": 99, "ninety-eighth": 98, "ninety-seventh": 97,
-        "eightieth": 80, "first": 1, "fifth-": 5}
+        "eightieth": 80}
 _PCTL = [
-    _c(rf"(?<![\w.,])(?P<p>\d{{1,3}}(?:\.\d+)?)(?:{_SP}?(?:th|st|nd|rd))?(?:{_SP}|[-\u2010\u2011])?c?e?n?(?:percentile|centile)s?\b"),
-    _c(rf"(?<![\w.,])(?P<p>\d{{1,3}}(?:\.\d+)?){_SP}?%{_SP}?(?:[-\u2010\u2011]{_SP}?)?(?:percentile|quantile|(?-i:HD)\b|hausdorff)"),
+    _c(rf"(?<![\w.,])(?P<p>\d{{1,3}}(?:\.\d+)?)(?:{_SP}?(?:th|st|nd|rd))?(?:{_SP}|[-\u2010\u2011])?"
+       rf"(?:percentile|centile)s?\b"),
+    _c(rf"(?<![\w.,])(?P<p>\d{{1,3}}(?:\.\d+)?){_SP}?%{_SP}?(?:[-\u2010\u2011]{_SP}?)?"
+       rf"(?:percentile|quantile|(?-i:HD)\b|hausdorff)"),
     _c(rf"\b(?-i:HD)(?:{_SP}|[_\-])?\$?_?\{{?(?P<p>\d{{2}}(?:\.\d+)?)\}}?\$?(?![\d.]?\d)(?!{_SP}?{UNIT})"),
     _c(r"(?<![\w.])(?P<p>\d{2})(?-i:HD)\b"),
     _c(rf"(?:hausdorff(?:{_SP}distance)?|\b(?-i:HD)){_SP}?\({_SP}?(?P<p>\d{{2}}(?:\.\d+)?){_SP}?%{_SP}?\)"),
     _c(rf"(?<![\w.])(?P<q>0?\.\d+){_SP}?(?:[-\u2010]{_SP}?)?quantile"),
-    _c(rf"\b(?P<w>{_alt([k for k in _ORD if not k.endswith('-')])})(?:{_SP}|-)percentile"),
+    _c(rf"\b(?P<w>{_alt(list(_ORD))})(?:{_SP}|-)percentile"),
 ]
+
+
+_HD_BEFORE = regex.compile(r"HD[\s_\-$]*_?\{?$")
 
 
 def _percentiles(text: str) -> list[_Cand]:
@@ -580,9 +608,10 @@ def _percentiles(text: str) -> list[_Cand]:
                 v = _ORD[m.group("w").lower()]
             if v is None or not 0 < v <= 100:
                 continue
-            if g != "w" and _blocked(text, m.start(g), m.end(g), after=False):
-                if g != "p" or not regex.search(r"(?-i:HD)[\s_\-$]*_?\{?$", text[:m.start(g)]):
-                    continue
+            # "HD95" is glued on purpose; any other glued or cited number is no percentile
+            hd = g == "p" and _HD_BEFORE.search(text, max(0, m.start(g) - 8), m.start(g))
+            if g != "w" and not hd and _blocked(text, m.start(g), m.end(g), after=False):
+                continue
             out.append(_cand("percentile", _num(v), m.start(), m.end(), [m.span(g)]))
     return out
 
@@ -601,6 +630,9 @@ _BOOT_PATS = [
 _BOOT_WORD = _c(r"bootstrap")
 
 
+_LETTER_OR_COMPOUND = regex.compile(r"[-‐]\p{L}|\p{L}")
+
+
 def _bootstrap(text: str) -> list[_Cand]:
     out = []
     for i, pat in enumerate(_BOOT_PATS):
@@ -609,7 +641,7 @@ def _bootstrap(text: str) -> list[_Cand]:
             v = parse_number(m.group("n"))
             if v is None or not isinstance(v, int) or v < 2 or _blocked(text, s, e, after=False):
                 continue
-            if regex.match(r"[-‐]\p{L}|\p{L}", text[e:e + 2]) and i != 0:
+            if i != 0 and _LETTER_OR_COMPOUND.match(text, e):
                 continue
             if i == 2:
                 b, a = _clause(text, m.start(), m.end(), 60, 60)
@@ -626,14 +658,18 @@ _FOLD_PATS = [
     _c(rf"(?P<n>{NUMBER})\s+(?:[\p{{L}}-]+\s+)?folds\b"),
     _c(r"(?<![\w])k\s*=\s*(?P<n>\d+)(?![.,]?\d)"),
 ]
-_FOLD_NOT = _c(r"^[\s-]*(?:[\p{L}-]+\s+)?(?:increase\w*|higher|lower|more|less|larger|smaller|greater|fewer|"
+_FOLD_NOT = _c(r"[\s-]*(?:[\p{L}-]+\s+)?(?:increase\w*|higher|lower|more|less|larger|smaller|greater|fewer|"
                r"reduc\w*|decreas\w*|improv\w*|faster|slower|speed-?ups?|differen\w*|changes?|rise|drop|gains?|"
                r"enrich\w*|magnif\w*|expan\w*|over-?sampl\w*|up-?sampl\w*|augment\w*|enlarg\w*|boost\w*|"
                r"excess|elevat\w*|accelerat\w*|upregulat\w*|downregulat\w*|symmetr\w*|axis|coverage)\b")
-_FOLD_CTX_AFTER = _c(r"^[\s-]*(?:[\p{L}-]+\s+){0,2}?(?:cross|cv\b|validat\w*|splits?\b|partition\w*|stratif\w*|"
+_FOLD_CTX_AFTER = _c(r"[\s-]*(?:[\p{L}-]+\s+){0,2}?(?:cross|cv\b|validat\w*|splits?\b|partition\w*|stratif\w*|"
                      r"nested|scheme|setting|setup|protocol|manner|fashion|way|experiments?|training|evaluation|"
                      r"ensembles?|models?|runs?|folds?)")
 _FOLD_CTX = _c(r"cross[\s-]?validat|\bcv\b|\bfolds\b|\bk[\s-]fold")
+
+
+_FOLD_WORD = _c(r"fold|cross[\s-]?valid")
+_CV_AFTER = _c(r"(?:[\s-]+(?:stratified|nested|repeated))?[\s-]+(?:cross[\s-]?validation|cv)\b")
 
 
 def _folds(text: str) -> list[_Cand]:
@@ -648,19 +684,15 @@ def _folds(text: str) -> list[_Cand]:
             if i != 1 and _blocked(text, s, e, after=False):
                 continue
             b, a = _clause(text, m.start(), m.end(), 120, 80)
-            if i in (0, 1):
+            cv = _CV_AFTER.match(text, m.end()) if i in (0, 1) else None
+            if i in (0, 1) and not cv:  # "a two-fold increase" is no cross-validation
                 if _FOLD_NOT.match(a):
                     continue
                 if not (_FOLD_CTX_AFTER.match(a) or _FOLD_CTX.search(b) or _FOLD_CTX.search(a)):
                     continue
-            if i == 3 and not regex.search(r"fold|cross[\s-]?valid", b + " " + a, regex.IGNORECASE):
+            if i == 3 and not (_FOLD_WORD.search(b) or _FOLD_WORD.search(a)):
                 continue
-            end = m.end()
-            if i in (0, 1):  # take "cross-validation" into the quoted text
-                cv = regex.match(r"(?:[\s-]+(?:stratified|nested|repeated))?[\s-]+(?:cross[\s-]?validation|cv)\b",
-                                 text[end:end + 40], regex.IGNORECASE)
-                if cv:
-                    end += cv.end()
+            end = cv.end() if cv else m.end()  # "cross-validation" belongs in the quote
             out.append(_cand("folds", v, m.start(), end, [(s, e)]))
     return out
 
@@ -688,6 +720,10 @@ def _date_like(vals: list, texts: list[str]) -> bool:
     return bool(vals) and all(isinstance(v, int) and len(t) == 4 and 1800 <= v <= 2100 for v, t in zip(vals, texts))
 
 
+_NAME_AFTER = regex.compile(r"[\p{L}\p{N}]|[./]\w")
+_NAME_BEFORE = regex.compile(r"[\p{L}\p{N}_.,/]$")
+
+
 def _splits(text: str) -> list[_Cand]:
     out = []
     for pat, form in _SPLIT_PATS:
@@ -697,10 +733,9 @@ def _splits(text: str) -> list[_Cand]:
             vals = [parse_number(text[a:b]) for a, b in nums]
             if len(vals) < 2 or any(v is None or v < 0 for v in vals):
                 continue
-            if _blocked(text, nums[0][0], nums[0][1], after=False) or _GLUED_AFTER.match(text[e:e + 3]) \
-                    and not text[e:e + 1].isspace():
+            if _blocked(text, nums[0][0], nums[0][1], after=False):
                 continue
-            if regex.match(r"[\p{L}\p{N}]|[./]\w", text[e:e + 2]) or regex.search(r"[\p{L}\p{N}_.,/]$", text[max(0, s - 1):s]):
+            if _NAME_AFTER.match(text, e) or _NAME_BEFORE.search(text, max(0, s - 1), s):
                 continue  # part of a name, a path or a URL
             total = sum(vals)  # type: ignore[arg-type]
             pct = "%" in m.group("seq") or 98 <= total <= 102
@@ -736,7 +771,7 @@ _TOL_CUE = _c(r"(?:\b(?:tolerances?|tolerated|tolerating|thresholds?|thresholded
               r"borders?(?!-)|margins?(?!-)|cut-?offs?|radius|radii|nsd|surface[\s-]dice|surface[\s-]distance|"
               r"(?:maximum|max\.?|allowed|permitted|accepted|acceptable)\s+(?:allowed\s+|accepted\s+|permitted\s+)?"
               r"(?:distance|deviation|error|offset|displacement))\b|τ|@)")
-_TOL_CUE_AFTER = _c(r"^\s*(?:[\p{L}-]+\s+)?(?:tolerances?|thresholds?|margins?|boundar(?:y|ies)|cut-?offs?|radius)\b")
+_TOL_CUE_AFTER = _c(r"\s*(?:[\p{L}-]+\s+)?(?:tolerances?|thresholds?|margins?|boundar(?:y|ies)|cut-?offs?|radius)\b")
 _TOL_NOT = _c(r"\b(?:isotropic|slices?|thick\w*|spacing|resolution|resampl\w*|in-plane|sizes?|diameters?|"
               r"lengths?|dimensions?|field|fov)\b")
 _UNIT_ALONE = _c(rf"(?<![\p{{L}}\p{{N}}_])(?:{UNIT})|(?<=\d)(?:{UNIT})")
@@ -754,23 +789,29 @@ def _quantities(text: str):
         n = parse_number(v.group("v"))
         if n is not None:
             yield v.start("v"), v.end("v"), v.start(), u.end(), Quantity(n, _unit(u.group()))
-_TOL_UNITLESS = _c(rf"(?:\btolerances?|τ|\btau\b)\s*(?:values?\s*)?(?:of|=|:|was|is|set\s+to|at)?\s*"
+
+
+_TOL_UNITLESS = _c(rf"(?:\btolerances?|τ|\btau\b)\s*(?:values?\s*)?"
+                   rf"(?:(?:of|=|:|was|were|is|set|to|at|equal|equals)\s*){{0,3}}"
                    rf"(?P<v>{DECIMAL})(?!{_SP}?[-\u2010]?(?:{UNIT}|%))(?![.,]?\d)")
 _LIST_BEFORE = _c(rf"(?:(?P<x>{DECIMAL})(?:{_SP}?(?:{UNIT}))?\s*(?:,\s*(?:and|or)?|\s+(?:and|or))\s*)+$")
 _WORD_RE = _c(r"[\p{L}τ@][\p{L}\-']*|[τ@]")
 
 
-_RANGE_TOP_BEFORE = _c(r"(?:\d\s?[-–−]\s?|\d\s+to\s+|\bbetween\s+\S+\s+and\s+)$")
+_SYMMETRIC_BEFORE = _back(r"(?<![\d.]\s?)±\s?$")
+_RANGE_TOP_BEFORE = _back(r"(?:\d\s?[-–−]\s?|\d\s+to\s+|\bbetween\s+\S+\s+and\s+)$")
 _SIZE_AFTER = _c(rf"{_SP}?[×x*]{_SP}?\d")
-_SIZE_BEFORE = _c(r"[×x*]\s*$")
+_SIZE_BEFORE = _back(r"[×x*]\s*$")
 _LIST_ITEM = _c(rf"(?P<x>{DECIMAL})(?:{_SP}?(?P<u>{UNIT}))?")
 
 
 def _tolerances(text: str) -> list[_Cand]:
     out = []
     for s, e, qs, qe, q in _quantities(text):
-        if q.unit == "%" or _blocked(text, s, e, after=False):
+        if q.unit == "%":
             continue
+        if _blocked(text, s, e, after=False) and not _SYMMETRIC_BEFORE.search(text, max(0, s - 3), s):
+            continue  # "±2 mm" stays a tolerance; "3×2 mm" and "ResNet-50 mm" do not
         if _RANGE_TOP_BEFORE.search(text, max(0, s - 30), s):
             continue  # the top of a range "3-5 mm"
         if _SIZE_AFTER.match(text, qe) or _SIZE_BEFORE.search(text, max(0, s - 3), s):
@@ -806,7 +847,7 @@ def _tolerances(text: str) -> list[_Cand]:
     for m in _TOL_UNITLESS.finditer(text):
         s, e = m.span("v")
         v = parse_number(m.group("v"))
-        if v is None or _blocked(text, s, e, after=False) or regex.match(r"\p{L}", text[e:e + 1]):
+        if v is None or _blocked(text, s, e, after=False) or _LETTER.match(text, e):
             continue
         out.append(_cand("tolerance", v, m.start(), m.end(), [(s, e)]))
     return out
@@ -820,14 +861,14 @@ _RANGE_DASH_HINT = _c(rf"\d(?:{_SP}?\S{{1,3}})?{_SP}?[{_DASHES}]{_SP}?[-+\u2212]
 _RANGE_SEP = _c(r"\s+(?P<sep>to|or|and|&)\s+")
 _LEFT_VALUE = _c(rf"(?P<lo>{_VAL})(?P<lou>{_RU})?$")
 _RIGHT_VALUE = _c(rf"(?P<hi>{_VAL})(?P<u>{_RU})?")
-_BETWEEN_BEFORE = _c(r"\bbetween\s+$")
-_CHANGE_BEFORE = _c(r"\b(?:increas\w*|improv\w*|decreas\w*|reduc\w*|ris\w*|rose|fell|fall\w*|drop\w*|chang\w*|"
+_BETWEEN_BEFORE = _back(r"\bbetween\s+$")
+_CHANGE_BEFORE = _back(r"\b(?:increas\w*|improv\w*|decreas\w*|reduc\w*|ris\w*|rose|fell|fall\w*|drop\w*|chang\w*|"
                     r"grew|grow\w*|went|boost\w*|rais\w*|declin\w*|jump\w*|climb\w*|ratio|compared)\b[^.;]*$")
-_UP_BEFORE = _c(r"\bup\s*$")
-_CITED_PAGES_BEFORE = _c(r"\d\s*(?:\(\d+\))?\s*,\s*$")
-_CITED_PAGES_AFTER = _c(r"^\s*(?:\(\s*(?:1[89]|20)\d\d\s*\)|[,.]\s*doi\b)")
+_UP_BEFORE = _back(r"\bup\s*$")
+_CITED_PAGES_BEFORE = _back(r"\d\s*(?:\(\d+\))?\s*,\s*$")
+_CITED_PAGES_AFTER = _c(r"\s*(?:\(\s*(?:1[89]|20)\d\d\s*\)|[,.]\s*doi\b)")
 _RANGE_TAIL_BAD = _c(r"[\p{L}\p{N}]|[-/:]\d|[.,]\d|\s*±")
-_DATE_BEFORE = _c(r"\d[-/:.]$|[\d)]\s*:\s*$")
+_DATE_BEFORE = _back(r"\d[-/:.]$|[\d)]\s*:\s*$")
 
 
 def _range_groups(text: str):
@@ -898,11 +939,11 @@ def _ranges(text: str) -> list[_Cand]:
 
 # percentages ---------------------------------------------------------------------------------------------------
 _PCT_PAT = _c(rf"(?P<v>{_VAL}){_SP}?(?:%|(?:per{_SP}?cent|percent|pct)\b)")
-_PCT_NOT_AFTER = _c(r"^[\s-]*(?:ci\b|c\.i\.|confidence|credible|prediction|tolerance\s+interval|uncertainty\s+interval|"
+_PCT_NOT_AFTER = _c(r"[\s-]*(?:ci\b|c\.i\.|confidence|credible|prediction|tolerance\s+interval|uncertainty\s+interval|"
                     r"bootstrap\w*\s+(?:confidence|interval|ci))")
 
 
-_LAYOUT_BEFORE = _c(r"\b(?:width|height|max-width|min-width|size|scale|zoom|opacity)\s*[=:]\s*[\"']?$")
+_LAYOUT_BEFORE = _back(r"\b(?:width|height|max-width|min-width|size|scale|zoom|opacity)\s*[=:]\s*[\"']?$")
 
 
 def _percentages(text: str) -> list[_Cand]:
@@ -920,10 +961,14 @@ def _percentages(text: str) -> list[_Cand]:
 
 # n = and counts ------------------------------------------------------------------------------------------------
 _N_PAT = _c(rf"(?<![\w])n\s*=\s*(?P<n>{NUMBER})")
-_NOUN_BEFORE_N = _c(r"(?P<w>\p{L}[\p{L}\-]*)\s*\(\s*$")
+_NOUN_BEFORE_N = _back(r"(?P<w>\p{L}[\p{L}\-]*)\s*\(\s*$")
 _COUNT_PAT = _c(NUMBER)
-_UNIT_AFTER = _c(rf"^(?:{_SP}?[-\u2010]?(?:{UNIT})|{_SP}?%|{_SP}?(?:per{_SP}?cent|percent)\b)")
-_AND_BETWEEN = _c(r"^\s*(?:,\s*(?:and\s+)?|,?\s+and\s+|\s*&\s*)$")
+_UNIT_AFTER = _c(rf"(?:{_SP}?[-\u2010]?(?:{UNIT})|{_SP}?%|{_SP}?(?:per{_SP}?cent|percent)\b)")
+_AND_BETWEEN = _c(r"\s*(?:,\s*(?:and\s+)?|,?\s+and\s+|\s*&\s*)$")
+
+
+_LETTER = regex.compile(r"\p{L}")
+_HEADING_AFTER = regex.compile(r"[.)]\s|\s+\p{Lu}\p{Ll}")
 
 
 def _n_facts(text: str) -> list[_Cand]:
@@ -956,7 +1001,7 @@ def _counts(text: str) -> list[_Cand]:
             continue
         if _blocked(text, s, e) or _UNIT_AFTER.match(text[e:e + 12]):
             continue
-        if t[0].isdigit() and not text[:s].strip() and regex.match(r"^(?:[.)]\s|\s+\p{Lu}\p{Ll})", text[e:e + 3]):
+        if t[0].isdigit() and not text[:s].strip() and _HEADING_AFTER.match(text, e):
             continue  # a list marker or a section number: "2 Methods", "1. Three readers"
         noun = _noun_after(text, e, v)
         if _is_year(text, s, e):
@@ -982,7 +1027,7 @@ def _counts(text: str) -> list[_Cand]:
 _DETECTORS = (_percentiles, _bootstrap, _folds, _splits, _tolerances, _ranges, _percentages, _n_facts, _counts)
 
 
-_ANY_NUMBER = _c(rf"\d|\b(?:{_alt(_ONES + _TENS)}|hundred|thousand|million|dozen|single)\b")
+_ANY_NUMBER = _c(rf"\d|\b(?:{_alt(_ONES + _TENS)}|hundred|thousand|million|dozen|single)\b|fold\b|percentile")
 _ANY_PERCENT = _c(r"%|per\s?cent|pct")
 
 

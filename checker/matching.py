@@ -127,7 +127,7 @@ class CompiledChecklist:
         self._compiled = [(k, regex.compile(expand_macros(src), flags), src) for k, src in self._regex_sources]
         self.regexes = self._compiled
         # a regex can only match where its literal words occur: sentences without them are skipped
-        self._prefilter = {k: _required_words(src) for k, _, src in self._compiled}
+        self._prefilter = [_required_words(src) for _, _, src in self._compiled]
         self._matchers = [m for m in (self.lemma_matcher, self.lower_matcher, self.token_matcher) if len(m)]
 
     _regex_sources: list[tuple[str, str]]
@@ -194,8 +194,7 @@ class CompiledChecklist:
         import regex
 
         lowered = [s.text.lower() for s in sentences]
-        for k, rx, src in self._compiled:
-            need = self._prefilter[k]
+        for (k, rx, src), need in zip(self._compiled, self._prefilter):
             started = time.monotonic()
             for si, s in enumerate(sentences):
                 if need and not any(w in lowered[si] for w in need):

@@ -79,6 +79,8 @@ def _scientific_sentences(doc: "Doc") -> "Doc":
     i = 0
     while i < n:
         if _is_final(doc, i):
+            if i > 0:
+                doc[i].is_sent_start = False
             j = i + 1
             while j < n and (doc[j].text in _FINAL or doc[j].text in _CLOSERS):
                 j += 1

@@ -73,12 +73,15 @@ def heading_role(text: str) -> str | None:
     best = process.extractOne(t, _CHOICES, scorer=fuzz.ratio, score_cutoff=88)
     if best is not None:
         return _VARIANTS[best[2]][1]
-    # "Evaluation metrics and ranking", "Datasets used in this study": the first words decide
+    # "Evaluation metrics and ranking", "Datasets used in this study": the first words decide,
+    # ... or the last ones: "Reference annotation", "Ground-truth labelling"
     words = t.split()
-    for n in (3, 2, 1):
+    for n, part in ((3, "head"), (2, "head"), (1, "head"), (2, "tail"), (1, "tail")):
         if len(words) > n:
-            best = process.extractOne(" ".join(words[:n]), _CHOICES, scorer=fuzz.ratio, score_cutoff=92)
-            if best is not None:
+            text = " ".join(words[:n] if part == "head" else words[-n:])
+            best = process.extractOne(text, _CHOICES, scorer=fuzz.ratio, score_cutoff=92)
+            # "Reference annotation" is not the reference list: that role needs the whole heading
+            if best is not None and _VARIANTS[best[2]][1] != "references":
                 return _VARIANTS[best[2]][1]
     return None
 

@@ -105,3 +105,14 @@ def test_json_is_byte_identical_on_rerun():
     a = json.dumps(check_text(text, MINI).to_dict(), ensure_ascii=False)
     b = json.dumps(check_text(text, MINI).to_dict(), ensure_ascii=False)
     assert a == b
+
+
+def test_every_regex_of_a_facet_is_searched(tmp_path):
+    # two regexes on one facet, each with its own literal word: both must be searched
+    text = (DATA / "checklists" / "mini.yaml").read_text().replace(
+        "regex: ['(?P<bootstrap_samples>{NUMBER})\\s+bootstrap']",
+        "regex: ['(?P<bootstrap_samples>{NUMBER})\\s+bootstrap', 'wilcoxon\\s+signed']")
+    path = tmp_path / "two.yaml"
+    path.write_text(text)
+    r = check_text("We compared the methods with 1,000 bootstrap samples.", str(path))
+    assert next(i for i in r.items if i.id == "ranking.uncertainty").status == "reported"

@@ -162,9 +162,10 @@ def _write(folder: Path, files: dict[str, str]) -> None:
         (folder / name).write_text(textwrap.dedent(text), encoding="utf-8")
 
 
-@pytest.fixture()
-def labelled(tmp_path: Path) -> Path:
+@pytest.fixture(scope="module")
+def labelled(tmp_path_factory) -> Path:
     """A study folder: docs/ with three invented Markdown documents and one unreadable DOCX, labels/ beside it."""
+    tmp_path = tmp_path_factory.mktemp("study")
     _write(tmp_path / "docs", DOCS)
     (tmp_path / "docs" / "delta.docx").write_text("this is not a Word file\n", encoding="utf-8")
     _write(tmp_path / "labels", LABELS)
@@ -175,7 +176,7 @@ def labelled(tmp_path: Path) -> Path:
 # ---------------------------------------------------------------------------------------------------- end to end
 
 
-@pytest.fixture()
+@pytest.fixture(scope="module")
 def evaluation(labelled: Path):
     labels = load_labels(labelled / "labels")
     return evaluate(labels, resamples=200, seed=0, source="labels")
@@ -319,6 +320,16 @@ def test_command_writes_json_atomically_and_exits_3_when_a_document_failed(label
     assert data["bootstrap"]["seed"] == 2
     assert "delta.docx" in capsys.readouterr().err
     assert not list(labelled.glob(".result.json.*"))  # no temporary file left behind
+
+
+def test_studygap_command_line_runs_evaluate(labelled, capsys):
+    from checker.cli import main
+
+    assert main(["evaluate", str(labelled / "labels"), "--resamples", "50", "--no-color"]) == 3
+    captured = capsys.readouterr()
+    out = " ".join(captured.out.split())
+    assert "Disagreements (3)" in out and "studygap is a triage aid" in out
+    assert "delta.docx" in captured.err
 
 
 def test_command_bad_labels_exit_2_with_one_clear_line(tmp_path, capsys):

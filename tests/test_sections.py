@@ -24,6 +24,8 @@ from checker.sections import assign_sections, heading_role
         ("Refrences", "references"),  # a misspelt heading still hides the reference list
         ("Materials & methods", "methods"),
         ("A fracture detector for wrists", None),
+        ("2.2 Reference annotation", "data"),
+        ("Reference standard and annotation process", "data"),
     ],
 )
 def test_heading_roles(heading, role):

@@ -23,7 +23,7 @@ from ..errors import InputError
 from ..limits import Limits
 from . import Parsed
 from ..sections import clean_heading
-from .text import collapse, numbered_heading_level
+from .text import SUBSCRIPT, SUPERSCRIPT, collapse, numbered_heading_level
 
 FORMAT = "docx"
 SUFFIXES = (".docx",)
@@ -168,7 +168,11 @@ class _Paragraph:
     def _run(self, r: etree._Element, style_bold: bool) -> None:
         rpr = r.find(qn("w:rPr"))
         bold = style_bold
+        script = None
         if rpr is not None:
+            align = rpr.find(qn("w:vertAlign"))
+            if align is not None:
+                script = {"superscript": SUPERSCRIPT, "subscript": SUBSCRIPT}.get(align.get(qn("w:val"), ""))
             if _on(rpr.find(qn("w:vanish"))) or _on(rpr.find(qn("w:webHidden"))):
                 return  # hidden text
             rstyle = rpr.find(qn("w:rStyle"))
@@ -197,6 +201,8 @@ class _Paragraph:
             elif tag in (qn("w:drawing"), qn("w:pict"), f"{_MC}AlternateContent"):
                 self._boxes(child)
             if text:
+                if script is not None:
+                    text = text.translate(script)
                 self.parts.append(text)
                 visible = len(text.strip())
                 self.chars += visible

@@ -16,7 +16,7 @@ import lxml.html
 from ..document import Block, BlockKind, Location
 from ..limits import Limits
 from . import Parsed
-from .text import LineText, decode_bytes, sniff_text_like
+from .text import SUBSCRIPT, SUPERSCRIPT, LineText, decode_bytes, sniff_text_like
 
 FORMAT = "html"
 SUFFIXES = (".html", ".htm", ".xhtml")
@@ -135,21 +135,25 @@ class _HtmlBlocks:
         if text:
             b.add(text, line)
 
-    def inline(self, el: etree._Element, b: LineText, links: bool = True) -> None:
+    def inline(self, el: etree._Element, b: LineText, links: bool = True, script: dict | None = None) -> None:
         """Everything inside ``el`` as running text (block children are flattened with spaces)."""
         tag = el.tag.lower()
         if tag == "br":
             b.space(line_break=True)
             return
+        if tag in ("sup", "sub"):
+            script = SUPERSCRIPT if tag == "sup" else SUBSCRIPT
         block = tag in _BLOCK
         if block:
             b.space()
         start = b.mark_position()
-        self.add(b, el.text, self.lines.text.get(el))
+        text = el.text
+        self.add(b, text.translate(script) if text and script else text, self.lines.text.get(el))
         for child in el:
             if not self.dropped(child):
-                self.inline(child, b, links)
-            self.add(b, child.tail, self.lines.tail.get(child))
+                self.inline(child, b, links, script)
+            tail = child.tail
+            self.add(b, tail.translate(script) if tail and script else tail, self.lines.tail.get(child))
         if tag == "a" and links:
             note = url_note(b.text_since(start), el.get("href"))
             if note:

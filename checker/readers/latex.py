@@ -10,6 +10,7 @@ import bisect
 import logging
 import os
 import re
+import threading
 from contextlib import contextmanager
 from dataclasses import dataclass
 from functools import lru_cache
@@ -135,6 +136,45 @@ def _to_text() -> LatexNodes2Text:
     return LatexNodes2Text(math_mode="text", keep_comments=False, strict_latex_spaces=False)
 
 
+class _TooTangled(Exception):
+    """pylatexenc read the same text over and over; raised from inside it to stop it."""
+
+
+class _Budget(threading.local):
+    remaining = -1  # tokens pylatexenc may still read; negative: no budget set
+
+
+_BUDGET = _Budget()
+
+
+@contextmanager
+def _budget(n: int) -> Iterator[None]:
+    saved = _BUDGET.remaining
+    _BUDGET.remaining = n
+    try:
+        yield
+    finally:
+        _BUDGET.remaining = saved
+
+
+class _Walker(latexwalker.LatexWalker):
+    """pylatexenc's walker, counting the tokens it reads against the budget."""
+
+    def get_token(self, *args: object, **kwargs: object) -> object:
+        budget = _BUDGET
+        if budget.remaining >= 0:
+            budget.remaining -= 1
+            if budget.remaining < 0:
+                raise _TooTangled
+        return super().get_token(*args, **kwargs)
+
+
+def _strip_markup(text: str) -> str:
+    text = re.sub(r"(?<!\\)%[^\n]*", "", text)
+    text = re.sub(r"\\(?:begin|end)\{[^}]*\}|\\[A-Za-z]+\*?|\\.", " ", text)
+    return re.sub(r"[{}$&~^_]", " ", text)
+
+
 def _plain(nodes: list[object]) -> str:
     """pylatexenc's plain text for nodes, or '' where its converter trips over malformed input."""
     try:
@@ -156,8 +196,8 @@ class _ParserNotes(logging.Filter):
 
 
 @contextmanager
-def _quiet_parser() -> Iterator[_ParserNotes]:
-    logger = logging.getLogger("pylatexenc.latexwalker")
+def _quiet_parser(name: str = "pylatexenc.latexwalker") -> Iterator[_ParserNotes]:
+    logger = logging.getLogger(name)
     notes = _ParserNotes()
     level = logger.level
     logger.addFilter(notes)
@@ -249,14 +289,15 @@ class _Source:
     real: Path  # resolved
     text: str
     starts: list[int]
+    first_line: int = 1  # the file line where ``text`` starts (a piece parsed on its own)
 
     @classmethod
-    def of(cls, display: str, real: Path, text: str) -> _Source:
+    def of(cls, display: str, real: Path, text: str, first_line: int = 1) -> _Source:
         starts = [0] + [m.end() for m in re.finditer("\n", text)]
-        return cls(display, real, text, starts)
+        return cls(display, real, text, starts, first_line)
 
     def line(self, pos: int | None) -> int:
-        return bisect.bisect_right(self.starts, pos or 0)
+        return bisect.bisect_right(self.starts, pos or 0) + self.first_line - 1
 
 
 def _last_arg(node: LatexMacroNode | LatexEnvironmentNode) -> object | None:
@@ -378,15 +419,13 @@ class _LatexReader:
             self.warnings.append(f"{src.display}: line {line}: {message}")
         if len(problems) > 5:
             self.warnings.append(f"{src.display}: {len(problems) - 5} more brace problems")
-        with _quiet_parser() as notes:
-            walker = latexwalker.LatexWalker(text, latex_context=_context(), tolerant_parsing=True)
-            try:
-                nodes, _, _ = walker.get_latex_nodes()
-            except latexwalker.LatexWalkerError as exc:  # tolerant parsing should not raise; be sure anyway
-                self.warnings.append(f"{src.display}: could not be parsed ({exc}); skipped")
-                return
-        for message in notes.messages[:3]:
-            self.warnings.append(f"{src.display}: LaTeX problem read past: {_short_parser_message(message, src)}")
+        try:
+            nodes = self.parse(src)
+        except _TooTangled:
+            self.warnings.append(f"{src.display}: the LaTeX is too tangled to parse as a whole "
+                                 "(environments or groups left open?); read paragraph by paragraph")
+            self.read_by_paragraph(src)
+            return
         has_document = top and any(
             isinstance(n, LatexEnvironmentNode) and n.environmentname == "document" for n in nodes
         )
@@ -403,6 +442,36 @@ class _LatexReader:
         else:
             self.walk(nodes, src)
         self.flush()
+
+    def parse(self, src: _Source, slack: int = 3_000) -> list[object]:
+        """pylatexenc's nodes for the source, within a budget: its tolerant mode can backtrack without end."""
+        with _quiet_parser() as notes, _budget(3 * len(src.text) + slack):
+            walker = _Walker(src.text, latex_context=_context(), tolerant_parsing=True)
+            try:
+                nodes, _, _ = walker.get_latex_nodes()
+            except latexwalker.LatexWalkerError as exc:  # tolerant parsing should not raise; be sure anyway
+                self.warnings.append(f"{src.display}: line {src.first_line}: could not be parsed ({exc}); skipped")
+                return []
+        for message in notes.messages[:3]:
+            self.warnings.append(f"{src.display}: LaTeX problem read past: {_short_parser_message(message, src)}")
+        return nodes
+
+    def read_by_paragraph(self, src: _Source) -> None:
+        text = src.text
+        start = 0
+        pieces = [m.end() for m in _PARAGRAPH_BREAK.finditer(text)] + [len(text)]
+        for end in pieces:
+            piece = _Source.of(src.display, src.real, text[start:end], src.line(start))
+            try:
+                nodes = self.parse(piece, slack=300)
+            except _TooTangled:
+                self.warnings.append(f"{src.display}: line {piece.first_line}: read as plain text, markup removed")
+                nodes = []
+                self.flush()
+                self.add(_strip_markup(piece.text), 0, piece)
+            self.walk(nodes, piece)
+            self.flush()
+            start = end
 
     def define(self, node: LatexMacroNode) -> None:
         """Remember what a macro without arguments stands for (\\newcommand{\\ncases}{300})."""
@@ -438,7 +507,7 @@ class _LatexReader:
         self.flush()
         base = src.real.parent if _INCLUDES.get(name) else self.root
         candidate = base / target
-        options = [candidate] if candidate.suffix == ".tex" else [candidate.with_name(candidate.name + ".tex"), candidate]
+        options = [candidate] if candidate.suffix == ".tex" else [Path(f"{candidate}.tex"), candidate]
         found: Path | None = None
         outside = False
         for option in options:
@@ -746,5 +815,6 @@ def read(path: Path, data: bytes, limits: Limits) -> Parsed:
     text, warnings = decode_bytes(data)
     reader = _LatexReader(path, limits)
     reader.warnings.extend(warnings)
-    reader.read_main(text)
+    with _quiet_parser("pylatexenc.latex2text"):  # its complaints about odd macros are not the user's business
+        reader.read_main(text)
     return Parsed(blocks=reader.finish(), warnings=reader.warnings)

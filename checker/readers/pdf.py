@@ -332,8 +332,9 @@ def read(path: Path, data: bytes, limits: Limits) -> Parsed:
     warnings: list[str] = []
     if notes.messages:
         first = notes.messages[0] if len(notes.messages[0]) <= 120 else notes.messages[0][:117] + "..."
-        warnings.append(f"the PDF has faults that were worked around while reading it ({len(notes.messages)} "
-                        f"notes, the first: {first}); compare the quoted text with the PDF")
+        count = f"{len(notes.messages)} note{'s' if len(notes.messages) != 1 else ''}"
+        warnings.append(f"the PDF has faults that were worked around while reading it ({count}, the first: "
+                        f"{first}); compare the quoted text with the PDF")
     text_pages = [p for p in pages if p.pieces]
     undecoded = sum(p.undecoded for p in pages)
     if not text_pages:

@@ -248,6 +248,12 @@ class LineText:
         return Block(text=text, kind=kind, location=location, level=level, marks=marks)
 
 
+#: superscript and subscript digits as their own characters: "mm³" stays a unit, "experts¹²" (a citation) is
+#: no count, and neither glues into a wrong number ("mm3", "experts12")
+SUPERSCRIPT = str.maketrans("0123456789+-=()−", "⁰¹²³⁴⁵⁶⁷⁸⁹⁺⁻⁼⁽⁾⁻")
+SUBSCRIPT = str.maketrans("0123456789+-=()−", "₀₁₂₃₄₅₆₇₈₉₊₋₌₍₎₋")
+
+
 def collapse(text: str) -> str:
     return " ".join(text.translate(_INVISIBLE).split())
 

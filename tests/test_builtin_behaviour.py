@@ -1,0 +1,33 @@
+"""Built-in checklists on short invented documents: applicability and automatic choice behave as a user expects."""
+
+from __future__ import annotations
+
+from checker.engine import check_text, choose_checklist
+from checker.nlp import parse_blocks
+
+DATASHEET = """Fictional example: the Harrowgate Knee MRI Collection is an invented dataset.
+
+The collection holds 412 knee MRI examinations of 398 adult patients, acquired on two 3 T scanners at the
+fictional Harrowgate Clinic between 2018 and 2021. Files are provided as NIfTI volumes with one folder per patient.
+
+Each meniscus tear was outlined by two musculoskeletal radiologists with 8 and 15 years of experience, using
+written annotation guidelines; disagreements were resolved in a consensus meeting.
+
+The dataset is released under a CC BY 4.0 licence at version 1.2 and can be downloaded from the project page."""
+
+
+def test_a_datasheet_without_evaluation_gets_not_applicable_ranking_items():
+    report = check_text(DATASHEET, "dataset-description")
+    status = {it.id: it.status for it in report.items}
+    assert status["ranking.method"] == "not-applicable"
+    assert status["ranking.uncertainty"] == "not-applicable"
+    assert status["data.source"] == "reported"
+    assert status["reference.annotators"] == "reported"
+    annotators = dict(next(it for it in report.items if it.id == "reference.annotators").facts)
+    assert any(f.value == 2 for fs in annotators.values() for f in fs)
+
+
+def test_automatic_choice_picks_the_dataset_checklist_for_a_datasheet_and_says_why():
+    cid, why = choose_checklist(list(parse_blocks(DATASHEET.split("\n\n"))))
+    assert cid == "dataset-description"
+    assert why.startswith("dataset-description: mentions ")
