@@ -24,9 +24,16 @@ class Location:
     def section_text(self) -> str:
         return " > ".join(self.section)
 
-    def describe(self) -> str:
-        """Human words for the place: 'page 4, section 2.3 Reference annotation'."""
+    def describe(self, main: str | None = None) -> str:
+        """Human words for the place: 'page 4, section 2.3 Reference annotation'.
+
+        With ``main`` (the document's own path), a place in another file (a LaTeX part) names that file.
+        """
         parts: list[str] = []
+        if main is not None and self.file != main:
+            import os
+
+            parts.append(os.path.relpath(self.file, os.path.dirname(main) or "."))
         if self.page is not None:
             parts.append(f"page {self.page}")
         if self.table is not None:

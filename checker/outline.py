@@ -89,7 +89,13 @@ def outline(path, limits: Limits = DEFAULT_LIMITS) -> dict[str, Any]:
     }
 
 
-def _where(p: dict[str, Any]) -> str:
+def _where(p: dict[str, Any], main: str = "") -> str:
+    """'p.3 l.12', 'table 2', '¶14', 'l.40', or 'sections/data.tex l.6' for a part of a LaTeX document."""
+    if p.get("file") and main and p["file"] != main:
+        import os
+
+        rel = os.path.relpath(p["file"], os.path.dirname(main) or ".")
+        return f"{rel} " + _where({k: v for k, v in p.items() if k != "file"})
     if "page" in p:
         return f"p.{p['page']}" + (f" l.{p['line']}" if "line" in p else "")
     if "table" in p:
@@ -116,8 +122,11 @@ def render_outline(data: dict[str, Any], fmt: str = "terminal", color: bool = Fa
 
     def walk(nodes, depth):
         for n in nodes:
-            span = _where(n["start"])
-            end = _where(n["end"])
+            span = _where(n["start"], data["path"])
+            end = _where(n["end"], data["path"])
+            head, _, tail = end.rpartition(" ")
+            if head and head == span.rpartition(" ")[0] and not head.startswith("p."):
+                end = tail  # the same file: "sections/data.tex l.6–l.12"
             if end and end != span:
                 span += f"–{end}"
             role = "" if n["role"] == "body" else f"  [{n['role']}]"

@@ -203,7 +203,8 @@ def _rule(p: _Problems, node: _Node, path: str) -> Rule | None:
         names = _placeholders(message)
         allowed = DATA_FIELDS if check is None else CHECKS[check].fields if check in CHECKS else None
         if names is None:
-            p.add(fields["message"], f"{path} -> message", "unbalanced braces; write {name} for a value, {{ for a brace")
+            p.add(fields["message"], f"{path} -> message",
+                  "unbalanced braces; write {name} for a value, {{ for a brace")
         elif allowed is not None:
             for n in names:
                 if n not in allowed:
@@ -246,7 +247,8 @@ def parse_rules(text: str, file: str) -> RuleSet:
     version = ""
     if "version" in top:
         v = top["version"].value
-        version = str(v) if isinstance(v, (int, float)) and not isinstance(v, bool) else _text(p, top["version"], "version")
+        numeric = isinstance(v, (int, float)) and not isinstance(v, bool)
+        version = str(v) if numeric else _text(p, top["version"], "version")
     rules: list[Rule] = []
     if "rules" in top and _expect(p, top["rules"], "rules", list):
         seen: dict[str, int] = {}
@@ -499,9 +501,6 @@ def _order(scan: "Scan", ev: Evidence) -> tuple[int, int]:
 
 # ---------------------------------------------------------------------------------------------- statements of counts
 
-_NUM = None  # compiled lazily: the facts module builds the number syntax
-
-
 def _rx(src: str) -> regex.Pattern:
     from .facts import expand_macros
 
@@ -519,7 +518,7 @@ _SPLIT_NAMES = (
     (r"test(?:ing)?|held[- ]?out|hold[- ]?out|holdout", "test"),
 )
 _SPLIT_ALT = "|".join(f"(?:{a})" for a, _ in _SPLIT_NAMES)
-_SET = r"(?:set|split|cohort|subset|partition|data\s*set|data|sample|group|portion|fold)s?"
+_SET = r"(?:set|split|cohort|subset|partition|data\s*set|data|sample|group|portion)s?"
 
 
 def _split_of(word: str) -> str:
@@ -557,8 +556,6 @@ _METHOD_UNITS = {
     **dict.fromkeys(["team", "submission", "entry"], "team"),
 }
 
-_QUANTITY_WORDS = {"cases": "cases", "annotators": "annotators", "sites": "sites", "methods": "methods"}
-
 #: words between a number and its noun that make the count a subset, not the size of a split or the whole
 _SUBSET_WORDS = frozenset("""
 positive negative malignant benign healthy normal abnormal fractured diseased affected male female excluded
@@ -580,12 +577,18 @@ _APPROX_BEFORE = _rx(r"(?:\babout|\bapproximately|\bapprox\.?|\baround|\broughly
                      r"\bbelow|\babove|\bsome|~|≈|>|<|≥|≤|\bonly\s+about)\s*$")
 _PART_BEFORE = _rx(r"\b(?:first|last|other|remaining|additional|another|further|extra|per|every|top|best|worst|"
                    r"next|previous)\s+$")
-_PLAN = _rx(r"\b(?:we\s+plan|plan\s+to|planned\s+to|future\s+work|in\s+(?:the\s+)?future|would\s+(?:need|require|allow)|"
+_PLAN = _rx(r"\b(?:we\s+plan|plan\s+to|planned\s+to|future\s+work|in\s+(?:the\s+)?future|"
+            r"would\s+(?:need|require|allow)|"
             r"for\s+example|for\s+instance|e\.g\.|such\s+as|hypothetical|suppose|imagine)\b")
+_BY_BEFORE = _rx(r"\b(?:by|from|between|among|of)\s+(?:the\s+|all\s+|these\s+)?$")
+_ANNOTATES_AFTER = _rx(r"^\s*(?:\([^()]{0,60}\)\s*)?,?\s*(?:(?:independently|separately|manually|each|all|then|also|"
+                       r"together|jointly|blindly)\s+)?(?:annotated|annotate|segmented|segment|labell?ed|label|delineated|"
+                       r"contoured|read|graded|marked|outlined|reviewed|drew|traced|were\s+(?:trained|asked|instructed|"
+                       r"involved|recruited|blinded|employed)|performed|participated|took\s+part|provided|produced)\b")
 _STUDY_OF_READERS = _rx(r"\b(?:reader|observer)\s+(?:study|studies|performance|experiment)\b|\bMRMC\b")
 
 _SPLIT_ANCHOR_BEFORE = _rx(
-    rf"\b(?P<split>{_SPLIT_ALT})(?:[- ](?:only|phase))?\s+{_SET}"
+    rf"(?:\b(?P<qual>[\w-]+)\s+)?\b(?P<split>{_SPLIT_ALT})(?:[- ](?:only|phase))?\s+{_SET}"
     r"(?:\s*\([^()]{0,40}\))?\s*(?:,\s*)?"
     r"(?:(?:of|with|contain(?:s|ed|ing)?|compris(?:es|ed|ing)|includ(?:es|ed|ing)|consist(?:s|ed|ing)?\s+of|"
     r"(?:is|was|are|were)\s+(?:comprised|composed|made\s+up)\s+of|ha[sd]|having|:|=|\(|(?:is|was)|totall?ing|"
@@ -600,7 +603,8 @@ _SPLIT_ANCHOR_AFTER = _rx(
 _TOTAL_ANCHOR_BEFORE = _rx(
     r"(?:\ba\s+total\s+of|\bin\s+total,?|\boverall,?|\baltogether,?|\btotall?ing|"
     r"(?:\b(?P<pre>[\w-]+)\s+)?\b(?:dataset|data\s+set|cohort|study\s+population|population|database|collection|"
-    r"corpus|archive)(?:\s*\([^()]{0,40}\))?,?\s+(?:(?:of|with|compris(?:es|ed|ing)|contain(?:s|ed|ing)?|"
+    r"corpus|archive|study|sample)(?:\s+of\s+(?:the\s+)?(?:[\w-]+\s+){0,3}?(?:study|trial|project|registry))?"
+    r"(?:\s*\([^()]{0,40}\))?,?\s+(?:(?:of|with|compris(?:es|ed|ing)|contain(?:s|ed|ing)?|"
     r"includ(?:es|ed|ing)|consist(?:s|ed|ing)?\s+of|(?:is|was)\s+(?:comprised|composed|made\s+up)\s+of|ha[sd]|"
     r"totall?(?:ing|ed))\s+(?:(?:[\w-]+\s+){1,3}(?:from|of)\s+)?)(?:a\s+total\s+of\s+)?|"
     r"\bwe\s+(?:(?:retrospectively|prospectively|consecutively)\s+)?(?:included|enrolled|recruited|collected|"
@@ -647,6 +651,16 @@ _N_SITE = _rx(r"\b(?P<n>two|three|four|five|six|seven|eight|nine|ten|\d{1,2})[- 
 _SPLIT_PAREN = _rx(rf"\b(?P<split>{_SPLIT_ALT})(?:\s+{_SET})?\s*\(\s*(?:n\s*=\s*)?(?P<n>{{NUMBER}})"
                    r"(?:\s+(?P<noun>[a-z-]+))?\s*\)")
 _SPLIT_WORD = _rx(rf"\b(?P<split>{_SPLIT_ALT})\b")
+_NAMES = (rf"(?P<names>(?:(?:{_SPLIT_ALT})(?:ing)?\s*(?:,\s*(?:and\s+)?|\s+and\s+|/|&)\s*){{1,3}}"
+          rf"(?:{_SPLIT_ALT})(?:ing)?)")
+_NUMS = r"(?P<nums>{NUMBER}(?:\s*(?:,\s*(?:and\s+)?|\s+and\s+|/)\s*{NUMBER}){1,3})"
+#: "the training, validation and test sets contain 3,500, 500 and 900 radiographs"
+_LIST_NAMES_FIRST = _rx(_NAMES + r"\s+(?:sets?|splits?|subsets?|partitions?|cohorts?|data)?\s*(?:contain(?:s|ed)?|"
+                        r"ha(?:ve|d|s)|compris(?:e|es|ed)|include[sd]?|consist(?:s|ed)?\s+of|of|with|:|=|hold|held)\s+"
+                        + _NUMS + r"(?:\s+(?P<noun>[\w-]+(?:\s+[\w-]+){0,2}))?")
+#: "3,500, 500 and 900 radiographs for training, validation and testing"
+_LIST_NUMS_FIRST = _rx(_NUMS + r"(?:\s+(?P<noun>[\w-]+(?:\s+[\w-]+){0,2}?))?\s+(?:(?:were|are)\s+)?(?:(?:used|assigned|"
+                       r"allocated|reserved|kept)\s+)?(?:for|to|in|into)\s+(?:the\s+)?" + _NAMES)
 
 
 @dataclass(frozen=True)
@@ -676,6 +690,8 @@ class Share:
     #: the base stated with it ("of 263"), or None when it has to be found in the context
     base: int | None = None
     statement: Statement | None = None
+    #: counts of cases stated before it in the same sentence ("Of the 400 patients, 300 (75%)..."): bases to try
+    context: tuple[tuple[int, str], ...] = ()
 
 
 @dataclass(frozen=True)
@@ -759,6 +775,7 @@ def extract_numbers(scan: "Scan") -> DocumentNumbers:
                 continue
             stmts.append(Statement("cases", unit[1] if unit else "", _split_of(m.group("split")), v, si,
                                    m.start(), m.end(), m.group()))
+        stmts += _split_lists(text, si, stmts)
         stmts += _site_words(text, si, stmts)
         out.statements += stmts
         out.shares += _shares(text, si, stmts)
@@ -783,10 +800,16 @@ def _statement(text: str, si: int, f, previous: list[Statement]) -> Statement | 
         return None
     if quantity == "cases":
         return _case_statement(text, si, f, group, before, after, modifiers, previous)
+    if any(len(w) > 4 and w.endswith("est") for w in modifiers):
+        return None  # "the three largest hospitals", "the two fastest methods": a part
     if quantity == "annotators":
         if _PART_BEFORE.search(before) or value < 1 or _STUDY_OF_READERS.search(text):
             return None
         if not _ANNOTATION_CONTEXT.search(text) and group not in ("annotator",):
+            return None
+        # who made the reference: "segmented by two annotators", "three experts independently outlined";
+        # "two radiologists had ten years of experience" says something about some of them
+        if not (_BY_BEFORE.search(before) or _ANNOTATES_AFTER.match(after)):
             return None
         if group in ("expert", "reader", "annotator") or _PROFESSION.search(group):
             return Statement("annotators", group, _one_split(text), value, si, f.start, f.end, f.text)
@@ -794,10 +817,13 @@ def _statement(text: str, si: int, f, previous: list[Statement]) -> Statement | 
     if quantity == "sites":
         if _PART_BEFORE.search(before) or any(w in _SITE_SUBSET for w in modifiers) or value < 1:
             return None
-        split = ""
-        for w in modifiers:
-            if _split_of(w):
-                split = _split_of(w)
+        split = next((_split_of(w) for w in modifiers if _split_of(w)), None)
+        if split is None:
+            # "scans from three hospitals were used for training": the sites of one split
+            names = {n for n, _, _ in _splits_named(text)}
+            if len(names) > 1:
+                return None
+            split = names.pop() if names else ""
         return Statement("sites", "site", split, value, si, f.start, f.end, f.text)
     if quantity == "methods":
         if value < 2 or any(w in _METHOD_SUBSET for w in modifiers):
@@ -805,8 +831,8 @@ def _statement(text: str, si: int, f, previous: list[Statement]) -> Statement | 
         if not (_METHOD_BEFORE.search(before) or _METHOD_AFTER.search(after)):
             return None
         if regex.search(r"\b(?:the|these|all)\s+$", before) and not _METHOD_AFTER.search(after) \
-                and not regex.search(r"(?:compar\w*|benchmark\w*|rank\w*|evaluat\w*|assess\w*|of)\s+(?:the|all|these)\s+$",
-                                     before):
+                and not regex.search(r"(?:compar\w*|benchmark\w*|rank\w*|evaluat\w*|assess\w*|of)\s+"
+                                     r"(?:the|all|these)\s+$", before):
             return None
         return Statement("methods", group, "", value, si, f.start, f.end, f.text)
     return None
@@ -835,15 +861,11 @@ def _case_statement(text: str, si: int, f, group: str, before: str, after: str, 
         if _BREAKDOWN_AFTER.match(after) or _SUBSET_AFTER.match(after):
             return None
     elif m:
-        split = _split_of(m.group("split"))
-        if _SUBSET_AFTER.match(after) and not regex.match(r"^\s*(?:,\s*)?with\s+{0}".format(r"\d"), after):
-            # "the test set contains 50 cases with a fracture": a part of the test set
-            if not regex.match(r"^\s*,", after):
-                return None
+        split = _qualified(m.group("qual"), m.group("split"))
+        if _SUBSET_AFTER.match(after) and not regex.match(r"^\s*(?:,\s*)?with\s+\d|^\s*,", after):
+            return None  # "the test set contains 50 cases with a fracture": a part of the test set
     elif ma:
         split = _split_of(ma.group("split"))
-        if regex.search(r"\b(?:were|was)\s+$", before):
-            return None
     elif chained:
         split = chained
     elif mt and _total_pre_ok(mt.group("pre")):
@@ -857,6 +879,29 @@ def _case_statement(text: str, si: int, f, group: str, before: str, after: str, 
     if _BREAKDOWN_AFTER.match(after) and split != "total" and not m and not chained:
         return None
     return Statement("cases", group, split, f.value, si, f.start, f.end, f.text)
+
+
+#: words before "test set" that leave it the one test set of the study
+_NEUTRAL_QUALIFIERS = frozenset("""
+the a an our this that its their whole entire full final same separate independent held-out hold-out holdout blind
+blinded hidden sequestered official predefined pre-defined fixed random randomly respective locked untouched in into
+of and with to as for on from comprised consisting containing called named
+""".split())
+
+
+def _qualified(qual: str | None, split_word: str) -> str:
+    """The split a phrase names; a qualifier such as "public" or "preliminary" makes it a split of its own
+    ("test:preliminary"), so that its size is not compared with the study's test set."""
+    split = _split_of(split_word)
+    if not qual:
+        return split
+    joined = _split_of(f"{qual} {split_word}")
+    if joined:
+        return joined
+    q = qual.lower()
+    if q in _NEUTRAL_QUALIFIERS or _split_of(q) or q.isdigit():
+        return split
+    return f"{split}:{q}"
 
 
 def _total_pre_ok(word: str | None) -> bool:
@@ -876,27 +921,64 @@ def _split_fact(text: str, si: int, f, stmts: list[Statement], ratios: list[Rati
     if regex.search(r"\b(?:about|approximately|approx\.?|around|roughly|nearly|~|≈)\s*$", b) or \
             regex.search(r"\b(?:approximate(?:ly)?|about|roughly)\b", b[-40:]):
         return
-    named = _splits_named(b[-60:] + " " + text[f.start:f.end] + " " + a[:60])
-    order = []
-    for name, _, _ in named:
-        if name not in order and name != "external":
-            order.append(name)
+    # the split names nearest to the numbers: "75-25 train-test split", "training/validation/test set of 1,188/98/298"
+    order: list[str] = []
+    for window in (a[:50], b[-60:], b[-60:] + " " + a[:60]):
+        order = list(dict.fromkeys(n for n, _, _ in _splits_named(window) if n != "external"))
+        if len(order) == len(f.value):
+            break
+    noun = f.noun
+    tail = f.text[max(i for i, c in enumerate(f.text) if c.isdigit()) + 1:] if any(c.isdigit() for c in f.text) else ""
+    if noun and regex.search(r"\b(?:on|at|in|per|of|a|an|the|by|for|with)\b", tail, regex.IGNORECASE):
+        noun = None  # "1,188/98/298 on a patient level": the split's level, not what it counts
     total = sum(vals)
     pct = "%" in f.text or 98 <= total <= 102
     frac = 0.98 <= total <= 1.02 and any(v < 1 for v in vals)
     small = all(v == int(v) and v <= 10 for v in vals) and total <= 20 and len(vals) <= 4
-    if (pct or frac or small) and not (f.noun and _unit_of(f.noun)):
+    if (pct or frac or small) and not (noun and _unit_of(noun)):
         if len(order) == len(vals):
             parts = tuple(v * 100 / total for v in vals) if frac else tuple(vals)
             ratios.append(Ratio(parts, tuple(order), pct or frac, si, f.start, f.end))
         return
     if len(order) != len(vals) or any(v != int(v) for v in vals):
         return
-    unit = _unit_of(f.noun)
-    if f.noun and (unit is None or unit[0] != "cases"):
+    unit = _unit_of(noun)
+    if noun and (unit is None or unit[0] != "cases"):
         return
     for v, name in zip(vals, order):
         stmts.append(Statement("cases", unit[1] if unit else "", name, int(v), si, f.start, f.end, f.text))
+
+
+_LIST_STOP = frozenset("on a an the at per of in for with by and or respectively were are was is to from".split())
+
+
+def _split_lists(text: str, si: int, stmts: list[Statement]) -> list[Statement]:
+    """Sizes listed in the order of the splits they belong to, in either order of the two lists."""
+    from .facts import NUMBER, parse_number
+
+    out: list[Statement] = []
+    for rx in (_LIST_NAMES_FIRST, _LIST_NUMS_FIRST):
+        for m in rx.finditer(text):
+            if any(s.start == m.start("nums") for s in out):
+                continue  # both list forms read the same list
+            names = [_split_of(w.group("split")) for w in _SPLIT_WORD.finditer(m.group("names"))]
+            nums = [parse_number(x.group()) for x in regex.finditer(NUMBER, m.group("nums"))]
+            if len(names) != len(nums) or len(set(names)) != len(names) or not all(isinstance(v, int) for v in nums):
+                continue
+            unit = None
+            if m.group("noun"):
+                for w in m.group("noun").split():
+                    if w.lower() in _LIST_STOP:
+                        break  # "1,188/98/298 on a patient level": what follows is no counted noun
+                    unit = unit or _unit_of(_singular(w))
+                if unit is not None and unit[0] != "cases":
+                    continue
+            # drop what the count facts already took from this list: the list says which split each is
+            stmts[:] = [s for s in stmts if not (m.start("nums") <= s.start < m.end("nums"))]
+            for name, v in zip(names, nums):
+                out.append(Statement("cases", unit[1] if unit else "", name, v, si, m.start("nums"), m.end("nums"),
+                                     m.group("nums") + (f" {m.group('noun')}" if m.group("noun") else "")))
+    return out
 
 
 def _site_words(text: str, si: int, stmts: list[Statement]) -> list[Statement]:
@@ -916,7 +998,8 @@ def _site_words(text: str, si: int, stmts: list[Statement]) -> list[Statement]:
 
 _SHARE_OF = _rx(r"(?P<n>\d[\d,]*)\s*(?:/|\bof\b|\bout\s+of\b)\s*(?:the\s+)?(?P<m>\d[\d,]*)(?:\s+[\w-]+){0,3}?\s*"
                 r"\(\s*(?P<p>{DECIMAL})\s*%\s*\)")
-_SHARE_OF_AFTER = _rx(r"(?P<p>{DECIMAL})\s*%\s*\(\s*(?P<n>\d[\d,]*)\s*(?:/|\bof\b|\bout\s+of\b)\s*(?P<m>\d[\d,]*)\s*\)")
+_SHARE_OF_AFTER = _rx(r"(?P<p>{DECIMAL})\s*%\s*\(\s*(?P<n>\d[\d,]*)\s*(?:/|\bof\b|\bout\s+of\b)\s*(?:the\s+)?"
+                      r"(?P<m>\d[\d,]*)(?:\s+[\w-]+){0,3}\s*\)")
 _SHARE = _rx(r"(?P<n>{NUMBER})(?:\s+[\w-]+){0,3}?\s*\(\s*(?P<p>{DECIMAL})\s*%\s*\)")
 _SHARE_AFTER = _rx(r"(?P<p>{DECIMAL})\s*%\s*\(\s*(?:n\s*=\s*)?(?P<n>{NUMBER})\s*(?:[\w-]+\s*)?\)")
 
@@ -928,6 +1011,9 @@ def _decimals(p: str) -> int:
 def _shares(text: str, si: int, stmts: list[Statement]) -> list[Share]:
     from .facts import parse_number
 
+    from .facts import extract_facts
+
+    counts = [f for f in extract_facts(text) if f.kind == "count"]
     out: list[Share] = []
     taken: list[tuple[int, int]] = []
     for rx, explicit in ((_SHARE_OF, True), (_SHARE_OF_AFTER, True), (_SHARE, False), (_SHARE_AFTER, False)):
@@ -945,20 +1031,10 @@ def _shares(text: str, si: int, stmts: list[Statement]) -> list[Share]:
                 continue
             st = next((s for s in stmts if s.start <= m.start("n") < s.end), None)
             taken.append((m.start(), m.end()))
-            out.append(Share(n, float(p), _decimals(m.group("p")), si, m.start(), m.end(), base, st))
+            context = tuple((f.value, f.text) for f in counts if f.end <= m.start() and isinstance(f.value, int)
+                            and (_unit_of(f.noun) or ("", ""))[0] == "cases")
+            out.append(Share(n, float(p), _decimals(m.group("p")), si, m.start(), m.end(), base, st, context))
     return out
-
-
-@lru_cache(maxsize=4)
-def _numbers_cached(key: int, scan_ref: "_ScanRef") -> DocumentNumbers:
-    return extract_numbers(scan_ref.scan)
-
-
-class _ScanRef:
-    """Hashable by identity, so one scan's numbers are extracted once however many checks read them."""
-
-    def __init__(self, scan: "Scan") -> None:
-        self.scan = scan
 
 
 # ---------------------------------------------------------------------------------------------- checks
@@ -984,39 +1060,44 @@ class RunContext:
 
 
 _QUANTITY_TEXT = {
-    ("cases", "total"): "The total number of {unit}s",
-    ("cases", "training"): "The number of {unit}s in the training set",
-    ("cases", "validation"): "The number of {unit}s in the validation set",
-    ("cases", "development"): "The number of {unit}s in the development set",
-    ("cases", "test"): "The number of {unit}s in the test set",
-    ("cases", "external"): "The number of {unit}s in the external test set",
-    ("annotators", ""): "The number of {unit}s who annotated the reference",
-    ("annotators", "training"): "The number of {unit}s who annotated the training data",
-    ("annotators", "validation"): "The number of {unit}s who annotated the validation data",
-    ("annotators", "test"): "The number of {unit}s who annotated the test data",
+    ("cases", "total"): "The total number of {unit}",
+    ("cases", "training"): "The number of {unit} in the training set",
+    ("cases", "validation"): "The number of {unit} in the validation set",
+    ("cases", "development"): "The number of {unit} in the development set",
+    ("cases", "test"): "The number of {unit} in the test set",
+    ("cases", "external"): "The number of {unit} in the external test set",
+    ("annotators", ""): "The number of {unit} who annotated the reference",
+    ("annotators", "training"): "The number of {unit} who annotated the training data",
+    ("annotators", "validation"): "The number of {unit} who annotated the validation data",
+    ("annotators", "test"): "The number of {unit} who annotated the test data",
     ("sites", ""): "The number of sites (centres, hospitals)",
     ("sites", "training"): "The number of training sites",
     ("sites", "test"): "The number of test sites",
-    ("methods", ""): "The number of {unit}s compared",
+    ("methods", ""): "The number of {unit} compared",
 }
 
 
 def _plural(unit: str) -> str:
-    return {"series": "series", "patch": "patche", "gland": "gland"}.get(unit, unit)
+    return unit if unit.endswith(("s", "series")) else unit + ("es" if unit.endswith(("ch", "sh", "x")) else "s")
 
 
 def _describe_quantity(st: Statement) -> str:
-    template = _QUANTITY_TEXT.get((st.quantity, st.split), "The number of {unit}s")
-    if st.quantity == "methods" and st.unit == "method":
-        return "The number of methods compared"
-    if st.quantity == "methods" and st.unit == "team":
-        return "The number of teams or submissions compared"
-    unit = _plural(st.unit)
-    return template.format(unit=unit) if st.unit != "series" else template.format(unit="series").replace("seriess", "series")
+    if st.quantity == "methods":
+        return "The number of teams or submissions compared" if st.unit == "team" else "The number of methods compared"
+    split, _, qualifier = st.split.partition(":")
+    template = _QUANTITY_TEXT.get((st.quantity, split), "The number of {unit}")
+    text = template.format(unit=_plural(st.unit))
+    return text.replace(f"the {split} set", f"the {qualifier} {split} set") if qualifier else text
 
 
 def _statement_evidence(scan: "Scan", st: Statement, part: str) -> Evidence:
     return _evidence(scan, st.sentence, [(st.start, st.end)], part)
+
+
+def _quoted(text: str) -> str:
+    """A stated count as it reads inside a sentence: "Two radiologists" -> "two radiologists"."""
+    t = " ".join(text.split())
+    return t[0].lower() + t[1:] if t[:1].isupper() and not t[1:2].isupper() else t
 
 
 def check_counts(scan: "Scan", rule: Rule, ctx: RunContext) -> list[Finding]:
@@ -1050,9 +1131,9 @@ def check_counts(scan: "Scan", rule: Rule, ctx: RunContext) -> list[Finding]:
         evidence = [_statement_evidence(scan, s, "statement") for s in firsts[:MAX_EVIDENCE]]
         msg = _fill(rule.message, {
             "quantity": _describe_quantity(first),
-            "first": " ".join(first.text.split()),
+            "first": _quoted(first.text),
             "first_where": _where(scan.sentences[first.sentence].location),
-            "second": " ".join(second.text.split()),
+            "second": _quoted(second.text),
             "second_where": _where(scan.sentences[second.sentence].location),
             "values": ", ".join(str(v) for v in sorted(values)),
         })
@@ -1076,7 +1157,8 @@ def check_split_sums(scan: "Scan", rule: Rule, ctx: RunContext) -> list[Finding]
         totals = by.get((unit, "total"), []) if unit else [s for u in units for s in by.get((u, "total"), [])]
         if not totals:
             continue
-        opts = {sp: _distinct_values(by.get((unit, sp), [])) for sp in ("training", "validation", "development", "test")}
+        opts = {sp: _distinct_values(by.get((unit, sp), []))
+                for sp in ("training", "validation", "development", "test")}
         layouts = []
         if opts["training"] and opts["test"]:
             layouts.append(("training", "validation", "test") if opts["validation"] else ("training", "test"))
@@ -1104,12 +1186,14 @@ def check_split_sums(scan: "Scan", rule: Rule, ctx: RunContext) -> list[Finding]
         s_sum = sum(s.value for s in combo)
         if not total.value / 2 <= s_sum <= total.value * 2:
             continue  # splits of a part of a larger collection, or a "total" of something else
-        unit_word = _plural(unit) + "s" if unit and unit != "series" else (unit or "cases")
+        # the counted noun as the document writes it ("radiographs"), else the unit's name
+        written = total.text.split()[-1] if total.text.split()[-1].isalpha() else ""
+        unit_word = written if unit and written else (_plural(unit) if unit else "cases")
         parts = " + ".join(f"{s.value:,} {s.split}" for s in combo)
         evidence = [_statement_evidence(scan, total, "total")]
         for s in combo:
-            if not any(e.location == scan.sentences[s.sentence].location and e.text == scan.sentences[s.sentence].text.strip()
-                       for e in evidence):
+            sent = scan.sentences[s.sentence]
+            if not any(e.location == sent.location and e.text == sent.text.strip() for e in evidence):
                 evidence.append(_statement_evidence(scan, s, "split"))
         msg = _fill(rule.message, {"sum": f"{s_sum:,}", "unit": unit_word, "parts": parts,
                                    "total": " ".join(total.text.split()),
@@ -1240,17 +1324,17 @@ def check_split_percentages(scan: "Scan", rule: Rule, ctx: RunContext) -> list[F
                     for t in by_split.get("development", []):
                         bases.append((t.value, f"{sh.count:,} of {t.value:,}", t))
             elif st is None:
-                named = {n for n, a, _ in _splits_named(text) if a < sh.start} | (
-                    {"total"} if _TOTAL_ANCHOR_BEFORE.search(text[:sh.start]) or
-                    regex.search(r"\b(?:cohort|dataset|data\s+set)\b", text[:sh.start], regex.IGNORECASE) else set())
-                if not named:
+                named = {n for n, _, _ in _splits_named(text)}
+                if _TOTAL_ANCHOR_BEFORE.search(text[:sh.start]) or regex.search(
+                        r"\b(?:cohort|dataset|data\s+set|total)\b", text, regex.IGNORECASE):
+                    named.add("total")
+                if not named and not sh.context:
                     continue
-                for s in nums.statements:  # counts earlier in the same sentence
-                    if s.sentence == sh.sentence and s.end <= sh.start and s.quantity == "cases":
-                        bases.append((s.value, f"{sh.count:,} of {s.value:,}", s))
+                for value, ctext in sh.context:  # "Of the 400 patients, 300 (75%) ..."
+                    bases.append((value, f"{sh.count:,} of {' '.join(ctext.split())}", None))
                 for n in sorted(named):
                     for s in by_split.get(n, []):
-                        bases.append((s.value, f"{sh.count:,} of {s.value:,}", s))
+                        bases.append((s.value, f"{sh.count:,} of {' '.join(s.text.split())}", s))
         bases = [b for b in bases if b[0] >= sh.count]
         if not bases:
             continue

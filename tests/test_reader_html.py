@@ -149,6 +149,12 @@ def test_layout_tables_are_read_as_flowing_text(tmp_path):
 
 
 def test_xhtml_with_xml_declaration(tmp_path):
-    page = '<?xml version="1.0" encoding="utf-8"?>\n<html xmlns="http://www.w3.org/1999/xhtml"><body>\n<p>Two readers.</p></body></html>'
+    page = ('<?xml version="1.0" encoding="utf-8"?>\n'
+            '<html xmlns="http://www.w3.org/1999/xhtml"><body>\n<p>Two readers.</p></body></html>')
     doc = read(tmp_path, page, "page.xhtml")
     assert [(b.text, b.location.line) for b in doc.blocks] == [("Two readers.", 3)]
+
+
+def test_superscripts_do_not_glue_into_numbers(tmp_path):
+    doc = read(tmp_path, "<p>Volumes in mm<sup>3</sup> were read by two experts<sup>12</sup>; H<sub>2</sub>O.</p>")
+    assert doc.blocks[0].text == "Volumes in mm³ were read by two experts¹²; H₂O."

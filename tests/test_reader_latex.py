@@ -93,7 +93,8 @@ def test_headings_and_levels(paper):
 
 def test_text_from_markup(paper):
     doc = read_document(paper)
-    assert find(doc, "We evaluate").text == "We evaluate a method on 300 scans. It reaches 50% agreement with n=3 readers."
+    abstract = find(doc, "We evaluate").text
+    assert abstract == "We evaluate a method on 300 scans. It reaches 50% agreement with n=3 readers."
     assert find(doc, "Prior work").text.startswith("Prior work shows little. Our second sentence")
     dice = find(doc, "The Dice score")
     assert "D = 2|A∩B|/|A|+|B|" in dice.text
@@ -218,3 +219,25 @@ def test_verbatim_and_listings_are_not_prose(tmp_path):
     doc = read_document(main)
     assert "code" not in doc.text and "Before." in doc.text and "After" in doc.text
     assert not any("not closed" in w for w in doc.warnings)
+
+
+def test_tangled_markup_is_read_piece_by_piece(tmp_path):
+    # environments opened inside two-argument macros make pylatexenc's tolerant parser backtrack
+    # exponentially (each repeat triples its work); the reader stops it and reads paragraph by paragraph
+    main = tmp_path / "tangle.tex"
+    main.write_text("Intro sentence.\n\n" + "\\textcolor{\\begin{itemize}" * 40 + "\n\nA sentence after it.\n",
+                    encoding="utf-8")
+    doc = read_document(main)
+    assert [(b.text, b.location.line) for b in doc.blocks] == [("Intro sentence.", 1), ("A sentence after it.", 5)]
+    assert any("too tangled to parse as a whole" in w for w in doc.warnings)
+
+
+def test_unknown_macros_give_their_text_and_known_ones_their_symbols(tmp_path):
+    main = tmp_path / "m.tex"
+    main.write_text("Na\\\"ive \\emph{readers} \\mymacro{kept} \\ldots{} 5\\,mm \\textsuperscript{th} "
+                    "$\\geq 3$ \\texorpdfstring{yes}{no} \\SI{0.5}{\\percent}\n", encoding="utf-8")
+    doc = read_document(main)
+    text = doc.blocks[0].text
+    for part in ("Naïve", "readers", "kept", "…", "5 mm", "th", "≥3", "yes", "0.5%"):
+        assert part in text, (part, text)
+    assert "no" not in text.split()

@@ -173,3 +173,47 @@ def test_the_same_text_comes_out_of_every_format(path, tmp_path, blocks_by_file)
     assert _shape(read_document(tmp_path / "d.html").blocks) == expected
     # Markdown has no captions: they come back as paragraphs
     assert _shape(read_document(tmp_path / "d.md").blocks, "paragraph") == _shape(doc.blocks, "paragraph")
+
+
+def _render_module():
+    import importlib.util as iu
+
+    from checker import __file__ as pkg
+
+    spec = iu.spec_from_file_location("studygap_render", Path(pkg).resolve().parent.parent / "fixtures" / "render.py")
+    mod = iu.module_from_spec(spec)
+    import sys
+
+    sys.modules[spec.name] = mod  # its dataclasses look themselves up there
+    spec.loader.exec_module(mod)
+    return mod
+
+
+PDF_FILES = FILES[::4]  # every fourth description: PDF rendering is the slow part
+
+
+@pytest.mark.parametrize("path", PDF_FILES)
+def test_the_same_sentences_come_out_of_a_pdf_rendering(path, tmp_path, blocks_by_file):
+    # The description, rendered to Markdown and from there to PDF with the fixture renderer (reportlab), gives
+    # back the same sentences through the PDF reader (line breaks, page breaks, headers and page numbers between).
+    from checker.nlp import segment
+
+    render = _render_module()
+    doc = _read_text(path, blocks_by_file)
+    md = tmp_path / "d.md"  # the renderer's plain Markdown dialect: no backslash escapes
+    lines = []
+    for b in doc.blocks:
+        if b.kind == "table-row":
+            continue  # tables are compared by the DOCX/HTML/Markdown check above
+        prefix = "#" * min(b.level or 1, 3) + " " if b.kind == "heading" else "- " if b.kind == "list-item" else ""
+        lines += [prefix + b.text.replace("*", "").replace("_", " "), ""]
+    md.write_text("\n".join(lines), encoding="utf-8")
+    pdf = tmp_path / "d.pdf"
+    render.render(md, pdf=pdf)
+    quotes = str.maketrans("“”‘’", "\"\"''")  # typographic quotes may come back straight
+    want = [_norm(s.text).translate(quotes) for s in segment(read_document(md)).sentences
+            if len(s.text.split()) >= 4 and s.kind != "heading"]
+    got = {_norm(s.text).translate(quotes) for s in segment(read_document(pdf)).sentences}
+    got_text = _norm(" ".join(sorted(got)))
+    found = sum(1 for s in want if s in got or s in got_text)
+    assert want and found / len(want) >= 0.95, [s for s in want if s not in got and s not in got_text][:5]

@@ -32,6 +32,7 @@ _SUFFIXES = {
     ".docx": "docx",
     ".tex": "latex",
     ".latex": "latex",
+    ".ltx": "latex",
     ".md": "markdown",
     ".markdown": "markdown",
     ".rmd": "markdown",
@@ -42,6 +43,7 @@ _SUFFIXES = {
     ".txt": "text",
     ".text": "text",
     ".rst": "text",
+    ".rest": "text",
 }
 
 

@@ -43,8 +43,10 @@ _RUN_CONTAINERS = frozenset(qn(t) for t in (
 #: deleted or moved-away text of tracked changes
 _REMOVED = frozenset(qn(t) for t in ("w:del", "w:moveFrom"))
 _FALSE = {"0", "false", "off", "none"}
-_CAPTION_TEXT = re.compile(r"^(?:Supplementary\s+|Suppl\.\s+|Extended\s+Data\s+)?(?:Figure|Fig\.?|Table)\s*[A-Z]?\d+[a-z]?\s*[.:|–—-]",
-                           re.IGNORECASE)
+_CAPTION_TEXT = re.compile(
+    r"^(?:Supplementary\s+|Suppl\.\s+|Extended\s+Data\s+)?(?:Figure|Fig\.?|Table)\s*[A-Z]?\d+[a-z]?\s*[.:|–—-]",
+    re.IGNORECASE,
+)
 _HEADING_STYLE = re.compile(r"^heading\s*([1-9])$", re.IGNORECASE)
 #: section names that stand at the top of a manuscript's outline, whatever their formatting
 _TOP_LEVEL = frozenset("""abstract

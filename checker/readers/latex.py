@@ -49,7 +49,8 @@ _INCLUDES = {"input": False, "include": False, "subfile": False, "import": False
 
 _EXTRA_MACROS = {
     "title": "[{", "part": "*[{", "chapter": "*[{", "section": "*[{", "subsection": "*[{",
-    "subsubsection": "*[{", "paragraph": "*[{", "subparagraph": "*[{", "caption": "*[{", "captionof": "*{[{", "subcaption": "[{", "href": "[{{", "hyperref": "[{",
+    "subsubsection": "*[{", "paragraph": "*[{", "subparagraph": "*[{", "caption": "*[{", "captionof": "*{[{",
+    "subcaption": "[{", "href": "[{{", "hyperref": "[{",
     "subfile": "{", "import": "{{", "subimport": "*{{", "InputIfFileExists": "{{{", "bibitem": "[{",
     "multicolumn": "{{{", "multirow": "[{[{", "makecell": "[{", "footnotetext": "[{", "thanks": "{",
     "affil": "[{", "affiliation": "[{", "institute": "{", "address": "{", "email": "{", "keywords": "{",
@@ -280,7 +281,9 @@ def repair_braces(text: str) -> tuple[str, list[tuple[int, str]]]:
     return "".join(chars), problems
 
 
-_HEADING_BEFORE = re.compile(r"\\(?:part|chapter|(?:sub){0,2}section|(?:sub)?paragraph|caption|title)\*?\s*(?:\[[^\]]*\])?\s*$")
+_HEADING_BEFORE = re.compile(
+    r"\\(?:part|chapter|(?:sub){0,2}section|(?:sub)?paragraph|caption|title)\*?\s*(?:\[[^\]]*\])?\s*$"
+)
 
 
 @dataclass
@@ -669,6 +672,8 @@ class _LatexReader:
             text = self.defs[name] if name in self.defs else _plain([node])
             if text.strip():
                 self.add(text, node.pos, src)
+            elif text and self.cur is not None:
+                self.cur.space()  # \, \quad and friends
             if node.macro_post_space and self.cur is not None:
                 self.cur.space()
         else:

@@ -90,7 +90,8 @@ class _MarkdownBlocks:
                 if tag and tag.group(2).lower() == "a":
                     if not tag.group(1):
                         href = _HREF.search(tag.group(3))
-                        anchors.append((b.mark_position(), next((g for g in href.groups() if g), None) if href else None))
+                        address = next((g for g in href.groups() if g), None) if href else None
+                        anchors.append((b.mark_position(), address))
                     elif anchors:
                         start, href_text = anchors.pop()
                         note = url_note(b.text_since(start), href_text) if links else ""

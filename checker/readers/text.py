@@ -273,7 +273,7 @@ def numbered_heading_level(text: str, max_words: int = 12) -> int | None:
     if not m:
         return None
     title = m.group("title").strip()
-    if len(title.split()) > max_words or len(text) > 150 or title[-1] in ".;,!?" or not re.search(r"[A-Za-z]{2}", title):
+    if len(title.split()) > max_words or title[-1] in ".;,!?" or not re.search(r"[A-Za-z]{2}", title):
         return None
     if m.group("num"):
         return m.group("num").count(".") + 1
@@ -304,7 +304,9 @@ _ADORNMENT_CHARS = "=-`:'\"~^_*+#<>.!$%&(),/;?@[\\]{|}"
 _ADORNMENT = re.compile("^([" + re.escape(_ADORNMENT_CHARS) + r"])\1{2,}\s*$")
 _TABLE_BORDER = re.compile(r"^\s*=+(?: +=+)+\s*$")
 _GRID_BORDER = re.compile(r"^\s*\+(?:[-=]+\+)+\s*$")
-_MARKER = re.compile(r"^(?P<indent>\s*)(?P<marker>[-*+•‣◦▪–]|\(?\d{1,2}[.)]|\(?[a-z][.)]|\([A-Za-z]\)|#\.)\s+(?P<rest>\S.*)$")
+_MARKER = re.compile(
+    r"^(?P<indent>\s*)(?P<marker>[-*+•‣◦▪–]|\(?\d{1,2}[.)]|\(?[a-z][.)]|\([A-Za-z]\)|#\.)\s+(?P<rest>\S.*)$"
+)
 _FIELD = re.compile(r"^(?P<indent>\s*):(?P<name>[^:`\s][^:`]*?):(?:\s+(?P<rest>.*))?$")
 _DIRECTIVE = re.compile(r"^(?P<indent>\s*)\.\.\s+(?P<name>[\w:.+-]+)::\s*(?P<arg>.*)$")
 _TARGET = re.compile(r"^\s*(?:\.\.\s+_[^:]*:.*|__\s+\S.*|\.\.\s+\|[^|]+\|.*)$")

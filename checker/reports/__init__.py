@@ -41,6 +41,14 @@ def register(info: RendererInfo) -> None:
 for _info in (
     RendererInfo("terminal", "checker.reports.terminal", "readable report for a terminal", suffix=".txt"),
     RendererInfo("json", "checker.reports.json", "the JSON contract, for other tools", suffix=".json"),
+    RendererInfo("markdown", "checker.reports.markdown", "review letters and pull-request comments, with requests",
+                 suffix=".md"),
+    RendererInfo("html", "checker.reports.html", "one self-contained page with filters, for reading and printing",
+                 suffix=".html"),
+    RendererInfo("docx", "checker.reports.docx", "a reporting form to fill in, with a column for the authors",
+                 binary=True, suffix=".docx"),
+    RendererInfo("lines", "checker.reports.lines", "path:line:column: lines for editors and CI annotations",
+                 suffix=".txt"),
 ):
     register(_info)
 

@@ -59,7 +59,7 @@ def _header(r: Report) -> list[Text]:
     return [doc, cl, counts]
 
 
-def render_one(r: Report, console: Console, verbose: bool) -> None:
+def render_one(r: Report, console: Console, verbose: bool) -> None:  # noqa: C901 - one linear layout
     for line in _header(r):
         console.print(line)
     for w in r.warnings:
@@ -77,7 +77,7 @@ def render_one(r: Report, console: Console, verbose: bool) -> None:
         console.print(head)
         shown = it.evidence if verbose else it.evidence[:1]
         for ev in shown:
-            _indented(console, Text(ev.location.describe(), style="dim"))
+            _indented(console, Text(ev.location.describe(r.document_path), style="dim"))
             _indented(console, _quote(ev, limit=10_000 if verbose else 320))
         if it.status in ("partial", "missing", "not-applicable", "waived") or verbose:
             _indented(console, Text(it.reason, style="italic"))
@@ -99,7 +99,7 @@ def render_one(r: Report, console: Console, verbose: bool) -> None:
             console.print(line)
             _indented(console, Text(f.message))
             for ev in f.evidence[: (10 if verbose else 2)]:
-                _indented(console, Text(ev.location.describe(), style="dim"))
+                _indented(console, Text(ev.location.describe(r.document_path), style="dim"))
                 _indented(console, _quote(ev))
     console.print()
     for c in CAUTIONS:
@@ -122,4 +122,5 @@ def render(reports: Sequence[Report], options) -> str:
             console.print()
             console.rule()
         render_one(r, console, options.verbose)
-    return buf.getvalue()
+    # wrapped lines come padded to the block's width; trailing blanks only get in the way of diffs and pipes
+    return "\n".join(line.rstrip(" ") for line in buf.getvalue().split("\n"))

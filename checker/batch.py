@@ -1,0 +1,243 @@
+"""Many documents through check_document: serially, on a local process pool, or on a Dask cluster.
+
+Every engine gives the same rows in input order, so that a screen or an audit is the same bytes whichever ran it.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import os
+import shutil
+import tempfile
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any, Callable, Sequence
+
+from .config import Config
+from .errors import StudygapError, UsageError
+from .limits import DEFAULT_LIMITS, Limits
+from .report import Report
+
+ENGINES = ("local", "dask")
+SENDS = ("path", "bytes")
+
+#: progress(done, total, path) after each document, in the order they finish
+Progress = Callable[[int, int, str], None]
+
+
+@dataclass(frozen=True)
+class BatchResult:
+    """One input document: its report, or the one-line reason it could not be checked."""
+
+    path: str
+    report: Report | None = None
+    error: str = ""
+
+    @property
+    def ok(self) -> bool:
+        return self.report is not None
+
+
+def warm(checklist: str = "auto") -> None:
+    """Build this process's spaCy pipeline and compiled checklists once, before the first document arrives."""
+    from .checklist import builtin_ids
+    from .engine import AUTO, compiled_for
+    from .nlp import pipeline
+
+    pipeline()
+    # a broken checklist is reported per document by check_one; warming must not kill the worker
+    try:
+        for ref in (builtin_ids() if checklist == AUTO else [checklist]):
+            compiled_for(ref)
+    except StudygapError:
+        pass
+
+
+def check_one(path: str, checklist: str = "auto", config: Config | None = None, limits: Limits = DEFAULT_LIMITS,
+              data: bytes | None = None) -> BatchResult:
+    """The result for one document; never raises for a bad document (run in workers).
+
+    With ``data`` the document's bytes come with the task (for workers that cannot see the file); the report
+    names ``path`` exactly as if the file had been read there.
+    """
+    from .engine import check_document
+
+    try:
+        if data is None:
+            return BatchResult(path, check_document(path, checklist, config, limits))
+        return BatchResult(path, _check_bytes(path, data, checklist, config, limits))
+    except StudygapError as exc:
+        return BatchResult(path, error=_one_line(str(exc), path))
+    except OSError as exc:
+        return BatchResult(path, error=f"{path}: cannot be read ({exc.strerror or exc})")
+    except Exception as exc:  # noqa: BLE001 - one document's failure must not stop the others
+        return BatchResult(path, error=f"{path}: studygap failed on this document ({type(exc).__name__}: {exc}); "
+                                       "please report it with the document if you can")
+
+
+def _one_line(text: str, path: str) -> str:
+    line = " ".join(text.split())
+    return line if line.startswith(path) else f"{path}: {line}"
+
+
+def _check_bytes(path: str, data: bytes, checklist: str, config: Config | None, limits: Limits) -> Report:
+    from .engine import check_document
+
+    # the readers read files; a private copy under the same file name keeps suffix and sniffing identical
+    folder = tempfile.mkdtemp(prefix="studygap-")
+    try:
+        local = os.path.join(folder, Path(path).name)
+        with open(local, "wb") as fh:
+            fh.write(data)
+        try:
+            report = check_document(local, checklist, config, limits)
+        except StudygapError as exc:
+            raise UsageError(str(exc).replace(local, path)) from None
+        return _relocate(report, local, path)
+    finally:
+        shutil.rmtree(folder, ignore_errors=True)
+
+
+def _relocate(value: Any, old: str, new: str) -> Any:
+    """The same frozen records with every mention of the private copy's path turned back into the original."""
+    if isinstance(value, str):
+        return new if value == old else value.replace(old, new)
+    if isinstance(value, tuple):
+        return tuple(_relocate(v, old, new) for v in value)
+    if isinstance(value, list):
+        return [_relocate(v, old, new) for v in value]
+    if isinstance(value, dict):
+        return {k: _relocate(v, old, new) for k, v in value.items()}
+    if dataclasses.is_dataclass(value) and not isinstance(value, type):
+        changes = {f.name: _relocate(getattr(value, f.name), old, new) for f in dataclasses.fields(value)}
+        return dataclasses.replace(value, **changes)
+    return value
+
+
+def _read_for_sending(path: str, limits: Limits) -> bytes:
+    from .readers import read_bytes
+
+    return read_bytes(Path(path), limits)
+
+
+def run_batch(
+    paths: Sequence[str | Path],
+    checklist: str = "auto",
+    config: Config | None = None,
+    limits: Limits = DEFAULT_LIMITS,
+    *,
+    jobs: int | None = None,
+    engine: str = "local",
+    scheduler: str | None = None,
+    client: Any = None,
+    send: str = "path",
+    progress: Progress | None = None,
+) -> list[BatchResult]:
+    """Check every document; one result per path, in input order; bad documents become error rows.
+
+    ``engine="local"`` uses ``jobs`` processes (default: one per CPU; 1 runs in this process).
+    ``engine="dask"`` submits to ``client`` or to the scheduler at ``scheduler`` (for example
+    ``tcp://host:8786``); ``send="bytes"`` ships each document's bytes for workers that do not share the files.
+    """
+    if engine not in ENGINES:
+        raise UsageError(f"unknown engine {engine!r}; use one of {', '.join(ENGINES)}")
+    if send not in SENDS:
+        raise UsageError(f"unknown way of sending documents {send!r}; use one of {', '.join(SENDS)}")
+    if jobs is not None and jobs < 1:
+        raise UsageError("--jobs must be 1 or more")
+    names = [str(p) for p in paths]
+    config = config or Config()
+    if not names:
+        return []
+    if engine == "dask":
+        return _run_dask(names, checklist, config, limits, scheduler, client, send, progress)
+    jobs = jobs or os.cpu_count() or 1
+    if jobs == 1 or len(names) == 1:
+        out = []
+        for i, p in enumerate(names, start=1):
+            out.append(check_one(p, checklist, config, limits))
+            if progress is not None:
+                progress(i, len(names), p)
+        return out
+    return _run_pool(names, checklist, config, limits, min(jobs, len(names)), progress)
+
+
+def _run_pool(names: list[str], checklist: str, config: Config, limits: Limits, jobs: int,
+              progress: Progress | None) -> list[BatchResult]:
+    from concurrent.futures import ProcessPoolExecutor, as_completed
+    from concurrent.futures.process import BrokenProcessPool
+
+    results: list[BatchResult | None] = [None] * len(names)
+    with ProcessPoolExecutor(max_workers=jobs, initializer=warm, initargs=(checklist,)) as pool:
+        futures = {pool.submit(check_one, p, checklist, config, limits): i for i, p in enumerate(names)}
+        for done, fut in enumerate(as_completed(futures), start=1):
+            i = futures[fut]
+            try:
+                results[i] = fut.result()
+            except BrokenProcessPool:
+                results[i] = BatchResult(names[i], error=f"{names[i]}: the worker process checking it stopped "
+                                                         "unexpectedly (out of memory?)")
+            if progress is not None:
+                progress(done, len(names), names[i])
+    return [r for r in results if r is not None]
+
+
+def _run_dask(names: list[str], checklist: str, config: Config, limits: Limits, scheduler: str | None, client: Any,
+              send: str, progress: Progress | None) -> list[BatchResult]:
+    try:
+        from distributed import Client, as_completed
+    except ImportError:
+        raise UsageError("the dask engine needs Dask distributed: pip install 'studygap[dask]'") from None
+    own = client is None
+    if own:
+        if not scheduler:
+            raise UsageError("the dask engine needs --scheduler ADDRESS (for example tcp://host:8786)")
+        try:
+            client = Client(scheduler, timeout=30)
+        except (OSError, TimeoutError) as exc:
+            raise UsageError(f"cannot reach the Dask scheduler at {scheduler}: {exc}") from None
+    results: list[BatchResult | None] = [None] * len(names)
+    done = 0
+
+    def finished(i: int, result: BatchResult) -> None:
+        nonlocal done
+        results[i] = result
+        done += 1
+        if progress is not None:
+            progress(done, len(names), names[i])
+
+    try:
+        try:
+            client.run(warm, checklist)
+        except Exception:  # noqa: BLE001 - warming is an optimisation; each task still works without it
+            pass
+        index: dict[Any, int] = {}
+        futures = []
+        for i, p in enumerate(names):
+            data = None
+            if send == "bytes":
+                try:
+                    data = _read_for_sending(p, limits)
+                except StudygapError as exc:
+                    finished(i, BatchResult(p, error=_one_line(str(exc), p)))
+                    continue
+            fut = client.submit(check_one, p, checklist, config, limits, data, pure=False)
+            index[fut.key] = i
+            futures.append(fut)
+        for fut in as_completed(futures):
+            i = index[fut.key]
+            if fut.status == "error":
+                exc = fut.exception()
+                finished(i, BatchResult(names[i], error=f"{names[i]}: the Dask task failed "
+                                                        f"({type(exc).__name__}: {' '.join(str(exc).split())})"))
+            else:
+                finished(i, fut.result())
+            fut.release()
+    finally:
+        if own:
+            client.close()
+    return [r for r in results if r is not None]
+
+
+def errors_of(results: Sequence[BatchResult]) -> list[BatchResult]:
+    return [r for r in results if not r.ok]

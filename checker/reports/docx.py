@@ -1,0 +1,207 @@
+"""The DOCX report: a reporting form to fill in (python-docx), one table row per item with its status, place and
+quoted evidence, and an empty column for the authors' response; then findings and cautions."""
+
+from __future__ import annotations
+
+import io
+import os
+from datetime import datetime, timezone
+from typing import Sequence
+
+from ..report import CAUTIONS, Evidence, ItemResult, Report
+
+COLUMNS = ("Item", "Question", "Status", "Where reported", "Quoted evidence", "Author's response")
+#: column widths in centimetres on a landscape A4 page (27.7 cm of text width)
+WIDTHS = (3.6, 5.2, 2.2, 3.6, 8.1, 5.0)
+#: rows in this order: gaps first, so the authors answer them first
+ROW_ORDER = ("missing", "partial", "reported", "not-applicable", "waived")
+
+
+def report_date() -> datetime:
+    """SOURCE_DATE_EPOCH when set (reproducible builds and tests), else now, in UTC."""
+    raw = os.environ.get("SOURCE_DATE_EPOCH", "").strip()
+    if raw:
+        try:
+            return datetime.fromtimestamp(int(raw), tz=timezone.utc)
+        except (ValueError, OverflowError, OSError):
+            pass  # a malformed value is ignored, as reproducible-build tools do
+    return datetime.now(tz=timezone.utc).replace(microsecond=0)
+
+
+def _clean(text: str) -> str:
+    # XML 1.0 refuses most control characters; python-docx would raise on them
+    return "".join(ch for ch in " ".join(text.split()) if ch >= " " or ch == "\t")
+
+
+def _where(ev: Evidence, r: Report) -> str:
+    loc = ev.location
+    bits = []
+    if loc.file != r.document_path:
+        bits.append(os.path.basename(loc.file))
+    if loc.page is not None:
+        bits.append(f"page {loc.page}")
+    if loc.table is not None:
+        bits.append(f"table {loc.table}" + (f", row {loc.row}" if loc.row is not None else ""))
+    elif loc.paragraph is not None:
+        bits.append(f"paragraph {loc.paragraph}")
+    if loc.line is not None:
+        bits.append(f"line {loc.line}")
+    if loc.section:
+        bits.append(f"section {loc.section[-1]}")
+    return ", ".join(bits) or "—"
+
+
+def _quote_runs(paragraph, ev: Evidence) -> None:
+    """The passage with matched words in bold."""
+    text, pos = ev.text, 0
+    paragraph.add_run("“")
+    for s, t in sorted(ev.matches):
+        s, t = max(s, pos), min(t, len(text))
+        if s >= t:
+            continue
+        paragraph.add_run(_piece(text[pos:s]))
+        paragraph.add_run(_clean(text[s:t])).bold = True
+        pos = t
+    paragraph.add_run(_piece(text[pos:]) + "”")
+
+
+def _piece(text: str) -> str:
+    """Text between matches, cleaned, keeping one space where it had space at either end."""
+    if not text.strip():
+        return " " if text else ""
+    return (" " if text[0].isspace() else "") + _clean(text) + (" " if text[-1].isspace() else "")
+
+
+def _row(table, it: ItemResult, r: Report, verbose: bool) -> None:
+    cells = table.add_row().cells
+    cells[0].text = ""
+    p = cells[0].paragraphs[0]
+    p.add_run(_clean(it.title)).bold = True
+    p.add_run("\n" + it.id).italic = True
+    cells[1].text = _clean(it.question)
+    cells[2].text = ""
+    cells[2].paragraphs[0].add_run(it.status).bold = True
+    if it.status != "reported" and it.reason:
+        cells[2].add_paragraph(_clean(it.reason))
+    shown = it.evidence if verbose else it.evidence[:2]
+    cells[3].text = "\n".join(_where(ev, r) for ev in shown) if shown else "not found"
+    cells[4].text = ""
+    for i, ev in enumerate(shown):
+        _quote_runs(cells[4].paragraphs[0] if i == 0 else cells[4].add_paragraph(), ev)
+    if it.status in ("missing", "partial") and it.ask:
+        p = cells[4].add_paragraph() if shown else cells[4].paragraphs[0]
+        p.add_run("Request: " + _clean(it.ask)).italic = True
+    cells[5].text = ""
+
+
+def _document(doc, r: Report, verbose: bool, when: datetime) -> None:
+    from docx.shared import Cm, Pt
+
+    doc.add_heading("Reporting form", level=0)
+    meta = doc.add_table(rows=0, cols=2)
+    meta.style = "Table Grid"
+    pages = f", {r.pages} pages" if r.pages else ""
+    counts = r.summary
+    for k, v in (
+        ("Document", f"{r.document_path} ({r.document_format}{pages}, {r.words:,} words)"),
+        ("Checklist", f"{r.checklist_title} ({r.checklist_id}, version {r.checklist_version})"),
+        ("Date", when.strftime("%Y-%m-%d")),
+        ("Items", ", ".join(f"{counts[s]} {s}" for s in ROW_ORDER)),
+        ("Checked by", f"studygap {r.tool_version}"),
+    ):
+        cells = meta.add_row().cells
+        cells[0].text = k
+        cells[0].paragraphs[0].runs[0].bold = True
+        cells[1].text = _clean(v)
+    _widths(meta, (4.0, 23.7))
+    doc.add_paragraph(
+        "Please answer each item in the last column: where the manuscript now reports it (section and page), "
+        "or why it does not apply. Items are listed with the gaps first.")
+    for w in r.warnings:
+        doc.add_paragraph("Note: " + _clean(w)).runs[0].italic = True
+
+    table = doc.add_table(rows=1, cols=len(COLUMNS))
+    table.style = "Table Grid"
+    table.autofit = False
+    for cell, name in zip(table.rows[0].cells, COLUMNS):
+        cell.text = name
+        cell.paragraphs[0].runs[0].bold = True
+    _repeat_header(table.rows[0])
+    for status in ROW_ORDER:
+        for it in r.items:
+            if it.status == status:
+                _row(table, it, r, verbose)
+    _widths(table, WIDTHS)
+    for row in table.rows:
+        for cell, w in zip(row.cells, WIDTHS):
+            cell.width = Cm(w)
+            for p in cell.paragraphs:
+                for run in p.runs:
+                    run.font.size = Pt(9)
+
+    if r.findings:
+        doc.add_heading("Findings across items", level=1)
+        for f in r.findings:
+            p = doc.add_paragraph(style="List Bullet")
+            p.add_run(f"{_clean(f.title)} ({f.id}, {f.severity}): ").bold = True
+            p.add_run(_clean(f.message))
+            for ev in f.evidence[: (None if verbose else 3)]:
+                q = doc.add_paragraph()
+                q.paragraph_format.left_indent = Cm(1)
+                _quote_runs(q, ev)
+                q.add_run(f" ({_where(ev, r)})").italic = True
+    doc.add_heading("Please keep in mind", level=1)
+    for c in CAUTIONS:
+        doc.add_paragraph(c, style="List Bullet")
+
+
+def _widths(table, widths_cm) -> None:
+    """Column widths that both Word and LibreOffice honour: on the grid columns and on every cell."""
+    from docx.shared import Cm
+
+    table.autofit = False
+    for col, w in zip(table.columns, widths_cm):
+        col.width = Cm(w)
+    for row in table.rows:
+        for cell, w in zip(row.cells, widths_cm):
+            cell.width = Cm(w)
+
+
+def _repeat_header(row) -> None:
+    """Repeat the header row on every page of a long table."""
+    from docx.oxml import OxmlElement
+    from docx.oxml.ns import qn
+
+    tr_pr = row._tr.get_or_add_trPr()
+    el = OxmlElement("w:tblHeader")
+    el.set(qn("w:val"), "true")
+    tr_pr.append(el)
+
+
+def render(reports: Sequence[Report], options) -> bytes:
+    from docx import Document
+    from docx.enum.section import WD_ORIENT
+    from docx.enum.text import WD_BREAK
+    from docx.shared import Cm
+
+    when = report_date()
+    doc = Document()
+    sec = doc.sections[0]
+    sec.orientation = WD_ORIENT.LANDSCAPE
+    sec.page_width, sec.page_height = Cm(29.7), Cm(21.0)
+    for side in ("left_margin", "right_margin"):
+        setattr(sec, side, Cm(1.0))
+    sec.top_margin = sec.bottom_margin = Cm(1.5)
+    props = doc.core_properties
+    props.title = "studygap reporting form"
+    props.author = props.last_modified_by = "studygap"
+    # fixed dates keep the file the same for the same inputs and SOURCE_DATE_EPOCH
+    props.created = props.modified = when.replace(tzinfo=None)
+    props.revision = 1
+    for i, r in enumerate(reports):
+        if i:
+            doc.add_paragraph().add_run().add_break(WD_BREAK.PAGE)
+        _document(doc, r, options.verbose, when)
+    buf = io.BytesIO()
+    doc.save(buf)
+    return buf.getvalue()

@@ -1,0 +1,170 @@
+"""The Markdown report, for review letters and pull-request comments: summary, items by status, findings, and
+numbered requests to the authors drafted from each gap."""
+
+from __future__ import annotations
+
+import re
+from typing import Sequence
+
+from ..report import CAUTIONS, Evidence, FacetResult, ItemResult, Report
+
+#: the order of sections: what needs the authors' attention first
+SECTIONS = (
+    ("partial", "Partly reported"),
+    ("missing", "Not found"),
+    ("reported", "Reported"),
+    ("not-applicable", "Not applicable"),
+    ("waived", "Waived"),
+)
+COUNT_ORDER = ("partial", "missing", "reported", "not-applicable", "waived")
+
+# Characters that make markup anywhere in a line; escaped with a backslash (CommonMark allows it for any ASCII
+# punctuation). Dots and hyphens are left alone except at the start, so the text stays readable as plain text.
+_SPECIAL = re.compile(r"([\\`*_\[\]<>|~&$])")
+_LINE_START = re.compile(r"^(\d+)([.)])|^([#+\-=>])")
+
+
+def escape(text: str) -> str:
+    """Document text as literal Markdown: markup characters are backslash-escaped, line breaks become spaces."""
+    text = _SPECIAL.sub(r"\\\1", " ".join(text.split()))
+    return _LINE_START.sub(lambda m: f"{m.group(1)}\\{m.group(2)}" if m.group(1) else "\\" + m.group(3), text)
+
+
+def merged_spans(ev: Evidence) -> list[tuple[int, int]]:
+    """Matched spans in order, joined where they overlap or only whitespace lies between them."""
+    out: list[tuple[int, int]] = []
+    for s, e in sorted(ev.matches):
+        s, e = max(0, s), min(len(ev.text), e)
+        if s >= e:
+            continue
+        if out and (s <= out[-1][1] or not ev.text[out[-1][1]:s].strip()):
+            out[-1] = (out[-1][0], max(out[-1][1], e))
+        else:
+            out.append((s, e))
+    return out
+
+
+def quote(ev: Evidence) -> str:
+    """The passage with the matched words in bold, escaped."""
+    text, parts, pos = ev.text, [], 0
+    for s, e in merged_spans(ev):
+        parts.append(_piece(text[pos:s]))
+        parts.append("**" + escape(text[s:e]) + "**")
+        pos = e
+    parts.append(_piece(text[pos:]))
+    return re.sub(r"\s+", " ", "".join(parts)).strip()
+
+
+def _piece(text: str) -> str:
+    """An unmarked stretch between matches: escaped, keeping one space where it had space at either end."""
+    if not text.strip():
+        return " " if text else ""
+    return (" " if text[0].isspace() else "") + escape(text) + (" " if text[-1].isspace() else "")
+
+
+def place(ev: Evidence, r: Report) -> str:
+    return ev.location.describe(r.document_path)
+
+
+def _first_evidence_of(item: ItemResult, facet: FacetResult) -> Evidence | None:
+    for ev in item.evidence:
+        if facet.id in ev.facets:
+            return ev
+    return None
+
+
+def _sentence(text: str) -> str:
+    text = text.strip()
+    return text if text.endswith((".", "?", "!")) else text + "."
+
+
+def request(item: ItemResult, r: Report) -> str:
+    """A polite, specific request for one missing or partial item (plain text, document words escaped)."""
+    ask = _sentence(item.ask) if item.ask else f"Could you add: {item.question}"
+    if item.status == "partial":
+        found = [f for f in item.facets if f.found]
+        lacking = [f for f in item.facets if not f.found]
+        bits = []
+        for f in found:
+            ev = _first_evidence_of(item, f)
+            bits.append(f"{f.title} ({escape(place(ev, r))})" if ev else f.title)
+        head = "the document mentions " + _join(bits) if bits else "part of this is reported"
+        tail = f", but we could not find {_join([f.title for f in lacking])}" if lacking else ""
+        return f"**{escape(item.title)}**: {head}{tail}. {ask}"
+    why = f" ({escape(item.reason)})" if item.reason else ""
+    return f"**{escape(item.title)}**: we could not find this in the document{why}. {ask}"
+
+
+def _join(words: list[str]) -> str:
+    if len(words) <= 1:
+        return "".join(words)
+    return ", ".join(words[:-1]) + " and " + words[-1]
+
+
+def _item_block(item: ItemResult, r: Report, verbose: bool) -> list[str]:
+    out = [f"#### {escape(item.title)} (`{item.id}`)", "", f"*{escape(item.question)}*", ""]
+    if item.status != "reported" or verbose:
+        out += [f"Status: **{item.status}**. {escape(_sentence(item.reason))}" if item.reason
+                else f"Status: **{item.status}**.", ""]
+    else:
+        out += [f"Status: **{item.status}**.", ""]
+    shown = item.evidence if verbose else item.evidence[:2]
+    for ev in shown:
+        out += [f"> {quote(ev)}", f">", f"> — {escape(place(ev, r))}", ""]
+    if item.facts:
+        facts = "; ".join(f"{name} = {', '.join(escape(x.text) for x in fs)}" for name, fs in item.facts)
+        out += [f"Facts: {facts}", ""]
+    return out
+
+
+def render_one(r: Report, verbose: bool = False, level: int = 2) -> str:
+    h = "#" * level
+    out: list[str] = []
+    out += [f"{h} studygap report: {escape(r.document_path)}", ""]
+    bits = [r.document_format]
+    if r.pages:
+        bits.append(f"{r.pages} page{'s' if r.pages != 1 else ''}")
+    bits.append(f"{r.words:,} words")
+    out += [f"- Document: `{r.document_path}` ({', '.join(bits)})",
+            f"- Checklist: {escape(r.checklist_title)} (`{r.checklist_id}`, version {r.checklist_version})"]
+    counts = r.summary
+    out.append("- Items: " + ", ".join(f"{counts[s]} {s}" for s in COUNT_ORDER))
+    if r.findings:
+        out.append(f"- Findings across items: {len(r.findings)}")
+    out.append("")
+    for w in r.warnings:
+        out += [f"Note: {escape(w)}", ""]
+    out += ["Please keep in mind:", ""] + [f"- {c}" for c in CAUTIONS] + [""]
+
+    for status, heading in SECTIONS:
+        items = [it for it in r.items if it.status == status]
+        if not items:
+            continue
+        out += [f"{h}# {heading} ({len(items)})", ""]
+        for it in items:
+            out += _item_block(it, r, verbose)
+
+    if r.findings:
+        out += [f"{h}# Findings across items ({len(r.findings)})", ""]
+        for f in r.findings:
+            out += [f"#### {escape(f.title)} (`{f.id}`, {f.severity})", "", escape(f.message), ""]
+            for ev in f.evidence[: (None if verbose else 3)]:
+                out += [f"> {quote(ev)}", ">", f"> — {escape(place(ev, r))}", ""]
+
+    gaps = [it for it in r.items if it.status in ("partial", "missing")]
+    gaps.sort(key=lambda it: 0 if it.status == "missing" else 1)
+    out += [f"{h}# Requests to the authors", ""]
+    if gaps:
+        out += [f"{n}. {request(it, r)}" for n, it in enumerate(gaps, 1)]
+    else:
+        out.append("Every item of the checklist was found; there is nothing to request from these checks alone.")
+    out.append("")
+    return "\n".join(out)
+
+
+def render(reports: Sequence[Report], options) -> str:
+    if len(reports) == 1:
+        return render_one(reports[0], options.verbose)
+    parts = ["# studygap reports", ""]
+    parts += [render_one(r, options.verbose, level=2) for r in reports]
+    return "\n".join(parts)

@@ -1,0 +1,155 @@
+"""The `studygap screen` command (options and wiring), and the batch options that `audit` shares with it."""
+
+from __future__ import annotations
+
+import argparse
+import os
+import sys
+import time
+from pathlib import Path
+
+from .errors import ExitCode, StudygapError, UsageError
+
+DESCRIPTION = """Check many documents against one checklist and show them side by side: a matrix of documents and
+items, a completeness score per document, and the facts found (annotators, test cases, bootstrap samples...).
+
+A folder is searched (with its sub-folders) for files studygap reads, in sorted order.
+
+Without --checklist, the checklist chosen automatically for the first document is used for all of them, and the
+output says which; name one with --checklist to be sure every document meets the same items.
+
+completeness = (reported + half of partial) / applicable items (not-applicable and waived items are left out).
+Scores are a triage aid for the people who then read the documents, not a decision about any proposal or paper."""
+
+EPILOG = """exit codes: 0 done, 2 usage or checklist error, 3 done but some documents could not be read (their rows
+say why)."""
+
+
+def add_batch_options(p: argparse.ArgumentParser) -> None:
+    p.add_argument("inputs", nargs="+", metavar="DIR|FILE", help="folders to search and documents to check")
+    p.add_argument("--checklist", metavar="ID|PATH", default=None,
+                   help="checklist for every document (default: the one chosen for the first document)")
+    p.add_argument("--jobs", "-j", type=int, default=None, metavar="N",
+                   help="documents checked in parallel on this machine (default: one per CPU)")
+    p.add_argument("--engine", choices=["local", "dask"], default="local",
+                   help="local process pool (default) or a Dask cluster (needs --scheduler)")
+    p.add_argument("--scheduler", metavar="ADDRESS", default=None,
+                   help="address of the Dask scheduler, for example tcp://host:8786")
+    p.add_argument("--send", choices=["path", "bytes"], default="path",
+                   help="give Dask workers the file paths (shared file system) or the documents' bytes (default path)")
+    p.add_argument("-o", "--output", metavar="PATH", help="write the result to this file (atomically)")
+    p.add_argument("--quiet", "-q", action="store_true", help="no progress display")
+
+
+def add_parser(subparsers) -> argparse.ArgumentParser:
+    """Add `screen` to the command line's subparsers."""
+    p = subparsers.add_parser("screen", help="many documents against one checklist, side by side",
+                              description=DESCRIPTION, epilog=EPILOG,
+                              formatter_class=argparse.RawDescriptionHelpFormatter)
+    add_batch_options(p)
+    p.add_argument("--format", "-f", choices=["terminal", "csv", "html", "json"], default="terminal",
+                   help="output format (default terminal)")
+    p.set_defaults(handler=run)
+    return p
+
+
+def collect_inputs(inputs: list[str]) -> list[str]:
+    """Files as given, and each folder's readable documents (sorted); a missing input stays, to become an error row."""
+    from .readers import supported_suffixes
+
+    suffixes = set(supported_suffixes())
+    out: list[str] = []
+    for name in inputs:
+        path = Path(name)
+        if path.is_dir():
+            found = sorted(str(p) for p in path.rglob("*") if p.is_file() and p.suffix.lower() in suffixes
+                           and not any(part.startswith(".") for part in p.relative_to(path).parts))
+            if not found:
+                raise UsageError(f"{name}: no documents found in this folder (studygap reads "
+                                 f"{', '.join(sorted(suffixes))})")
+            out.extend(found)
+        else:
+            out.append(name)
+    return out
+
+
+def resolve_checklist(paths: list[str], checklist: str | None, limits) -> tuple[str, str]:
+    """The checklist for the whole batch and a sentence saying where it came from."""
+    from .batch import check_one
+
+    if checklist:
+        from .checklist import load_checklist
+
+        cl = load_checklist(checklist)  # a broken checklist is refused before any document is read
+        return checklist, f"{cl.id}, named by the user"
+    for p in paths:
+        res = check_one(p, "auto", None, limits)
+        if res.ok:
+            return res.report.checklist_id, (f"{res.report.checklist_id}, chosen for the first document ({p}; "
+                                             f"{res.report.checklist_choice}) and used for all; name one with "
+                                             "--checklist to choose")
+    return "validation-study", "validation-study, the default (no document could be read to choose one)"
+
+
+def run_inputs(args, limits=None):
+    """Resolve inputs and checklist, run the batch with a progress display; (results, note, seconds, paths)."""
+    from .batch import run_batch
+    from .limits import DEFAULT_LIMITS
+
+    limits = limits or DEFAULT_LIMITS
+    if args.jobs is not None and args.jobs < 1:
+        raise UsageError("--jobs must be 1 or more")
+    if args.engine == "dask" and not args.scheduler:
+        raise UsageError("--engine dask needs --scheduler ADDRESS (for example tcp://host:8786)")
+    paths = collect_inputs(args.inputs)
+    started = time.monotonic()
+    checklist, note = resolve_checklist(paths, args.checklist, limits)
+    bar = None
+    progress = None
+    if not args.quiet and sys.stderr.isatty() and len(paths) > 1:
+        from rich.console import Console
+        from rich.progress import Progress
+
+        bar = Progress(console=Console(file=sys.stderr), transient=True)
+        task = bar.add_task("checking documents", total=len(paths))
+
+        def progress(done: int, total: int, document: str) -> None:
+            bar.update(task, completed=done)
+
+        bar.start()
+    try:
+        results = run_batch(paths, checklist, None, limits, jobs=args.jobs, engine=args.engine,
+                            scheduler=args.scheduler, send=args.send, progress=progress)
+    finally:
+        if bar is not None:
+            bar.stop()
+    return results, note, time.monotonic() - started, paths
+
+
+def write_output(text: str, output: str | None, inputs: list[str]) -> None:
+    if output and output != "-":
+        from .output import write_atomic
+
+        write_atomic(Path(output), text, inputs)
+    else:
+        sys.stdout.write(text)
+        sys.stdout.flush()
+
+
+def run(args) -> int:
+    """Run `studygap screen`; returns the exit code."""
+    from .screen import build_screen, render
+
+    try:
+        if getattr(args, "output", None) and os.path.isdir(args.output):
+            raise UsageError(f"{args.output}: is a folder; give a file name for the output")
+        results, note, seconds, paths = run_inputs(args)
+        for r in results:
+            if not r.ok:
+                print(f"studygap: error: {r.error}", file=sys.stderr)
+        screen = build_screen(results, note, seconds)
+        write_output(render(screen, args.format), args.output, paths)
+    except StudygapError as exc:
+        print(exc.line(), file=sys.stderr)
+        return int(ExitCode.ERROR)
+    return int(ExitCode.SOME_INPUTS_FAILED if screen.errors else ExitCode.OK)

@@ -1,0 +1,212 @@
+"""Screening and auditing: the demo documents, and a generated corpus whose reporting rates are known by construction."""
+
+from __future__ import annotations
+
+import argparse
+import csv
+import io
+import json
+import random
+import shutil
+from pathlib import Path
+
+import pytest
+
+from checker import audit_cmd, screen_cmd
+from checker.audit import build_audit, load_meta, plot
+from checker.batch import run_batch
+from checker.screen import build_screen, completeness
+
+DEMO = Path(__file__).resolve().parent.parent / "fixtures" / "demo"
+NO_OUTPUT = ("When a detector produced no output for a patient, the case was counted as a negative prediction "
+             "with a score of zero.")
+
+
+def parse(*argv: str):
+    parser = argparse.ArgumentParser(prog="studygap")
+    sub = parser.add_subparsers(dest="command")
+    screen_cmd.add_parser(sub)
+    audit_cmd.add_parser(sub)
+    return parser.parse_args(list(argv))
+
+
+def methods_part() -> list[str]:
+    """The demo manuscript's title block and its Materials and methods section, as paragraphs."""
+    paras = (DEMO / "wrist-fracture-manuscript.md").read_text(encoding="utf-8").split("\n\n")
+    start = next(i for i, p in enumerate(paras) if p.startswith("## 3 Materials"))
+    end = next(i for i, p in enumerate(paras) if p.startswith("## 4 Results"))
+    return paras[:3] + paras[start:end]
+
+
+def paragraph(paras: list[str], opening: str) -> int:
+    return next(i for i, p in enumerate(paras) if p.startswith(opening))
+
+
+@pytest.fixture(scope="module")
+def corpus(tmp_path_factory):
+    """40 documents; per document a fixed-seed draw decides which paragraphs stay (the expected statuses)."""
+    folder = tmp_path_factory.mktemp("corpus")
+    base = methods_part()
+    annotators = paragraph(base, "Two radiologists independently annotated")  # annotators, fusion, blinding
+    training = paragraph(base, "All four methods were trained on the same")  # external data policy
+    cohort = paragraph(base, "The final cohort comprised")  # counts; without it the split is only partial
+    rng = random.Random(20240611)
+    docs = []
+    for n in range(40):
+        keep = {"annotators": rng.random() < 0.6, "training": rng.random() < 0.45, "cohort": rng.random() < 0.7,
+                "no_output": rng.random() < 0.35}
+        drop = {i for i, key in ((annotators, "annotators"), (training, "training"), (cohort, "cohort"))
+                if not keep[key]}
+        paras = [p for i, p in enumerate(base) if i not in drop] + ([NO_OUTPUT] if keep["no_output"] else [])
+        path = folder / f"doc-{n:02d}.md"
+        path.write_text("\n\n".join(paras) + "\n", encoding="utf-8")
+        docs.append((str(path), keep, 2023 + n % 2))
+    meta = folder / "meta.csv"
+    meta.write_text("file,year,venue\n" + "".join(f"{Path(p).name},{y},Fictional Imaging Letters\n"
+                                                  for p, _, y in docs), encoding="utf-8")
+    return docs, meta
+
+
+@pytest.fixture(scope="module")
+def corpus_results(corpus):
+    docs, _ = corpus
+    return run_batch([p for p, _, _ in docs], "validation-study", jobs=2)
+
+
+def rate_rows(audit, group="all"):
+    return {r.item: r for r in audit.rows if r.group == group}
+
+
+def test_audit_rates_equal_the_rates_built_into_the_corpus(corpus, corpus_results):
+    docs, _ = corpus
+    audit = build_audit(corpus_results, "validation-study, named by the user")
+    rows = rate_rows(audit)
+    n = len(docs)
+    with_annotators = sum(k["annotators"] for _, k, _ in docs)
+    with_training = sum(k["training"] for _, k, _ in docs)
+    with_no_output = sum(k["no_output"] for _, k, _ in docs)
+    without_cohort = sum(not k["cohort"] for _, k, _ in docs)
+    assert 0 < with_annotators < n and 0 < with_training < n and 0 < with_no_output < n and 0 < without_cohort < n
+    assert (rows["reference.annotators"].reported, rows["reference.annotators"].applicable) == (with_annotators, n)
+    assert rows["data.external-policy"].reported == with_training
+    assert rows["results.missing"].reported == with_no_output
+    assert rows["results.missing"].rate == pytest.approx(with_no_output / n)
+    # partial counts as not reported, and has its own rate: the split without the cohort paragraph is partial
+    assert rows["data.split"].partial == without_cohort
+    assert rows["data.split"].reported == n - without_cohort
+    assert rows["data.split"].partial_rate == pytest.approx(without_cohort / n)
+
+
+def test_wilson_intervals_equal_statsmodels(corpus_results):
+    # reference: statsmodels.stats.proportion.proportion_confint(method="wilson"), the registry's implementation
+    from statsmodels.stats.proportion import proportion_confint
+
+    audit = build_audit(corpus_results)
+    checked = 0
+    for r in audit.rows:
+        if not r.applicable:
+            continue
+        low, high = proportion_confint(r.reported, r.applicable, alpha=0.05, method="wilson")
+        # stats.py uses z = 1.96; statsmodels uses the exact normal quantile 1.959964..., a difference below 1e-4
+        assert r.low == pytest.approx(low, abs=1e-4) and r.high == pytest.approx(high, abs=1e-4)
+        checked += 1
+    assert checked >= 20
+
+
+def test_audit_by_metadata_field(corpus, corpus_results):
+    docs, meta_path = corpus
+    fields, meta = load_meta(meta_path)
+    assert fields == ["year", "venue"]
+    audit = build_audit(corpus_results, by="year", meta=meta)
+    for year in (2023, 2024):
+        rows = rate_rows(audit, str(year))
+        expected = sum(k["annotators"] for _, k, y in docs if y == year)
+        assert rows["reference.annotators"].reported == expected
+        assert rows["reference.annotators"].applicable == sum(1 for _, _, y in docs if y == year)
+    assert not audit.unmatched
+
+
+def test_audit_plot_svg_is_deterministic_and_png_is_png(corpus_results, tmp_path):
+    audit = build_audit(corpus_results)
+    first = plot(audit, tmp_path / "rates.svg")
+    assert first == plot(audit, tmp_path / "rates.svg")
+    assert b"<svg" in first and b"reference.annotators" in first
+    assert plot(audit, tmp_path / "rates.png").startswith(b"\x89PNG")
+
+
+def test_audit_command_writes_table_and_plot(corpus, tmp_path, capsys):
+    docs, meta = corpus
+    folder = Path(docs[0][0]).parent
+    out, chart = tmp_path / "rates.csv", tmp_path / "rates.svg"
+    args = parse("audit", str(folder), "--checklist", "validation-study", "--meta", str(meta), "--by", "year",
+                 "--format", "csv", "-o", str(out), "--plot", str(chart), "--jobs", "2", "--quiet")
+    assert audit_cmd.run(args) == 0
+    text = out.read_text(encoding="utf-8")
+    table = [row for row in csv.DictReader(io.StringIO(text)) if not row["group"].startswith("#") and row["item"]]
+    assert {row["group"] for row in table} == {"2023", "2024"}
+    assert "partial counts as not reported" in text and "not a judgement" in text
+    assert chart.read_bytes().startswith(b"<?xml")
+    bad = parse("audit", str(folder), "--meta", str(meta), "--by", "country", "--quiet")
+    assert audit_cmd.run(bad) == 2
+    assert "has no field 'country'" in capsys.readouterr().err
+
+
+@pytest.fixture(scope="module")
+def demo_inputs(tmp_path_factory):
+    folder = tmp_path_factory.mktemp("screen")
+    shutil.copy(DEMO / "wrist-fracture-manuscript.md", folder / "a-manuscript.md")
+    # a file name with markup in it must come out escaped in HTML
+    shutil.copy(DEMO / "kidney-stone-benchmark-proposal.md", folder / "b-<b>&proposal.md")
+    (folder / "c-saved-page.pdf").write_text("<html><body>Sign in to read</body></html>", encoding="utf-8")
+    return folder
+
+
+def test_screen_matrix_scores_and_error_row(demo_inputs, tmp_path, capsys):
+    out = tmp_path / "screen.json"
+    args = parse("screen", str(demo_inputs), "--format", "json", "-o", str(out), "--jobs", "2", "--quiet")
+    assert screen_cmd.run(args) == 3  # one input could not be read
+    data = json.loads(out.read_text(encoding="utf-8"))
+    assert "c-saved-page.pdf" in capsys.readouterr().err
+    docs = data["documents"]
+    assert [Path(d["path"]).name for d in docs] == ["a-manuscript.md", "b-<b>&proposal.md", "c-saved-page.pdf"]
+    assert "HTML" in docs[2]["error"]
+    # no --checklist: the first document's choice is used for all, and the output says so
+    assert data["checklist"]["id"] == "validation-study" and "first document" in data["checklist"]["choice"]
+    ids = [i["id"] for i in data["items"]]
+    for d in docs[:2]:
+        assert list(d["statuses"]) == ids
+        statuses = list(d["statuses"].values())
+        applicable = [s for s in statuses if s in ("reported", "partial", "missing")]
+        by_hand = (statuses.count("reported") + statuses.count("partial") / 2) / len(applicable)
+        assert d["completeness"] == pytest.approx(by_hand, abs=1e-4)
+    assert docs[0]["facts"]["annotators"].startswith("2")
+    assert data["summary"] == {"documents": 3, "errors": 1}
+    assert "half of partial" in data["score"] and any("triage aid" in c for c in data["cautions"])
+    # the same inputs give the same bytes (no timing in JSON), serially too
+    again = tmp_path / "again.json"
+    assert screen_cmd.run(parse("screen", str(demo_inputs), "-f", "json", "-o", str(again), "-j", "1", "-q")) == 3
+    assert again.read_bytes() == out.read_bytes()
+
+
+def test_screen_csv_html_terminal_carry_notes(demo_inputs, tmp_path, capsys):
+    results = run_batch(sorted(str(p) for p in demo_inputs.iterdir()), "validation-study", jobs=1)
+    screen = build_screen(results, "validation-study, named by the user", seconds=1.5)
+    from checker.screen import render
+
+    text = render(screen, "csv")
+    rows = list(csv.reader(io.StringIO(text)))
+    header = rows[0]
+    assert header[:3] == ["path", "error", "completeness (partial counts half)"]
+    assert "reference.annotators" in header and "fact: annotators" in header
+    assert rows[3][1].startswith(str(demo_inputs / "c-saved-page.pdf"))
+    page = render(screen, "html")
+    assert "b-&lt;b&gt;&amp;proposal.md" in page and "<b>&proposal" not in page
+    assert "<script>" in page and 'id="filter"' in page and "half of partial" in page and "triage aid" in page
+    term = render(screen, "terminal")
+    assert "half of partial" in term and "triage aid" in term and "1.5 s" in term
+    assert "venue's own reporting requirements govern" in term
+
+
+def test_completeness_counts_partial_half():
+    assert completeness(["reported", "partial", "missing", "not-applicable", "waived"]) == pytest.approx(0.5)
+    assert completeness(["not-applicable"]) is None
