@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import re
 from dataclasses import dataclass, field
+from functools import lru_cache
 from importlib import resources
 from pathlib import Path
 from typing import Any
@@ -163,8 +164,11 @@ class _TooManyAliases(Exception):
 
 
 class _Problems:
-    def __init__(self, file: str) -> None:
+    def __init__(self, file: str, compile_regexes: bool = True) -> None:
         self.file = file
+        #: compiling is the only full check of a regex, and the slow part of loading; built-in checklists are
+        #: compiled by the test-suite, so at run time theirs are compiled when first needed
+        self.compile_regexes = compile_regexes
         self.items: list[tuple[int, int, str]] = []
 
     def add(self, node: _Node | None, path: str, message: str) -> None:
@@ -248,14 +252,22 @@ def _texts(p: _Problems, node: _Node | None, path: str) -> tuple[str, ...]:
 _CATASTROPHIC = re.compile(r"\((?:[^()\\]|\\.)*(?<!\\)[+*](?:[^()\\]|\\.)*\)(?:[+*]|\{\d+,\})")
 
 
-def _check_regex(p: _Problems, node: _Node, path: str, pattern: str) -> str | None:
+@lru_cache(maxsize=8192)
+def compile_regex(pattern: str):
+    """A checklist regex with its macros expanded, compiled once per process (validation and matching share it)."""
     import regex
 
     from .facts import expand_macros
 
-    expanded = expand_macros(pattern)
+    return regex.compile(expand_macros(pattern), regex.IGNORECASE | regex.V0)
+
+
+def _check_regex(p: _Problems, node: _Node, path: str, pattern: str) -> str | None:
+    import regex
+
     try:
-        regex.compile(expanded, regex.IGNORECASE | regex.V0)
+        if p.compile_regexes:
+            compile_regex(pattern)
     except regex.error as exc:
         p.add(node, path, f"not a valid regular expression: {exc}")
         return None
@@ -465,11 +477,11 @@ def _item(p: _Problems, node: _Node, path: str, groups: set[str]) -> Item | None
     )
 
 
-def parse_checklist(text: str, file: str) -> Checklist:
+def parse_checklist(text: str, file: str, *, compile_regexes: bool = True) -> Checklist:
     """Validate and build a checklist from YAML text; raise ChecklistError with every problem located."""
-    p = _Problems(file)
+    p = _Problems(file, compile_regexes)
     try:
-        root_node = yaml.compose(text, Loader=yaml.SafeLoader)
+        root_node = yaml.compose(text, Loader=getattr(yaml, "CSafeLoader", yaml.SafeLoader))  # libyaml when built
     except yaml.MarkedYAMLError as exc:
         mark = exc.problem_mark or exc.context_mark
         line, col = (mark.line + 1, mark.column + 1) if mark else (1, 1)
@@ -553,8 +565,11 @@ def builtin_ids() -> list[str]:
     return sorted(p.name[:-5] for p in root.iterdir() if p.name.endswith(".yaml") and p.name not in NOT_CHECKLISTS)
 
 
-def load_checklist(ref: str | Path) -> Checklist:
-    """A built-in checklist by id, or a checklist file by path."""
+def load_checklist(ref: str | Path, *, strict: bool = False) -> Checklist:
+    """A built-in checklist by id, or a checklist file by path.
+
+    ``strict`` compiles every regex of a built-in checklist too (a user's file always gets that).
+    """
     ref_s = str(ref)
     path = Path(ref_s)
     if path.suffix.lower() in {".yaml", ".yml"} or path.exists():
@@ -572,14 +587,14 @@ def load_checklist(ref: str | Path) -> Checklist:
         raise UsageError(f"no built-in checklist {ref_s!r}; built-in checklists are {', '.join(ids)}, "
                          "or give the path of a YAML file")
     res = resources.files("checker.checklists") / f"{ref_s}.yaml"
-    return _cached(res.read_text(encoding="utf-8"), f"checklists/{ref_s}.yaml")
+    return _cached(res.read_text(encoding="utf-8"), f"checklists/{ref_s}.yaml", builtin=not strict)
 
 
-_CACHE: dict[tuple[str, str], Checklist] = {}
+_CACHE: dict[tuple[str, str, bool], Checklist] = {}
 
 
-def _cached(text: str, file: str) -> Checklist:
-    key = (file, text)
+def _cached(text: str, file: str, builtin: bool = False) -> Checklist:
+    key = (file, text, builtin)
     if key not in _CACHE:
-        _CACHE[key] = parse_checklist(text, file)
+        _CACHE[key] = parse_checklist(text, file, compile_regexes=not builtin)
     return _CACHE[key]

@@ -191,7 +191,7 @@ def cmd_checklists(args) -> int:
     problems: list[str] = []
     for p in args.paths:
         try:
-            cl = load_checklist(p)
+            cl = load_checklist(p, strict=True)
             print(f"{p}: valid ({len(cl.items)} items)")
         except StudygapError as exc:
             problems.extend(getattr(exc, "problems", [str(exc)]))

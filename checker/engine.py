@@ -39,19 +39,46 @@ def ignore_sections(document: Document, headings: tuple[str, ...]) -> Document:
     return dataclasses.replace(document, blocks=blocks)
 
 
-def choose_checklist(docs_text: list, nlp=None) -> tuple[str, str]:
+@lru_cache(maxsize=8)
+def _choice_matcher(cid: str):
+    """A matcher of one built-in checklist's `choose_when` cues (its other cues are not needed to choose)."""
+    from spacy.matcher import PhraseMatcher
+
+    from .nlp import pipeline
+
+    from spacy.matcher import Matcher
+
+    from .matching import _variants
+
+    nlp = pipeline()
+    cues = load_checklist(cid).choose_when
+    if not cues.phrases and not cues.patterns:
+        return None
+    matchers = []
+    if cues.phrases:
+        texts = sorted({v for p in cues.phrases for v in _variants(p)})
+        m = PhraseMatcher(nlp.vocab, attr="LEMMA")
+        m.add("choose", list(nlp.pipe(texts)))
+        matchers.append(m)
+    if cues.patterns:
+        t = Matcher(nlp.vocab)
+        t.add("choose", [list(p) for p in cues.patterns])
+        matchers.append(t)
+    return lambda doc: [hit for m in matchers for hit in m(doc)]
+
+
+def choose_checklist(docs: list, nlp=None) -> tuple[str, str]:  # noqa: ARG001 - nlp kept for callers
     """The built-in checklist whose `choose_when` cues the document uses most, and a sentence saying why."""
     scores = []
     for cid in builtin_ids():
-        compiled = compiled_for(cid)
-        if not compiled.checklist.choose_when:
+        matcher = _choice_matcher(cid)
+        if matcher is None:
             continue
         found: dict[str, int] = {}
-        for doc in docs_text:
-            for mkey, s, e in compiled._match_doc(doc):
-                if mkey == "choose":
-                    word = doc[s:e].text.lower()
-                    found[word] = found.get(word, 0) + 1
+        for doc in docs:
+            for _mid, s, e in matcher(doc):
+                word = doc[s:e].text.lower()
+                found[word] = found.get(word, 0) + 1
         scores.append((sum(min(n, 3) for n in found.values()), len(found), cid, found))
     if not scores:
         return "validation-study", "validation-study: the default checklist"

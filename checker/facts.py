@@ -36,6 +36,7 @@ def _alt(words: list[str]) -> str:
     return "|".join(sorted(words, key=len, reverse=True))
 
 
+_B100_SHORT = _alt(_ONES + _TENS)
 _B100 = rf"\b(?:(?:{_alt(_TENS)})(?:[-\u2010\u2011 ](?:{_alt(_ONES[1:10])}))?|{_alt(_ONES)})\b"
 # one linear pass, so that "one hundred and twenty" is never matched again for each larger scale
 _LEAD = rf"(?:{_B100}|\ba(?=\s+(?:hundred|thousand|million)\b))"
@@ -44,11 +45,19 @@ _AND = r"(?:,?\s+(?:and\s+)?)"
 _WORDS = (rf"(?i:\ba\s+single\b|(?:(?:{_B100}|\ba)\s+)?dozen\b|{_H}(?:\s+million\b(?:{_AND}{_H}"
           rf"(?:\s+thousand\b(?:{_AND}{_H})?)?)?|\s+thousand\b(?:{_AND}{_H})?)?)")
 
+# The same language for checklist regexes, written compactly: checklists hold hundreds of regexes, and the
+# precise grammar above costs tens of milliseconds to compile each time it is spliced in. This form accepts any
+# run of number words (parse_number decides the value, and says None for nonsense such as "one one").
+_NUMBER_WORD = _alt(_ONES + _TENS + ["hundred", "thousand", "million", "billion"])
+_WORD_GAP = r"(?:(?<=hundred|thousand|million|billion),?\s+and\s+|,?\s+|[-\u2010\u2011])"
+_WORDS_COMPACT = (rf"(?i:\ba\s+single\b|(?:\b(?:{_B100_SHORT})\s+|\ba\s+)?dozen\b"
+                  rf"|\b(?:a\s+(?=(?:hundred|thousand|million)\b))?(?:{_NUMBER_WORD})(?:{_WORD_GAP}(?:{_NUMBER_WORD}))*\b)")
+
 _DSCALE = rf"{_DIGITS}(?:\.\d+)?{_SP}+(?:thousand|million|billion)\b"
 _KFORM = r"\d+(?:\.\d+)?k(?![a-z])"
 
 #: a count in digits or words: "3", "1,000", "12 000", "three", "Twenty-five", "one hundred and twenty", "a single"
-NUMBER = rf"(?i:(?<![\d.,])(?:{_DSCALE}|{_KFORM}|{_DIGITS})(?![.,]?\d)|{_WORDS})"
+NUMBER = rf"(?i:(?<![\d.,])(?:{_DSCALE}|{_KFORM}|{_DIGITS})(?![.,]?\d)|{_WORDS_COMPACT})"
 
 #: a number with an optional decimal part and sign (also the unicode minus): "2", "-0.5", "−3", "1,000.25", ".5"
 DECIMAL = rf"(?:(?:(?<![\w.,])[-+\u2212]{_SP}?)?(?<![\d.,])(?:{_DIGITS}(?:\.\d+)?|\.\d+)(?![.,]?\d))"
@@ -64,7 +73,7 @@ UNIT = (
 )
 
 #: a percentage: "12%", "12 %", "12.5 percent", "twelve per cent"
-PERCENT = rf"(?:(?:{DECIMAL}|{_WORDS}){_SP}?(?:%|(?i:per{_SP}?cent|percent|pct)\b))"
+PERCENT = rf"(?:(?:{DECIMAL}|{_WORDS_COMPACT}){_SP}?(?:%|(?i:per{_SP}?cent|percent|pct)\b))"
 
 MACROS: dict[str, str] = {"NUMBER": NUMBER, "DECIMAL": DECIMAL, "UNIT": UNIT, "PERCENT": PERCENT}
 

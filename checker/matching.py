@@ -8,11 +8,12 @@ for, so one pass serves every item.
 from __future__ import annotations
 
 import re
+from bisect import bisect_left
 import time
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, Iterable
 
-from .checklist import Checklist, Cues
+from .checklist import Checklist, Cues, compile_regex
 from .document import Document, Sentence
 from .errors import StudygapError
 
@@ -94,10 +95,8 @@ class CompiledChecklist:
     """A checklist's cues compiled for one spaCy pipeline; build once, scan many documents."""
 
     def __init__(self, checklist: Checklist, nlp=None) -> None:
-        import regex
         from spacy.matcher import Matcher, PhraseMatcher
 
-        from .facts import expand_macros
         from .nlp import pipeline
 
         self.checklist = checklist
@@ -123,11 +122,10 @@ class CompiledChecklist:
             texts = sorted({v for p in phrases for v in _variants(p)})
             self.lemma_matcher.add(k, list(self.nlp.pipe(texts)))
             self.lower_matcher.add(k, [self.nlp.make_doc(t) for t in texts])
-        flags = regex.IGNORECASE | regex.V0
-        self._compiled = [(k, regex.compile(expand_macros(src), flags), src) for k, src in self._regex_sources]
-        self.regexes = self._compiled
+        # compiled when a document first needs them (see _scan_regexes)
+        self._compiled = [(k, src) for k, src in self._regex_sources]
         # a regex can only match where its literal words occur: sentences without them are skipped
-        self._prefilter = [_required_words(src) for _, _, src in self._compiled]
+        self._prefilter = [_required_words(src) for _, src in self._compiled]
         self._matchers = [m for m in (self.lemma_matcher, self.lower_matcher, self.token_matcher) if len(m)]
 
     _regex_sources: list[tuple[str, str]]
@@ -167,14 +165,16 @@ class CompiledChecklist:
                 current_doc = doc
                 matches = self._match_doc(doc)
                 token_sent = []
-                doc_matches = matches
+                # sorted by start (stable, so hits keep their order) and bisected per sentence: a block of
+                # thousands of sentences must not cost sentences x matches
+                doc_matches = sorted(matches, key=lambda m: m[1])
+                match_starts = [m[1] for m in doc_matches]
             # token matches whose start lies in this sentence
-            for mkey, ms, me in doc_matches:
-                if tstart <= ms < tend:
-                    span = doc[ms:min(me, tend)]
-                    hits.setdefault(mkey, []).append(
-                        Hit(si, span.start_char - sent.start, span.end_char - sent.start)
-                    )
+            for mkey, ms, me in doc_matches[bisect_left(match_starts, tstart):bisect_left(match_starts, tend)]:
+                span = doc[ms:min(me, tend)]
+                hits.setdefault(mkey, []).append(
+                    Hit(si, span.start_char - sent.start, span.end_char - sent.start)
+                )
         self._scan_regexes(sentences, hits, regex_seconds, document.path)
         for v in hits.values():
             v.sort(key=lambda h: (h.sentence, h.start, h.end))
@@ -194,7 +194,14 @@ class CompiledChecklist:
         import regex
 
         lowered = [s.text.lower() for s in sentences]
-        for (k, rx, src), need in zip(self._compiled, self._prefilter):
+        whole = "\n".join(lowered)
+        for (k, src), need in zip(self._compiled, self._prefilter):
+            if need and not any(w in whole for w in need):
+                continue  # its word occurs nowhere: no need even to compile it
+            try:
+                rx = compile_regex(src)
+            except regex.error as exc:
+                raise StudygapError(f"{self.checklist.path}: checklist regex {src!r} is not valid: {exc}") from None
             started = time.monotonic()
             for si, s in enumerate(sentences):
                 if need and not any(w in lowered[si] for w in need):
@@ -215,8 +222,6 @@ class CompiledChecklist:
                         f"{path}: the checklist regex {src!r} took longer than {seconds:g} s "
                         "(it backtracks too much on this text; simplify it, or raise --regex-seconds)"
                     ) from None
-                except regex.error as exc:  # pragma: no cover - validated at load time
-                    raise StudygapError(f"checklist regex {src!r} failed: {exc}") from None
 
 
 def _dedupe(hits: list[Hit]) -> list[Hit]:
