@@ -10,6 +10,12 @@ from typing import Sequence
 from .errors import UsageError
 
 
+def _umask() -> int:
+    mask = os.umask(0)
+    os.umask(mask)
+    return mask
+
+
 def write_atomic(target: Path, data: str | bytes, inputs: Sequence[str | Path] = ()) -> None:
     """Write data to target so that a reader sees either the old file or the whole new one, never a half."""
     folder = target.parent if str(target.parent) else Path(".")
@@ -31,6 +37,8 @@ def write_atomic(target: Path, data: str | bytes, inputs: Sequence[str | Path] =
             fh.write(payload)
             fh.flush()
             os.fsync(fh.fileno())
+        # mkstemp makes the file private; a report gets the mode a plain new file would have (or the old one's)
+        os.chmod(tmp, target.stat().st_mode & 0o777 if target.exists() else 0o666 & ~_umask())
         os.replace(tmp, target)
     except BaseException:
         try:

@@ -67,3 +67,15 @@ def test_output_never_overwrites_an_input_and_needs_an_existing_folder(tmp_path)
     assert doc.read_text() == "# Title\n"
     with pytest.raises(UsageError, match="does not exist"):
         write_atomic(tmp_path / "missing" / "out.json", "x")
+
+
+def test_a_written_report_is_readable_like_any_new_file(tmp_path):
+    import os
+    import stat
+
+    old = os.umask(0o022)
+    try:
+        write_atomic(tmp_path / "report.html", "<p>x</p>")
+    finally:
+        os.umask(old)
+    assert stat.S_IMODE((tmp_path / "report.html").stat().st_mode) == 0o644

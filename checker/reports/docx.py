@@ -5,8 +5,8 @@ from __future__ import annotations
 
 import io
 import os
+from collections.abc import Sequence
 from datetime import datetime, timezone
-from typing import Sequence
 
 from ..report import CAUTIONS, Evidence, ItemResult, Report
 

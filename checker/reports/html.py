@@ -5,10 +5,10 @@ from __future__ import annotations
 
 import base64
 import hashlib
+from collections.abc import Sequence
 from html import escape
-from typing import Sequence
 
-from ..report import CAUTIONS, STATUS_ORDER, Evidence, ItemResult, Report
+from ..report import CAUTIONS, Evidence, ItemResult, Report
 
 #: status -> (heading word, short sign shown beside the word); the word is always written out
 LABELS = {
@@ -62,7 +62,7 @@ blockquote p{margin:0}
 mark{background:var(--mark);color:inherit;padding:0 .1em;border-radius:.15em}
 .facts{font-size:.9rem;color:var(--soft);margin:.35rem 0 0}
 .ask{margin:.5rem 0 0;font-size:.95rem}
-.finding{border-left-color:var(--ink)}
+.finding{--c:var(--ink)}
 .s-reported{--c:var(--reported)}.s-partial{--c:var(--partial)}.s-missing{--c:var(--missing)}
 .s-not-applicable{--c:var(--not-applicable)}.s-waived{--c:var(--waived)}
 [hidden]{display:none!important}
@@ -132,10 +132,10 @@ def _status(status: str) -> str:
 
 
 def _item(it: ItemResult, r: Report, verbose: bool) -> str:
-    parts = [f'<article class="item s-{e(it.status)}" data-status="{e(it.status)}" data-group="{e(it.group)}" '
-             f'id="{e(_anchor(r, it.id))}">',
-             f"<header>{_status(it.status)}<h3>{e(it.title)}</h3>"
-             f'<span class="id">{e(it.id)}</span><span class="group">{e(r.group_title(it.group))}</span></header>',
+    parts = [(f'<article class="item s-{e(it.status)}" data-status="{e(it.status)}" data-group="{e(it.group)}" '
+              f'id="{e(_anchor(r, it.id))}">'),
+             (f"<header>{_status(it.status)}<h3>{e(it.title)}</h3>"
+              f'<span class="id">{e(it.id)}</span><span class="group">{e(r.group_title(it.group))}</span></header>'),
              f'<p class="question">{e(it.question)}</p>']
     if it.reason and (it.status != "reported" or verbose):
         parts.append(f'<p class="reason"><strong>Why this status:</strong> {e(it.reason)}</p>')
@@ -165,8 +165,8 @@ def _document(r: Report, verbose: bool, filters: str = "") -> str:
     out = [f'<section class="doc" id="{e(_anchor(r, "doc"))}">', '<div class="band">',
            f"<h1>{e(r.document_path)}</h1>",
            f'<p class="meta">{e(", ".join(bits))}</p>',
-           f'<p class="meta">Checklist: {e(r.checklist_title)} ({e(r.checklist_id)}, version '
-           f"{e(r.checklist_version)})</p>",
+           (f'<p class="meta">Checklist: {e(r.checklist_title)} ({e(r.checklist_id)}, version '
+            f"{e(r.checklist_version)})</p>"),
            '<ul class="counts">']
     for s in LIST_ORDER:
         out.append(f'<li class="s-{s}"><b>{counts[s]}</b> {e(LABELS[s][0].lower())}</li>')

@@ -4,7 +4,7 @@ are located by line, not by character)."""
 
 from __future__ import annotations
 
-from typing import Sequence
+from collections.abc import Sequence
 
 from ..document import Location
 from ..report import Evidence, Report

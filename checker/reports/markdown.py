@@ -4,7 +4,7 @@ numbered requests to the authors drafted from each gap."""
 from __future__ import annotations
 
 import re
-from typing import Sequence
+from collections.abc import Sequence
 
 from ..report import CAUTIONS, Evidence, FacetResult, ItemResult, Report
 
@@ -91,7 +91,7 @@ def request(item: ItemResult, r: Report) -> str:
         head = "the document mentions " + _join(bits) if bits else "part of this is reported"
         tail = f", but we could not find {_join([f.title for f in lacking])}" if lacking else ""
         return f"**{escape(item.title)}**: {head}{tail}. {ask}"
-    why = f" ({escape(item.reason)})" if item.reason else ""
+    why = f" — {escape(item.reason)}" if item.reason else ""
     return f"**{escape(item.title)}**: we could not find this in the document{why}. {ask}"
 
 
@@ -108,9 +108,10 @@ def _item_block(item: ItemResult, r: Report, verbose: bool) -> list[str]:
                 else f"Status: **{item.status}**.", ""]
     else:
         out += [f"Status: **{item.status}**.", ""]
-    shown = item.evidence if verbose else item.evidence[:2]
+    # gaps show two passages (what was found, for the authors to extend), reported items their best one
+    shown = item.evidence if verbose else item.evidence[: 1 if item.status == "reported" else 2]
     for ev in shown:
-        out += [f"> {quote(ev)}", f">", f"> — {escape(place(ev, r))}", ""]
+        out += [f"> {quote(ev)}", ">", f"> — {escape(place(ev, r))}", ""]
     if item.facts:
         facts = "; ".join(f"{name} = {', '.join(escape(x.text) for x in fs)}" for name, fs in item.facts)
         out += [f"Facts: {facts}", ""]
@@ -125,7 +126,7 @@ def render_one(r: Report, verbose: bool = False, level: int = 2) -> str:
     if r.pages:
         bits.append(f"{r.pages} page{'s' if r.pages != 1 else ''}")
     bits.append(f"{r.words:,} words")
-    out += [f"- Document: `{r.document_path}` ({', '.join(bits)})",
+    out += [f"- Document: {escape(r.document_path)} ({', '.join(bits)})",
             f"- Checklist: {escape(r.checklist_title)} (`{r.checklist_id}`, version {r.checklist_version})"]
     counts = r.summary
     out.append("- Items: " + ", ".join(f"{counts[s]} {s}" for s in COUNT_ORDER))
