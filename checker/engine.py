@@ -121,13 +121,9 @@ def check_document(
 
 def build_report(document: Document, checklist: Checklist, items, choice: str, warnings: tuple[str, ...],
                  *, scan=None, config: Config | None = None) -> Report:
-    findings: tuple = ()
-    try:
-        from .rules import run_rules  # cross-item rules, where present
-    except ImportError:
-        run_rules = None
-    if run_rules is not None and scan is not None:
-        findings = tuple(run_rules(scan, items, checklist, config or Config()))
+    from .rules import run_rules
+
+    findings = tuple(run_rules(scan, items, checklist, config or Config())) if scan is not None else ()
     return Report(
         tool_version=__version__,
         document_path=document.path,

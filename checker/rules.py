@@ -373,9 +373,17 @@ class CompiledRules:
         return {k: Hits({si: tuple(sorted(spans)) for si, spans in v.items()}) for k, v in found.items()}
 
 
-@lru_cache(maxsize=8)
+_COMPILED: dict[int, tuple[RuleSet, CompiledRules]] = {}
+
+
 def compiled_rules(ruleset: RuleSet) -> CompiledRules:
-    return CompiledRules(ruleset)
+    """The rule set's cues compiled once per process (by identity: token patterns hold dicts, not hashable)."""
+    entry = _COMPILED.get(id(ruleset))
+    if entry is None or entry[0] is not ruleset:
+        if len(_COMPILED) >= 8:
+            _COMPILED.clear()
+        entry = _COMPILED[id(ruleset)] = (ruleset, CompiledRules(ruleset))
+    return entry[1]
 
 
 # ---------------------------------------------------------------------------------------------- evaluation helpers
@@ -426,8 +434,12 @@ def _fill(template: str, values: dict[str, object]) -> str:
 
 
 def _words_of(scan: "Scan", si: int, spans: Iterable[tuple[int, int]]) -> list[str]:
+    """The matched words, leaving out a match inside a longer one ("surface distance" in "normalised surface
+    distance")."""
     t = scan.sentences[si].text
-    return [" ".join(t[s:e].split()) for s, e in spans]
+    spans = list(spans)
+    outer = [(s, e) for s, e in spans if not any(a <= s and e <= b and (a, b) != (s, e) for a, b in spans)]
+    return [" ".join(t[s:e].split()) for s, e in sorted(outer)]
 
 
 def _distinct(words: Iterable[str], limit: int = 3) -> str:
@@ -1303,6 +1315,7 @@ def check_split_percentages(scan: "Scan", rule: Rule, ctx: RunContext) -> list[F
     """Percentages next to counts, and split ratios, that the counts do not give."""
     nums = ctx.numbers
     findings: list[Finding] = []
+    mismatches: list[tuple[int, str, list[tuple[int, int]], Statement | None]] = []
     by_split: dict[str, list[Statement]] = {}
     for st in nums.statements:
         if st.quantity == "cases" and st.split:
@@ -1342,18 +1355,25 @@ def check_split_percentages(scan: "Scan", rule: Rule, ctx: RunContext) -> list[F
             continue
         base, base_text, base_st = bases[0]
         computed = 100 * sh.count / base
-        evidence = [_evidence(scan, sh.sentence, [(sh.start, sh.end)], "share")]
-        if base_st is not None and base_st.sentence != sh.sentence:
-            evidence.append(_statement_evidence(scan, base_st, "count"))
-        msg = _fill(rule.message, {
-            "share": f"{_fmt_pct(sh.percent, sh.decimals)}",
-            "what": f"{sh.count:,}",
-            "where": _where(sent.location),
-            "computed": f"{computed:.{max(1, sh.decimals)}f}%",
-            "base": base_text,
-        })
-        findings.append(_finding(rule, msg, evidence))
-    findings += _ratio_findings(scan, rule, nums, by_split)
+        wrong = (f"{_fmt_pct(sh.percent, sh.decimals)} for {sh.count:,}, but {base_text} is "
+                 f"{computed:.{max(1, sh.decimals)}f}%")
+        spans = [(sh.start, sh.end)]
+        extra = base_st if base_st is not None and base_st.sentence != sh.sentence else None
+        mismatches.append((sh.sentence, wrong, spans, extra))
+    mismatches += _ratio_mismatches(scan, nums, by_split)
+    # one finding per sentence, however many of its percentages disagree
+    by_sentence: dict[int, list[tuple[int, str, list[tuple[int, int]], Statement | None]]] = {}
+    for m in mismatches:
+        by_sentence.setdefault(m[0], []).append(m)
+    for si in sorted(by_sentence):
+        ms = by_sentence[si]
+        evidence = [_evidence(scan, si, [sp for m in ms for sp in m[2]], "share")]
+        for _, _, _, st in ms:
+            if st is not None and all(e.text != scan.sentences[st.sentence].text.strip() for e in evidence):
+                evidence.append(_statement_evidence(scan, st, "count"))
+        msg = _fill(rule.message, {"where": _where(scan.sentences[si].location),
+                                   "mismatches": "; ".join(m[1] for m in ms)})
+        findings.append(_finding(rule, msg, evidence[:MAX_EVIDENCE]))
     return findings
 
 
@@ -1361,13 +1381,13 @@ def _fmt_pct(p: float, decimals: int) -> str:
     return f"{p:.{decimals}f}%"
 
 
-def _ratio_findings(scan: "Scan", rule: Rule, nums: DocumentNumbers,
-                    by_split: dict[str, list[Statement]]) -> list[Finding]:
-    findings = []
+def _ratio_mismatches(scan: "Scan", nums: DocumentNumbers, by_split: dict[str, list[Statement]]
+                      ) -> list[tuple[int, str, list[tuple[int, int]], Statement | None]]:
+    out = []
     for r in nums.ratios:
         units = sorted({s.unit for sp in r.splits for s in by_split.get(sp, [])})
-        checked = False
-        fits = False
+        stated_total = sum(r.parts)
+        checked = fits = False
         shown: tuple[Statement, ...] | None = None
         for unit in units:
             options = [[s for s in _distinct_values(by_split.get(sp, [])) if s.unit == unit] for sp in r.splits]
@@ -1379,8 +1399,7 @@ def _ratio_findings(scan: "Scan", rule: Rule, nums: DocumentNumbers,
                     continue
                 checked = True
                 shown = shown or combo
-                stated_total = sum(r.parts)
-                # a ratio in whole percent holds within one point; "7:1:2" within half a unit of the ratio;
+                # a ratio in whole percent holds within one point, "7:1:2" within half a unit of the ratio;
                 # both also within one case, since splits are made of whole patients
                 tol = (1.0 if r.percent else 50.0 / stated_total) + 100.0 / total + 1e-9
                 if all(abs(100 * s.value / total - 100 * p / stated_total) <= tol for s, p in zip(combo, r.parts)):
@@ -1391,24 +1410,13 @@ def _ratio_findings(scan: "Scan", rule: Rule, nums: DocumentNumbers,
         if not checked or fits or shown is None:
             continue
         total = sum(s.value for s in shown)
-        stated_total = sum(r.parts)
-        sent = scan.sentences[r.sentence]
-        share = "/".join(_trim_num(p) for p in r.parts) + (" (%)" if r.percent else "")
-        computed = "/".join(f"{100 * s.value / total:.1f}" for s in shown) + " %"
-        evidence = [_evidence(scan, r.sentence, [(r.start, r.end)], "ratio")]
-        for s in shown:
-            if s.sentence != r.sentence and all(e.text != scan.sentences[s.sentence].text.strip() for e in evidence):
-                evidence.append(_statement_evidence(scan, s, "count"))
-        msg = _fill(rule.message, {
-            "share": f"A split of {share}",
-            "what": " / ".join(r.splits),
-            "where": _where(sent.location),
-            "computed": computed,
-            "base": " + ".join(f"{s.value:,} {s.split}" for s in shown),
-        })
-        del stated_total
-        findings.append(_finding(rule, msg, evidence[:MAX_EVIDENCE]))
-    return findings
+        share = "/".join(_trim_num(p) for p in r.parts) + ("%" if r.percent else "")
+        computed = "/".join(f"{100 * s.value / total:.1f}" for s in shown) + "%"
+        parts = " + ".join(f"{s.value:,} {s.split}" for s in shown)
+        wrong = f"a {share} split of {' / '.join(r.splits)}, but {parts} is {computed}"
+        away = next((s for s in shown if s.sentence != r.sentence), None)
+        out.append((r.sentence, wrong, [(r.start, r.end)], away))
+    return out
 
 
 def _trim_num(v: float) -> str:
@@ -1419,7 +1427,7 @@ CHECKS: dict[str, Check] = {
     "consistency-counts": Check(check_counts, frozenset({"quantity", "first", "first_where", "second",
                                                          "second_where", "values"})),
     "split-sums": Check(check_split_sums, frozenset({"sum", "unit", "parts", "total", "total_where"})),
-    "split-percentages": Check(check_split_percentages, frozenset({"share", "what", "where", "computed", "base"})),
+    "split-percentages": Check(check_split_percentages, frozenset({"where", "mismatches"})),
 }
 
 
