@@ -106,16 +106,15 @@ def load_meta(path: str | Path) -> tuple[list[str], dict[str, dict[str, str]]]:
     return header[1:], rows
 
 
-def meta_for(path: str, meta: dict[str, dict[str, str]]) -> dict[str, str] | None:
-    """The metadata row for a document: by the path as given, its normalised form, or its file name."""
+def meta_for(path: str, meta: dict[str, dict[str, str]],
+             resolved: dict[str, dict[str, str]] | None = None) -> dict[str, str] | None:
+    """The metadata row for a document: by the path as given, its normalised form, its absolute form or its name."""
     for key in (path, str(Path(path)), Path(path).name):
         if key in meta:
             return meta[key]
-    resolved = str(Path(path).resolve())
-    for key, row in meta.items():
-        if str(Path(key).resolve()) == resolved:
-            return row
-    return None
+    if resolved is None:
+        resolved = {str(Path(k).resolve()): row for k, row in meta.items()}
+    return resolved.get(str(Path(path).resolve()))
 
 
 def build_audit(results: Sequence[BatchResult], checklist_note: str = "", *, by: str | None = None,
@@ -125,11 +124,12 @@ def build_audit(results: Sequence[BatchResult], checklist_note: str = "", *, by:
     items = [(it.id, it.title) for it in first.items] if first else []
     groups: dict[str, list] = {}
     unmatched = []
+    absolute = {str(Path(k).resolve()): row for k, row in (meta or {}).items()} if by else {}
     for res in ok:
         if by is None:
             key = ALL
         else:
-            row = meta_for(res.path, meta or {})
+            row = meta_for(res.path, meta or {}, absolute)
             if row is None:
                 unmatched.append(res.path)
                 key = "(no metadata)"
@@ -204,13 +204,10 @@ def render_csv(audit: Audit) -> str:
     wr.writerow(COLUMNS)
     for r in audit.rows:
         wr.writerow(_cells(r))
-    wr.writerow([])
-    wr.writerow([f"# {RATE_NOTE}"])
-    wr.writerow([f"# {_summary(audit, False)}"])
-    for path, err in audit.errors:
-        wr.writerow([f"# error: {err}"])
-    for c in CAUTIONS:
-        wr.writerow([f"# {c}"])
+    # bare lines (not quoted cells), so that comment='#' in pandas and similar readers skips them
+    buf.write("\n")
+    for line in (RATE_NOTE, _summary(audit, False), *(f"error: {err}" for _p, err in audit.errors), *CAUTIONS):
+        buf.write("# " + " ".join(line.split()) + "\n")
     return buf.getvalue()
 
 
@@ -246,7 +243,10 @@ def plot(audit: Audit, target: str | Path) -> bytes:
     suffix = Path(target).suffix.lower()
     if suffix not in (".png", ".svg"):
         raise UsageError(f"{target}: the plot is written as .png or .svg")
-    import matplotlib
+    try:
+        import matplotlib
+    except ImportError:
+        raise UsageError("drawing the plot needs matplotlib: pip install 'studygap[plot]'") from None
 
     matplotlib.use("Agg")
     import matplotlib.pyplot as plt

@@ -41,15 +41,18 @@ class BatchResult:
 def warm(checklist: str = "auto") -> None:
     """Build this process's spaCy pipeline and compiled checklists once, before the first document arrives."""
     from .checklist import builtin_ids
-    from .engine import AUTO, compiled_for
+    from .engine import AUTO, check_text, compiled_for
     from .nlp import pipeline
 
     pipeline()
     # a broken checklist is reported per document by check_one; warming must not kill the worker
     try:
-        for ref in (builtin_ids() if checklist == AUTO else [checklist]):
+        refs = builtin_ids() if checklist == AUTO else [checklist]
+        for ref in refs:
             compiled_for(ref)
-    except StudygapError:
+        # one tiny document builds what the first real one would otherwise build (rule patterns, caches)
+        check_text("Two readers annotated 10 cases.", refs[0])
+    except Exception:  # noqa: BLE001 - warming is an optimisation; check_one reports real problems per document
         pass
 
 
@@ -164,10 +167,14 @@ def run_batch(
 
 def _run_pool(names: list[str], checklist: str, config: Config, limits: Limits, jobs: int,
               progress: Progress | None) -> list[BatchResult]:
+    import multiprocessing
     from concurrent.futures import ProcessPoolExecutor, as_completed
     from concurrent.futures.process import BrokenProcessPool
 
     results: list[BatchResult | None] = [None] * len(names)
+    if multiprocessing.get_start_method() == "fork":
+        # forked workers share what this process has built (copy-on-write), so build it once here
+        warm(checklist)
     with ProcessPoolExecutor(max_workers=jobs, initializer=warm, initargs=(checklist,)) as pool:
         futures = {pool.submit(check_one, p, checklist, config, limits): i for i, p in enumerate(names)}
         for done, fut in enumerate(as_completed(futures), start=1):

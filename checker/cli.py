@@ -76,8 +76,11 @@ def build_parser() -> argparse.ArgumentParser:
     o.add_argument("-o", "--output", metavar="PATH")
     _limits_options(o)
 
-    from . import evaluate_cmd
+    from . import audit_cmd, compare_cmd, evaluate_cmd, screen_cmd
 
+    screen_cmd.add_parser(sub)
+    audit_cmd.add_parser(sub)
+    compare_cmd.add_parser(sub)
     evaluate_cmd.add_parser(sub)
 
     k = sub.add_parser("checklists", help="list, show and validate checklists")
@@ -212,6 +215,8 @@ def main(argv: Sequence[str] | None = None) -> int:
             return int(cmd_check(args))
         if args.command == "outline":
             return int(cmd_outline(args))
+        if args.command in ("screen", "audit", "compare"):
+            return int(args.handler(args))
         if args.command == "evaluate":
             from . import evaluate_cmd
 

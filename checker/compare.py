@@ -224,7 +224,7 @@ def render_terminal(comp: Comparison, markdown: bool = False) -> str:
                 w(("  - " if markdown else "      ") + f"to ask: {it.ask}\n")
     w("\n")
     for c in CAUTIONS:
-        w((f"> {c}\n" if markdown else f"Note: {c}\n"))
+        w(f"> {c}\n" if markdown else f"Note: {c}\n")
     return out.getvalue()
 
 

@@ -203,12 +203,11 @@ def render_csv(screen: Screen) -> str:
     for row in screen.rows:
         writer.writerow(_cells(screen, row))
     # trailing lines start with '#', so spreadsheet imports (and pandas comment='#') can skip them
-    writer.writerow([])
-    writer.writerow([f"# checklist {screen.checklist_id}: {screen.checklist_note}"])
-    writer.writerow([f"# {SCORE_NOTE}"])
-    writer.writerow([f"# {_summary_line(screen, False)}"])
-    for c in CAUTIONS:
-        writer.writerow([f"# {c}"])
+    # written as bare lines (not quoted cells) so that comment='#' in pandas and similar readers skips them
+    buf.write("\n")
+    for line in (f"checklist {screen.checklist_id}: {screen.checklist_note}", SCORE_NOTE,
+                 _summary_line(screen, False), *CAUTIONS):
+        buf.write(f"# {line}\n")
     return buf.getvalue()
 
 
@@ -223,8 +222,8 @@ document.querySelectorAll('table.sortable th').forEach(function (th, col) {
     var rows = Array.prototype.slice.call(body.rows);
     var up = th.dataset.dir !== 'up'; th.dataset.dir = up ? 'up' : 'down';
     rows.sort(function (a, b) {
-      var x = a.cells[col].dataset.key || a.cells[col].textContent;
-      var y = b.cells[col].dataset.key || b.cells[col].textContent;
+      var ca = a.cells[col], cb = b.cells[col];  // error rows have fewer cells
+      var x = ca ? (ca.dataset.key || ca.textContent) : '', y = cb ? (cb.dataset.key || cb.textContent) : '';
       var nx = parseFloat(x), ny = parseFloat(y);
       var c = (!isNaN(nx) && !isNaN(ny)) ? nx - ny : x.localeCompare(y);
       return up ? c : -c;
@@ -272,12 +271,20 @@ def render_html(screen: Screen) -> str:
             tds.append(f"<td{cls}{key}>{e(c)}</td>")
         rows.append("<tr>" + "".join(tds) + "</tr>")
     notes = "".join(f"<p class=\"note\">{e(c)}</p>" for c in CAUTIONS)
+    share_head = "".join(f"<th>{e(c)}</th>" for c in ("item", "title", *STATUS_ORDER, "reported share"))
+    share_rows = "".join(
+        "<tr>" + "".join(f"<td>{e(str(c))}</td>" for c in (s["id"], s["title"], *(s[k] for k in STATUS_ORDER),
+                                                            _pct(s["reported_share"]))) + "</tr>"
+        for s in screen.item_shares())
     body = (f"<h1>Screening: {e(screen.checklist_id)}</h1><p>{e(screen.checklist_title)}. Checklist: "
             f"{e(screen.checklist_note)}</p>"
             f"<p><label>Filter rows: <input id=\"filter\" type=\"search\" placeholder=\"words in a row\"></label> "
             f"Click a column heading to sort.</p>"
             f"<table class=\"sortable\"><thead><tr>{head}</tr></thead><tbody>{''.join(rows)}</tbody></table>"
-            f"<p class=\"note\">{e(SCORE_NOTE)}.</p><p>{e(_summary_line(screen, True))}.</p>{notes}")
+            f"<p class=\"note\">{e(SCORE_NOTE)}.</p>"
+            f"<h2>Items across the documents</h2><table class=\"sortable\"><thead><tr>{share_head}</tr></thead>"
+            f"<tbody>{share_rows}</tbody></table>"
+            f"<p>{e(_summary_line(screen, True))}.</p>{notes}")
     return html_page(f"studygap screening: {screen.checklist_id}", body)
 
 

@@ -13,7 +13,8 @@ from .errors import ExitCode, StudygapError, UsageError
 DESCRIPTION = """Check many documents against one checklist and show them side by side: a matrix of documents and
 items, a completeness score per document, and the facts found (annotators, test cases, bootstrap samples...).
 
-A folder is searched (with its sub-folders) for files studygap reads, in sorted order.
+A folder is searched (with its sub-folders) for files studygap reads, in sorted order; LaTeX files without
+\\documentclass are taken as parts of a main file there and not checked on their own.
 
 Without --checklist, the checklist chosen automatically for the first document is used for all of them, and the
 output says which; name one with --checklist to be sure every document meets the same items.
@@ -39,6 +40,9 @@ def add_batch_options(p: argparse.ArgumentParser) -> None:
                    help="give Dask workers the file paths (shared file system) or the documents' bytes (default path)")
     p.add_argument("-o", "--output", metavar="PATH", help="write the result to this file (atomically)")
     p.add_argument("--quiet", "-q", action="store_true", help="no progress display")
+    from .cli import _limits_options
+
+    _limits_options(p)
 
 
 def add_parser(subparsers) -> argparse.ArgumentParser:
@@ -64,6 +68,7 @@ def collect_inputs(inputs: list[str]) -> list[str]:
         if path.is_dir():
             found = sorted(str(p) for p in path.rglob("*") if p.is_file() and p.suffix.lower() in suffixes
                            and not any(part.startswith(".") for part in p.relative_to(path).parts))
+            found = _without_latex_parts(found)
             if not found:
                 raise UsageError(f"{name}: no documents found in this folder (studygap reads "
                                  f"{', '.join(sorted(suffixes))})")
@@ -71,6 +76,25 @@ def collect_inputs(inputs: list[str]) -> list[str]:
         else:
             out.append(name)
     return out
+
+
+def _without_latex_parts(paths: list[str]) -> list[str]:
+    """Leave out LaTeX files without \\documentclass when the folder has a main file: they are its \\input parts."""
+    tex = [p for p in paths if Path(p).suffix.lower() in (".tex", ".latex")]
+    if not tex:
+        return paths
+    parts = set()
+    for p in tex:
+        try:
+            with open(p, "rb") as fh:
+                head = fh.read(65536)
+        except OSError:
+            continue  # kept: it becomes an error row with its reason
+        if b"\\documentclass" not in head:
+            parts.add(p)
+    if len(parts) == len(tex):
+        return paths  # no main file: every .tex file is a document of its own
+    return [p for p in paths if p not in parts]
 
 
 def resolve_checklist(paths: list[str], checklist: str | None, limits) -> tuple[str, str]:
@@ -94,9 +118,9 @@ def resolve_checklist(paths: list[str], checklist: str | None, limits) -> tuple[
 def run_inputs(args, limits=None):
     """Resolve inputs and checklist, run the batch with a progress display; (results, note, seconds, paths)."""
     from .batch import run_batch
-    from .limits import DEFAULT_LIMITS
+    from .cli import _limits
 
-    limits = limits or DEFAULT_LIMITS
+    limits = limits or _limits(args)
     if args.jobs is not None and args.jobs < 1:
         raise UsageError("--jobs must be 1 or more")
     if args.engine == "dask" and not args.scheduler:

@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import ast
+import importlib.util
 from pathlib import Path
 
 import pytest
@@ -26,3 +28,16 @@ def nlp():
     from checker.nlp import pipeline
 
     return pipeline()
+
+
+def medmnist_info() -> dict:
+    """INFO from medmnist/info.py (the dataset descriptions medmnist ships), read with ast: medmnist itself is
+    never imported, since it would pull in PyTorch."""
+    spec = importlib.util.find_spec("medmnist")
+    if spec is None or spec.origin is None:
+        pytest.skip("medmnist is not installed (pip install --no-deps medmnist)")
+    tree = ast.parse((Path(spec.origin).parent / "info.py").read_text(encoding="utf-8"))
+    for node in tree.body:
+        if isinstance(node, ast.Assign) and any(getattr(t, "id", None) == "INFO" for t in node.targets):
+            return ast.literal_eval(node.value)
+    pytest.fail("medmnist/info.py holds no INFO literal in this version")

@@ -55,11 +55,6 @@ def test_local_pool_equals_serial_byte_for_byte(serial, batch_paths):
     assert sorted(p for _, _, p in seen) == sorted(batch_paths)
 
 
-def test_auto_checklist_per_document_in_a_batch(batch_paths):
-    results = run_batch([batch_paths[0], batch_paths[2]], jobs=1)
-    assert [r.report.checklist_id for r in results] == ["validation-study", "benchmark-proposal"]
-
-
 def test_bad_engine_and_jobs_are_usage_errors(batch_paths):
     from checker.errors import UsageError
 

@@ -13,6 +13,8 @@ import regex
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
+
+from .conftest import medmnist_info
 from checker.facts import (
     DECIMAL,
     MACROS,
@@ -402,16 +404,6 @@ def test_facts_are_sorted_do_not_overlap_within_a_kind_and_serialise_determinist
 
 # --- real text: medmnist's bundled dataset descriptions ------------------------------------------------------
 
-def _medmnist_info() -> dict:
-    # source: the medmnist package's medmnist/info.py (INFO dict), read as text: importing medmnist needs torch
-    spec = importlib.util.find_spec("medmnist")
-    if spec is None or spec.origin is None:
-        pytest.skip("medmnist is not installed (pip install --no-deps medmnist)")
-    tree = ast.parse((Path(spec.origin).parent / "info.py").read_text(encoding="utf-8"))
-    for node in tree.body:
-        if isinstance(node, ast.Assign) and any(getattr(t, "id", None) == "INFO" for t in node.targets):
-            return ast.literal_eval(node.value)
-    pytest.skip("medmnist/info.py holds no INFO literal in this version")
 
 
 # Read by hand (medmnist 3.0.2): nine descriptions state the total number of samples, as images (chest, derma,
@@ -427,7 +419,7 @@ STATES_TOTAL = {
 
 
 def test_medmnist_totals_in_descriptions_agree_with_n_samples():
-    info = _medmnist_info()
+    info = medmnist_info()
     agreeing = {}
     for name, entry in info.items():
         total = sum(entry["n_samples"].values())
@@ -441,7 +433,7 @@ def test_medmnist_totals_in_descriptions_agree_with_n_samples():
 
 
 def test_medmnist_parts_splits_and_other_units():
-    info = _medmnist_info()
+    info = medmnist_info()
     by_name = {name: extract_facts(entry["description"]) for name, entry in info.items()}
 
     def nouns(name: str, noun: str) -> list:
@@ -468,7 +460,7 @@ def test_medmnist_parts_splits_and_other_units():
 
 
 def test_medmnist_stated_ratios_match_the_shipped_split_sizes():
-    info = _medmnist_info()
+    info = medmnist_info()
     checked = 0
     for name, entry in info.items():
         n = entry["n_samples"]

@@ -16,7 +16,7 @@ from checker.engine import check_document, check_text
 from checker.errors import ChecklistError, UsageError
 from checker.rules import CHECKS, load_rules, parse_rules
 
-from .conftest import DEMO
+from .conftest import DEMO, medmnist_info
 
 RULES = load_rules()
 CHECKLIST = "validation-study"
@@ -204,16 +204,6 @@ def test_kidney_proposal_shows_its_site_conflict_and_its_tolerance_pitfall():
 # ---------------------------------------------------------------------------------------------- outside check
 
 
-def _medmnist_info() -> dict:
-    """INFO from medmnist/info.py, read with ast: medmnist is never imported (it would pull in PyTorch)."""
-    spec = importlib.util.find_spec("medmnist")
-    if spec is None or spec.origin is None:
-        pytest.skip("medmnist is not installed (pip install --no-deps medmnist)")
-    tree = ast.parse((Path(spec.origin).parent / "info.py").read_text(encoding="utf-8"))
-    for node in tree.body:
-        if isinstance(node, ast.Assign) and any(getattr(t, "id", None) == "INFO" for t in node.targets):
-            return ast.literal_eval(node.value)
-    pytest.fail("medmnist/info.py has no INFO")
 
 
 def _with_splits(info: dict, test_delta: int = 0) -> str:
@@ -226,7 +216,7 @@ def _with_splits(info: dict, test_delta: int = 0) -> str:
 # Source: the dataset descriptions and n_samples that the medmnist package (MedMNIST v2/v3) ships in
 # medmnist/info.py. Where a description states a total, medmnist's split sizes add up to it.
 def test_split_sums_agree_with_the_medmnist_descriptions():
-    info = _medmnist_info()
+    info = medmnist_info()
     stating_total = [k for k, v in info.items() if f"{sum(v['n_samples'].values()):,}" in v["description"]]
     assert len(stating_total) >= 5
     for flag, v in info.items():
@@ -239,7 +229,7 @@ def test_split_sums_agree_with_the_medmnist_descriptions():
 
 
 def test_split_sum_reads_a_medmnist_description_that_states_both():
-    info = _medmnist_info()
+    info = medmnist_info()
     own = [v["description"] for v in info.values()
            if re.search(r"\d/\d", v["description"]) and f"{sum(v['n_samples'].values()):,}" in v["description"]]
     if not own:
@@ -253,7 +243,7 @@ def test_split_sum_reads_a_medmnist_description_that_states_both():
 
 # Source: as above; the ratios ("7:1:2", "9:1") that medmnist's descriptions state for its splits.
 def test_split_ratios_agree_with_the_medmnist_descriptions():
-    info = _medmnist_info()
+    info = medmnist_info()
     checked = 0
     for flag, v in info.items():
         m = re.search(r"ratio of (\d+(?::\d+)+)", v["description"])

@@ -1,0 +1,100 @@
+"""Comparing two versions of a document: what a revision fixed, what it lost, where passages went."""
+
+from __future__ import annotations
+
+import argparse
+import json
+from pathlib import Path
+
+import pytest
+
+from checker import compare_cmd
+from checker.compare import align, change_kind, compare_documents, render
+
+DEMO = Path(__file__).resolve().parent.parent / "fixtures" / "demo"
+ANNOTATION = "Two radiologists independently annotated"
+NO_OUTPUT = ("When a detector produced no output for a patient, the case was counted as a negative prediction "
+             "with a score of zero.")
+
+
+@pytest.fixture(scope="module")
+def versions(tmp_path_factory):
+    """The demo manuscript without its annotation paragraph (old), and the revision that has it back and adds a
+    sentence on missing outputs (new)."""
+    folder = tmp_path_factory.mktemp("versions")
+    text = (DEMO / "wrist-fracture-manuscript.md").read_text(encoding="utf-8")
+    paras = text.split("\n\n")
+    old = "\n\n".join(p for p in paras if not p.startswith(ANNOTATION))
+    new = text.replace("and our own evaluation scripts.", "and our own evaluation scripts. " + NO_OUTPUT)
+    old_path, new_path = folder / "draft-1.md", folder / "draft-2.md"
+    old_path.write_text(old, encoding="utf-8")
+    new_path.write_text(new, encoding="utf-8")
+    return str(old_path), str(new_path)
+
+
+@pytest.fixture(scope="module")
+def comparison(versions):
+    return compare_documents(*versions, checklist="validation-study")
+
+
+def test_revision_fixes_are_newly_reported(comparison):
+    by = {it.id: it for it in comparison.items}
+    annotators = by["reference.annotators"]
+    assert (annotators.old_status, annotators.new_status, annotators.kind) == ("missing", "reported",
+                                                                                "newly-reported")
+    assert any(p.change == "added" and p.new.text.startswith(ANNOTATION) for p in annotators.passages)
+    missing = by["results.missing"]
+    assert missing.kind == "newly-reported"
+    assert any(p.change == "added" and "no output" in p.new.text for p in missing.passages)
+    assert by["ranking.uncertainty"].kind == "still-missing"
+    assert by["data.source"].kind == "unchanged"
+
+
+def test_reverse_direction_shows_losses(versions):
+    back = compare_documents(versions[1], versions[0], checklist="validation-study")
+    by = {it.id: it for it in back.items}
+    assert by["reference.annotators"].kind == "lost"
+    assert any(p.change == "removed" for p in by["reference.annotators"].passages)
+    assert back.counts()["lost"] >= 2
+
+
+def test_change_kinds():
+    assert change_kind("partial", "reported") == "improved"
+    assert change_kind("missing", "partial") == "newly-partial"
+    assert change_kind("partial", "missing") == "worse"
+    assert change_kind("reported", "partial") == "lost"
+    assert change_kind("missing", "not-applicable") == "applicability-changed"
+
+
+def test_passages_aligned_by_wording():
+    from checker.document import Location
+    from checker.report import Evidence
+
+    a = Evidence("Two radiologists annotated every scan of the test set.", Location("x", line=4, section=("Data",)), 1)
+    b = Evidence("Two radiologists annotated every scan of the test set.", Location("x", line=9,
+                                                                                    section=("Reference",)), 1)
+    c = Evidence("Two experienced radiologists annotated each scan of the test set.", Location("x", line=9), 1)
+    d = Evidence("The code is available on request.", Location("x", line=30), 1)
+    assert [p.change for p in align((a,), (b,))] == ["moved"]
+    assert [p.change for p in align((a,), (c,))] == ["reworded"]
+    assert [p.change for p in align((a,), (d,))] == ["added", "removed"]
+
+
+def test_formats_and_command(versions, comparison, tmp_path):
+    data = json.loads(render(comparison, "json"))
+    assert data["summary"]["newly-reported"] >= 2 and data["checklist"]["id"] == "validation-study"
+    assert render(comparison, "json") == render(comparison, "json")
+    md = render(comparison, "markdown")
+    assert md.startswith("# What changed") and "**reference.annotators**" in md and "> " in md
+    term = render(comparison, "terminal")
+    assert "newly reported" in term and "still missing" in term and "to ask:" in term
+
+    parser = argparse.ArgumentParser(prog="studygap")
+    compare_cmd.add_parser(parser.add_subparsers(dest="command"))
+    out = tmp_path / "changes.md"
+    args = parser.parse_args(["compare", *versions, "--checklist", "validation-study", "-f", "markdown",
+                              "-o", str(out)])
+    assert compare_cmd.run(args) == 0
+    assert "reference.annotators" in out.read_text(encoding="utf-8")
+    missing = parser.parse_args(["compare", versions[0], str(tmp_path / "nope.md"), "--checklist", "validation-study"])
+    assert compare_cmd.run(missing) == 2
