@@ -28,6 +28,8 @@ def _limits_options(p: argparse.ArgumentParser) -> None:
                    help="largest uncompressed size of a DOCX's parts (default 200 MB)")
     g.add_argument("--regex-seconds", type=float, default=None, metavar="S",
                    help="time bound for one checklist regex over one document (default 2)")
+    g.add_argument("--seconds", type=float, default=None, metavar="S",
+                   help="time bound for checking one document; over it, the document is an error (default 300)")
 
 
 def _limits(args):
@@ -35,7 +37,7 @@ def _limits(args):
 
     from .limits import DEFAULT_LIMITS
 
-    changes = {k: getattr(args, k) for k in ("max_bytes", "max_pages", "max_inflated_bytes", "regex_seconds")
+    changes = {k: getattr(args, k) for k in ("max_bytes", "max_pages", "max_inflated_bytes", "regex_seconds", "seconds")
                if getattr(args, k, None) is not None}
     for k, v in changes.items():
         if v <= 0:
@@ -148,6 +150,11 @@ def cmd_check(args) -> int:
                 print(exc.line(), file=sys.stderr)
             if progress is not None:
                 progress.advance(task)
+    except KeyboardInterrupt:
+        done = len(reports) + len(errors)
+        print(f"studygap: interrupted after {done} of {len(args.files)} document{'s' if len(args.files) != 1 else ''}"
+              "; no output was written", file=sys.stderr)
+        return ExitCode.INTERRUPTED
     finally:
         if progress is not None:
             progress.stop()

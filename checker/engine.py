@@ -99,7 +99,14 @@ def check_document(
     from .nlp import parse_blocks
     from .readers import read_document
 
+    from .limits import time_limit
+
     config = config or Config()
+    with time_limit(path, limits.seconds):
+        return _check(path, checklist, config, limits, read_document, parse_blocks)
+
+
+def _check(path, checklist, config, limits, read_document, parse_blocks) -> Report:
     document = read_document(path, limits)
     document = ignore_sections(document, config.ignore_sections)
     docs = list(parse_blocks(b.text for b in document.blocks))

@@ -2,7 +2,14 @@
 
 from __future__ import annotations
 
+import signal
+import threading
+from collections.abc import Iterator
+from contextlib import contextmanager
 from dataclasses import dataclass
+from pathlib import Path
+
+from .errors import InputError
 
 
 @dataclass(frozen=True)
@@ -16,3 +23,40 @@ class Limits:
 
 
 DEFAULT_LIMITS = Limits()
+
+
+class _Expired(BaseException):
+    """Raised by the alarm; a BaseException so that readers' broad ``except Exception`` cannot swallow it."""
+
+
+@contextmanager
+def time_limit(path: str | Path, seconds: float) -> Iterator[None]:
+    """Stop the work inside with an InputError for path once it has taken `seconds` of wall time.
+
+    Uses SIGALRM, so it bounds only in the main thread on POSIX (elsewhere it does nothing); inside an outer
+    time_limit it leaves the outer bound in charge.
+    """
+    usable = (seconds > 0 and hasattr(signal, "setitimer")
+              and threading.current_thread() is threading.main_thread()
+              and signal.getitimer(signal.ITIMER_REAL)[0] == 0)
+    if not usable:
+        yield
+        return
+
+    armed = [True]
+
+    def expired(signum, frame):
+        if armed[0]:  # once the work is over, a late alarm must not raise in the clean-up
+            raise _Expired
+
+    previous = signal.signal(signal.SIGALRM, expired)
+    signal.setitimer(signal.ITIMER_REAL, seconds)
+    try:
+        yield
+    except _Expired:
+        raise InputError(path, f"checking it took longer than {seconds:g} s",
+                         "raise --seconds if the file is genuine") from None
+    finally:
+        armed[0] = False
+        signal.setitimer(signal.ITIMER_REAL, 0)
+        signal.signal(signal.SIGALRM, previous)

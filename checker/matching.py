@@ -8,8 +8,8 @@ for, so one pass serves every item.
 from __future__ import annotations
 
 import re
-from bisect import bisect_left
 import time
+from bisect import bisect_left
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, Iterable
 

@@ -71,29 +71,32 @@ def _starts_sentence(tok) -> bool:
 
 
 def _scientific_sentences(doc: "Doc") -> "Doc":
-    """Mark sentence starts: after final punctuation (and closers) when the next token opens a sentence."""
+    """Mark sentence starts: after final punctuation (and closers) when the next token opens a sentence.
+
+    The marks are collected in a list and set in one call: setting ``is_sent_start`` token by token makes
+    spaCy rescan the document each time, which is quadratic on a long block.
+    """
+    import numpy
+    from spacy.attrs import SENT_START
+
     n = len(doc)
     if n == 0:
         return doc
-    doc[0].is_sent_start = True
+    starts = [-1] * n
+    starts[0] = 1
     i = 0
     while i < n:
         if _is_final(doc, i):
-            if i > 0:
-                doc[i].is_sent_start = False
             j = i + 1
             while j < n and (doc[j].text in _FINAL or doc[j].text in _CLOSERS):
                 j += 1
             j = _skip_citation(doc, j)
-            for k in range(i + 1, j):
-                doc[k].is_sent_start = False
             if j < n:
-                doc[j].is_sent_start = _starts_sentence(doc[j]) and bool(doc[j - 1].whitespace_)
+                starts[j] = 1 if _starts_sentence(doc[j]) and bool(doc[j - 1].whitespace_) else -1
             i = j + 1
             continue
-        if i > 0:
-            doc[i].is_sent_start = False
         i += 1
+    doc.from_array([SENT_START], numpy.array(starts, dtype="int32").reshape(n, 1).astype("uint64"))
     return doc
 
 

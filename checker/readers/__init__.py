@@ -101,17 +101,21 @@ def read_document(path: str | Path, limits: Limits = DEFAULT_LIMITS, *, fmt: str
     fmt = fmt or format_for(path)
     data = read_bytes(path, limits)
     if not data.strip():
-        raise InputError(path, "the file is empty", "nothing to check")
+        cause = "the file is empty" if not data else "the file is empty: it holds only blank space"
+        raise InputError(path, cause, "nothing to check; is it the right file?")
     module = reader_module(fmt)
     problem = module.sniff(data[:4096], path)
     if problem:
         raise InputError(path, problem)
     try:
         parsed: Parsed = module.read(path, data, limits)
-    except InputError:
+    except InputError as exc:
+        # a cause may quote a library's message; what users see must stay one line
+        exc.cause, exc.hint = " ".join(exc.cause.split()), " ".join(exc.hint.split())
         raise
     except RecursionError:
-        raise InputError(path, f"the {fmt} structure is nested too deeply to read") from None
+        raise InputError(path, f"the {fmt} structure is nested too deeply to read",
+                         "flatten its nesting, or save it in another format") from None
     except MemoryError:
         raise InputError(path, "reading it needed more memory than allowed") from None
     if len(parsed.blocks) > limits.max_blocks:

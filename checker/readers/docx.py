@@ -445,7 +445,8 @@ def read(path: Path, data: bytes, limits: Limits) -> Parsed:
             cause = "a Word file of a kind that cannot be read (a template or a macro-enabled document?)"
         raise InputError(path, cause, "save it as a plain .docx") from None
     except etree.XMLSyntaxError as exc:
-        raise InputError(path, f"the DOCX holds damaged XML ({exc.msg})",
+        detail = " ".join(str(exc.msg).split())  # lxml's messages may hold line breaks; ours are one line
+        raise InputError(path, f"the DOCX holds damaged XML ({detail})",
                          "open it in a word processor and save it again") from None
     except (OpcError, NotImplementedError, RuntimeError) + _DAMAGED:
         raise InputError(path, "the DOCX is damaged or truncated",
