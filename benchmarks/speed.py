@@ -39,17 +39,22 @@ def make_manuscript(pages: int, columns: int) -> Path:
     text = DEMO.read_text(encoding="utf-8")
     head, _, rest = text.partition("\n## 1 Introduction")
     body, _, refs = ("## 1 Introduction" + rest).partition("\n## References")
-    per_copy = 4 if columns == 2 else 7  # pages one copy of the body fills, measured on the renderer
-    copies = max(1, round(pages / per_copy))
-    parts = [head]
-    for i in range(copies):
-        # vary the numbers so that each copy reads as another part of a long report
-        parts.append(re.sub(r"^(#+) ", lambda m: f"{m.group(1)} Part {i + 1}: ", body, flags=re.M))
-    parts.append("\n## References" + refs)
-    src = OUT / f"manuscript-{pages}p-{columns}col.md"
-    src.write_text("\n".join(parts), encoding="utf-8")
     render = _render()
-    render.render(src, pdf=target, columns=columns)
+
+    def build(copies: int) -> int:
+        parts = [head]
+        for i in range(copies):
+            # number the headings so that each copy reads as another part of a long report
+            parts.append(re.sub(r"^(#+) ", lambda m: f"{m.group(1)} Part {i + 1}: ", body, flags=re.M))
+        parts.append("\n## References" + refs)
+        src = OUT / f"manuscript-{pages}p-{columns}col.md"
+        src.write_text("\n".join(parts), encoding="utf-8")
+        render.render(src, pdf=target, columns=columns)
+        return pages_of(target)
+
+    per_copy = max(1, build(2) - build(1))  # pages one more copy of the body adds
+    first = build(1)
+    build(max(1, 1 + round((pages - first) / per_copy)))
     return target
 
 
