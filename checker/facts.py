@@ -507,7 +507,7 @@ _LABELS = (
     r"version|ver|v|release|rev|revision|patient|case|subject|participant|slice|layer|epoch|iteration|visit|"
     r"session|run|trial|site|centre|center|hospital|scanner|dataset|part|unit|module|block|panel|row|column|col|"
     r"supplementary|suppl|formula|cohort|python|pytorch|tensorflow|matlab|cuda|ubuntu|windows|java|opencv|keras|"
-    r"numpy|itk|slicer|isbi|miccai|bi-rads|pi-rads|birads|pirads|gleason|isup|grade|tnm|icd|model|option|question|"
+    r"numpy|itk|slicer|bi-rads|pi-rads|birads|pirads|gleason|isup|grade|tnm|icd|model|option|question|"
     r"rule|criterion|day|week|month|year"
 )
 _LABEL_BEFORE = _back(rf"(?:^|[^\p{{L}}\p{{N}}])(?:{_LABELS})\.?\s*\(?\s*(?:\d+\s*(?:,|and|&|or|[-–])\s*)*$")

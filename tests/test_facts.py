@@ -450,7 +450,7 @@ def test_medmnist_parts_splits_and_other_units():
         assert nouns(name, "scan") == [115, 16, 70], name
     assert nouns("vesselmnist3d", "segment") == [1694, 215]
     assert nouns("synapsemnist3d", "expert") == [3]
-    # no dimension ("3×28×28"), glued name ("HAM10000", "NIH-ChestXray14") or "5-level" grade becomes a count
+    # no dimension ("3×28×28"), glued name ("HAM10000", "ABC-ChestXray14") or "5-level" grade becomes a count
     for name, found in by_name.items():
         for f in found:
             if f.kind == "count":

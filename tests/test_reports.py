@@ -251,7 +251,7 @@ def test_pre_commit_hook_runs_the_lines_format():
 
 # ---- real renderings: a headless browser and an office suite, where installed ----
 
-CHROMIUM = next((shutil.which(n) for n in ("chromium", "chromium-browser", "google-chrome") if shutil.which(n)), None)
+CHROMIUM = next((shutil.which(n) for n in ("chromium", "chromium-browser") if shutil.which(n)), None)
 SOFFICE = shutil.which("libreoffice") or shutil.which("soffice")
 
 

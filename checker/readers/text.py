@@ -24,7 +24,7 @@ SUFFIXES = (".txt", ".text", ".rst")
 _MAGIC: tuple[tuple[bytes, str], ...] = (
     (b"%PDF-", "a PDF"),
     (b"PK\x03\x04", "a zip archive (DOCX, ODT or similar)"),
-    (b"\xd0\xcf\x11\xe0\xa1\xb1\x1a\xe1", "an old Microsoft Office file (.doc)"),
+    (b"\xd0\xcf\x11\xe0\xa1\xb1\x1a\xe1", "an old binary office file (.doc)"),
     (b"\x89PNG", "a PNG image"),
     (b"\xff\xd8\xff", "a JPEG image"),
     (b"GIF8", "a GIF image"),
