@@ -31,3 +31,27 @@ def test_automatic_choice_picks_the_dataset_checklist_for_a_datasheet_and_says_w
     cid, why = choose_checklist(list(parse_blocks(DATASHEET.split("\n\n"))))
     assert cid == "dataset-description"
     assert why.startswith("dataset-description: mentions ")
+
+
+def test_counts_in_scikit_learns_shipped_descriptions_equal_its_own_data():
+    # External check: scikit-learn ships these datasets with their description files
+    # (sklearn/datasets/descr/*.rst); the count that studygap extracts for data.counts with the
+    # dataset-description checklist must equal the number of rows the package itself loads (no download).
+    import importlib.util
+    from pathlib import Path
+
+    import pytest
+
+    datasets = pytest.importorskip("sklearn.datasets")
+    from checker.engine import check_document
+
+    descr = Path(list(importlib.util.find_spec("sklearn").submodule_search_locations)[0]) / "datasets" / "descr"
+    loaders = {"iris": datasets.load_iris, "wine_data": datasets.load_wine, "diabetes": datasets.load_diabetes,
+               "breast_cancer": datasets.load_breast_cancer, "digits": datasets.load_digits,
+               "linnerud": datasets.load_linnerud}
+    for name, load in loaders.items():
+        report = check_document(descr / f"{name}.rst", "dataset-description")
+        counts = next(it for it in report.items if it.id == "data.counts")
+        assert counts.status == "reported", name
+        values = [f.value for _, fs in counts.facts for f in fs]
+        assert load().data.shape[0] in values, (name, values)
