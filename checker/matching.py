@@ -105,7 +105,8 @@ class CompiledChecklist:
         self.lemma_matcher = PhraseMatcher(vocab, attr="LEMMA")
         self.lower_matcher = PhraseMatcher(vocab, attr="LOWER")
         self.token_matcher = Matcher(vocab)
-        self.regexes: list[tuple[str, object, str]] = []  # (key, compiled, source)
+        #: (match key, regex source); compiled when a document first needs one (see _scan_regexes)
+        self._regexes: list[tuple[str, str]] = []
         self.keys: set[str] = set()
         phrase_docs: dict[str, list[str]] = {}
         for ii, item in enumerate(checklist.items):
@@ -122,17 +123,11 @@ class CompiledChecklist:
             texts = sorted({v for p in phrases for v in _variants(p)})
             self.lemma_matcher.add(k, list(self.nlp.pipe(texts)))
             self.lower_matcher.add(k, [self.nlp.make_doc(t) for t in texts])
-        # compiled when a document first needs them (see _scan_regexes)
-        self._compiled = [(k, src) for k, src in self._regex_sources]
         # a regex can only match where its literal words occur: sentences without them are skipped
-        self._prefilter = [_required_words(src) for _, src in self._compiled]
+        self._prefilter = [_required_words(src) for _, src in self._regexes]
         self._matchers = [m for m in (self.lemma_matcher, self.lower_matcher, self.token_matcher) if len(m)]
 
-    _regex_sources: list[tuple[str, str]]
-
     def _add(self, k: str, cues: Cues, phrase_docs: dict[str, list[str]]) -> None:
-        if not hasattr(self, "_regex_sources"):
-            self._regex_sources = []
         if not cues:
             return
         self.keys.add(k)
@@ -141,7 +136,7 @@ class CompiledChecklist:
         if cues.patterns:
             self.token_matcher.add(k, [list(p) for p in cues.patterns])
         for src in cues.regex:
-            self._regex_sources.append((k, src))
+            self._regexes.append((k, src))
 
     def scan(self, document: Document, *, regex_seconds: float = 2.0, docs: Iterable["Doc"] | None = None) -> Scan:
         """Find every cue in the document's sentences; the references section is passed over."""
@@ -151,9 +146,9 @@ class CompiledChecklist:
         sections: list[tuple[str, ...]] = []
         hits: dict[str, list[Hit]] = {}
         skipped = 0
-        strings = self.nlp.vocab.strings
         current_doc = None
-        token_sent: list[int] = []
+        doc_matches: list[tuple[str, int, int]] = []
+        match_starts: list[int] = []
         for sent, doc, tstart, tend in sentences_of(document, docs):
             if sent.role == "references":
                 skipped += 1
@@ -163,11 +158,9 @@ class CompiledChecklist:
             sections.append(document.blocks[sent.block].section)
             if doc is not current_doc:
                 current_doc = doc
-                matches = self._match_doc(doc)
-                token_sent = []
                 # sorted by start (stable, so hits keep their order) and bisected per sentence: a block of
                 # thousands of sentences must not cost sentences x matches
-                doc_matches = sorted(matches, key=lambda m: m[1])
+                doc_matches = sorted(self._match_doc(doc), key=lambda m: m[1])
                 match_starts = [m[1] for m in doc_matches]
             # token matches whose start lies in this sentence
             for mkey, ms, me in doc_matches[bisect_left(match_starts, tstart):bisect_left(match_starts, tend)]:
@@ -178,9 +171,7 @@ class CompiledChecklist:
         self._scan_regexes(sentences, hits, regex_seconds, document.path)
         for v in hits.values():
             v.sort(key=lambda h: (h.sentence, h.start, h.end))
-        deduped = {k: _dedupe(v) for k, v in hits.items()}
-        del token_sent
-        return Scan(document, sentences, sections, deduped, skipped)
+        return Scan(document, sentences, sections, {k: _dedupe(v) for k, v in hits.items()}, skipped)
 
     def _match_doc(self, doc: "Doc") -> list[tuple[str, int, int]]:
         strings = self.nlp.vocab.strings
@@ -195,7 +186,7 @@ class CompiledChecklist:
 
         lowered = [s.text.lower() for s in sentences]
         whole = "\n".join(lowered)
-        for (k, src), need in zip(self._compiled, self._prefilter):
+        for (k, src), need in zip(self._regexes, self._prefilter):
             if need and not any(w in whole for w in need):
                 continue  # its word occurs nowhere: no need even to compile it
             try:
