@@ -31,6 +31,7 @@ from .checklist import (
     _text,
     _texts,
     _TooManyAliases,
+    compile_regex,
 )
 from .errors import ChecklistError, StudygapError, UsageError
 from .report import Evidence, Finding
@@ -306,7 +307,6 @@ class CompiledRules:
     def __init__(self, ruleset: RuleSet, nlp=None) -> None:
         from spacy.matcher import Matcher, PhraseMatcher
 
-        from .facts import expand_macros
         from .matching import _required_words, _variants
         from .nlp import pipeline
 
@@ -334,8 +334,7 @@ class CompiledRules:
                 if cues.patterns:
                     self.token_matcher.add(k, [list(pt) for pt in cues.patterns])
                 for src in cues.regex:
-                    self._regexes.append((k, regex.compile(expand_macros(src), regex.IGNORECASE | regex.V0), src,
-                                          _required_words(src)))
+                    self._regexes.append((k, compile_regex(src), src, _required_words(src)))
         for k, ps in phrases.items():
             texts = sorted({v for ph in ps for v in _variants(ph)})
             self.lemma_matcher.add(k, list(self.nlp.pipe(texts)))
@@ -514,9 +513,7 @@ def _order(scan: "Scan", ev: Evidence) -> tuple[int, int]:
 # ---------------------------------------------------------------------------------------------- statements of counts
 
 def _rx(src: str) -> regex.Pattern:
-    from .facts import expand_macros
-
-    return regex.compile(expand_macros(src), regex.IGNORECASE | regex.V0)
+    return compile_regex(src)
 
 
 #: split words as authors write them -> the split they name
