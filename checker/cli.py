@@ -131,33 +131,25 @@ def cmd_check(args) -> int:
         raise UsageError(f"the {args.format} format is a file: give -o PATH")
     reports = []
     errors = []
-    show_progress = not args.quiet and sys.stderr.isatty() and len(args.files) > 1
-    progress = None
-    if show_progress:
-        from rich.progress import Progress
+    from .progress import progress_bar
 
-        progress = Progress(transient=True)
-        progress.start()
-        task = progress.add_task("checking", total=len(args.files))
     try:
-        for f in args.files:
-            try:
-                reports.append(check_document(f, checklist, config, limits))
-            except StudygapError as exc:
-                if len(args.files) == 1 or getattr(exc, "path", None) is None:
-                    raise
-                errors.append(exc)
-                print(exc.line(), file=sys.stderr)
-            if progress is not None:
-                progress.advance(task)
+        with progress_bar("checking documents", len(args.files), args.quiet) as progress:
+            for f in args.files:
+                try:
+                    reports.append(check_document(f, checklist, config, limits))
+                except StudygapError as exc:
+                    if len(args.files) == 1 or getattr(exc, "path", None) is None:
+                        raise
+                    errors.append(exc)
+                    print(exc.line(), file=sys.stderr)
+                if progress is not None:
+                    progress(len(reports) + len(errors))
     except KeyboardInterrupt:
         done = len(reports) + len(errors)
         print(f"studygap: interrupted after {done} of {len(args.files)} document{'s' if len(args.files) != 1 else ''}"
               "; no output was written", file=sys.stderr)
         return ExitCode.INTERRUPTED
-    finally:
-        if progress is not None:
-            progress.stop()
     if reports:
         out = render(args.format, reports, RenderOptions(verbose=args.verbose, color=_color(args), many=len(args.files) > 1))
         _write(out, args.output, args.files)

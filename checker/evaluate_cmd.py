@@ -7,6 +7,7 @@ import os
 import sys
 
 from .errors import ExitCode, StudygapError, UsageError
+from .progress import progress_bar
 
 DESCRIPTION = """Compare studygap with your own labels, so that you can see how far to trust it on documents like yours.
 
@@ -74,25 +75,9 @@ def _evaluate(args):
 
         load_checklist(args.checklist)
     labels = load_labels(args.labels, args.docs)
-    progress = None
-    bar = None
-    if not args.quiet and sys.stderr.isatty() and len(labels) > 1:
-        from rich.console import Console
-        from rich.progress import Progress
-
-        bar = Progress(console=Console(file=sys.stderr), transient=True)
-        task = bar.add_task("checking the labelled documents", total=len(labels))
-
-        def progress(done: int, total: int, document: str) -> None:
-            bar.update(task, completed=done)
-
-        bar.start()
-    try:
+    with progress_bar("checking the labelled documents", len(labels), args.quiet) as progress:
         return evaluate(labels, args.checklist, jobs=args.jobs, progress=progress, seed=args.seed,
                         resamples=args.resamples, source=str(args.labels)), labels
-    finally:
-        if bar is not None:
-            bar.stop()
 
 
 def run(args) -> int:

@@ -9,6 +9,7 @@ import time
 from pathlib import Path
 
 from .errors import ExitCode, StudygapError, UsageError
+from .progress import progress_bar
 
 DESCRIPTION = """Check many documents against one checklist and show them side by side: a matrix of documents and
 items, a completeness score per document, and the facts found (annotators, test cases, bootstrap samples...).
@@ -128,25 +129,9 @@ def run_inputs(args, limits=None):
     paths = collect_inputs(args.inputs)
     started = time.monotonic()
     checklist, note = resolve_checklist(paths, args.checklist, limits)
-    bar = None
-    progress = None
-    if not args.quiet and sys.stderr.isatty() and len(paths) > 1:
-        from rich.console import Console
-        from rich.progress import Progress
-
-        bar = Progress(console=Console(file=sys.stderr), transient=True)
-        task = bar.add_task("checking documents", total=len(paths))
-
-        def progress(done: int, total: int, document: str) -> None:
-            bar.update(task, completed=done)
-
-        bar.start()
-    try:
+    with progress_bar("checking documents", len(paths), args.quiet) as progress:
         results = run_batch(paths, checklist, None, limits, jobs=args.jobs, engine=args.engine,
                             scheduler=args.scheduler, send=args.send, progress=progress)
-    finally:
-        if bar is not None:
-            bar.stop()
     return results, note, time.monotonic() - started, paths
 
 
