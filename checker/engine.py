@@ -48,7 +48,7 @@ def _choice_matcher(cid: str):
 
     from spacy.matcher import Matcher
 
-    from .matching import _variants
+    from .matching import spelling_variants
 
     nlp = pipeline()
     cues = load_checklist(cid).choose_when
@@ -56,7 +56,7 @@ def _choice_matcher(cid: str):
         return None
     matchers = []
     if cues.phrases:
-        texts = sorted({v for p in cues.phrases for v in _variants(p)})
+        texts = sorted({v for p in cues.phrases for v in spelling_variants(p)})
         m = PhraseMatcher(nlp.vocab, attr="LEMMA")
         m.add("choose", list(nlp.pipe(texts)))
         matchers.append(m)

@@ -7,6 +7,7 @@ Everything here works on plain strings, so it runs without the spaCy pipeline an
 from __future__ import annotations
 
 from dataclasses import dataclass
+from functools import lru_cache
 from decimal import Decimal, InvalidOperation
 from typing import Any
 
@@ -1045,8 +1046,14 @@ def extract_facts(text: str) -> list[Fact]:
 
     A number serves one fact: the more specific reading wins ("1,000 bootstrap samples" is a bootstrap size,
     not a count of samples; "95% Hausdorff distance" a percentile, not a percentage)."""
+    return list(_facts_of(text))
+
+
+@lru_cache(maxsize=4096)
+def _facts_of(text: str) -> tuple[Fact, ...]:
+    # verdicts, the consistency checks and the share checks all read the same sentences' facts
     if not text or not _ANY_NUMBER.search(text):
-        return []
+        return ()
     detectors = _DETECTORS if _ANY_PERCENT.search(text) else tuple(d for d in _DETECTORS if d is not _percentages)
     cands = [c for detect in detectors for c in detect(text)]
     cands.sort(key=lambda c: (c.prio, c.start, -(c.end - c.start)))
@@ -1060,4 +1067,4 @@ def extract_facts(text: str) -> list[Fact]:
         kept.append(c)
         used.extend(c.nums)
     kept.sort(key=lambda c: (c.start, c.end, c.prio))
-    return [Fact(c.kind, c.value, text[c.start:c.end], c.start, c.end, c.noun) for c in kept]
+    return tuple(Fact(c.kind, c.value, text[c.start:c.end], c.start, c.end, c.noun) for c in kept)

@@ -7,13 +7,12 @@ for, so one pass serves every item.
 
 from __future__ import annotations
 
-import re
-import time
 from bisect import bisect_left
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, Iterable
 
 from .checklist import Checklist, Cues, compile_regex
+from .regexscan import Sentences, required_words
 from .document import Document, Sentence
 from .errors import StudygapError
 
@@ -63,6 +62,9 @@ class Scan:
     hits: dict[str, list[Hit]] = field(default_factory=dict)
     #: sentences from the references section, kept only so that they can be counted in an outline
     skipped_reference_sentences: int = 0
+    #: where each sentence lies in the parsed blocks: (index into docs, first token, end token)
+    spans: list[tuple[int, int, int]] = field(default_factory=list, repr=False)
+    docs: list["Doc"] = field(default_factory=list, repr=False)
 
     def weight(self, i: int) -> float:
         s = self.sentences[i]
@@ -74,7 +76,7 @@ def key(item: int, facet: int, part: str) -> str:
     return f"{item}:{facet}:{part}"
 
 
-def _variants(phrase: str) -> list[str]:
+def spelling_variants(phrase: str) -> list[str]:
     """Spelling variants authors mix: hyphen or not, British or American endings."""
     out = {phrase}
     if "-" in phrase:
@@ -120,11 +122,11 @@ class CompiledChecklist:
                 self._add(key(ii, -1, APPLIES), item.applies_when.cues, phrase_docs)
         self._add("choose", checklist.choose_when, phrase_docs)
         for k, phrases in phrase_docs.items():
-            texts = sorted({v for p in phrases for v in _variants(p)})
+            texts = sorted({v for p in phrases for v in spelling_variants(p)})
             self.lemma_matcher.add(k, list(self.nlp.pipe(texts)))
             self.lower_matcher.add(k, [self.nlp.make_doc(t) for t in texts])
         # a regex can only match where its literal words occur: sentences without them are skipped
-        self._prefilter = [_required_words(src) for _, src in self._regexes]
+        self._prefilter = [required_words(src) for _, src in self._regexes]
         self._matchers = [m for m in (self.lemma_matcher, self.lower_matcher, self.token_matcher) if len(m)]
 
     def _add(self, k: str, cues: Cues, phrase_docs: dict[str, list[str]]) -> None:
@@ -144,75 +146,84 @@ class CompiledChecklist:
 
         sentences: list[Sentence] = []
         sections: list[tuple[str, ...]] = []
-        hits: dict[str, list[Hit]] = {}
+        spans: list[tuple[int, int, int]] = []
+        kept_docs: list["Doc"] = []
         skipped = 0
-        current_doc = None
-        doc_matches: list[tuple[str, int, int]] = []
-        match_starts: list[int] = []
         for sent, doc, tstart, tend in sentences_of(document, docs):
             if sent.role == "references":
                 skipped += 1
                 continue
-            si = len(sentences)
             sentences.append(sent)
             sections.append(document.blocks[sent.block].section)
-            if doc is not current_doc:
-                current_doc = doc
-                # sorted by start (stable, so hits keep their order) and bisected per sentence: a block of
-                # thousands of sentences must not cost sentences x matches
-                doc_matches = sorted(self._match_doc(doc), key=lambda m: m[1])
-                match_starts = [m[1] for m in doc_matches]
-            # token matches whose start lies in this sentence
-            for mkey, ms, me in doc_matches[bisect_left(match_starts, tstart):bisect_left(match_starts, tend)]:
-                span = doc[ms:min(me, tend)]
-                hits.setdefault(mkey, []).append(
-                    Hit(si, span.start_char - sent.start, span.end_char - sent.start)
-                )
+            if not kept_docs or kept_docs[-1] is not doc:
+                kept_docs.append(doc)
+            spans.append((len(kept_docs) - 1, tstart, tend))
+        hits: dict[str, list[Hit]] = {}
+        for mkey, si, a, b in match_sentences(self._matchers, self.nlp.vocab.strings, kept_docs, spans,
+                                              sentences, clip=True):
+            hits.setdefault(mkey, []).append(Hit(si, a, b))
         self._scan_regexes(sentences, hits, regex_seconds, document.path)
         for v in hits.values():
             v.sort(key=lambda h: (h.sentence, h.start, h.end))
-        return Scan(document, sentences, sections, {k: _dedupe(v) for k, v in hits.items()}, skipped)
-
-    def _match_doc(self, doc: "Doc") -> list[tuple[str, int, int]]:
-        strings = self.nlp.vocab.strings
-        out = []
-        for matcher in self._matchers:
-            for mid, s, e in matcher(doc):
-                out.append((strings[mid], s, e))
-        return out
+        return Scan(document, sentences, sections, {k: _dedupe(v) for k, v in hits.items()}, skipped, spans,
+                    kept_docs)
 
     def _scan_regexes(self, sentences: list[Sentence], hits: dict[str, list[Hit]], seconds: float, path: str) -> None:
         import regex
 
-        lowered = [s.text.lower() for s in sentences]
-        whole = "\n".join(lowered)
+        texts = Sentences([s.text for s in sentences])
         for (k, src), need in zip(self._regexes, self._prefilter):
-            if need and not any(w in whole for w in need):
+            if not texts.mentions(need):
                 continue  # its word occurs nowhere: no need even to compile it
             try:
                 rx = compile_regex(src)
             except regex.error as exc:
                 raise StudygapError(f"{self.checklist.path}: checklist regex {src!r} is not valid: {exc}") from None
-            started = time.monotonic()
-            for si, s in enumerate(sentences):
-                if need and not any(w in lowered[si] for w in need):
+            names = sorted(rx.groupindex, key=lambda n: rx.groupindex[n])
+            try:
+                for si, m in texts.search(rx, need, seconds):
+                    groups = tuple((name, m.group(name), m.start(name), m.end(name))
+                                   for name in names if m.group(name) is not None)
+                    hits.setdefault(k, []).append(Hit(si, m.start(), m.end(), groups))
+            except TimeoutError:
+                raise StudygapError(
+                    f"{path}: the checklist regex {src!r} took longer than {seconds:g} s "
+                    "(it backtracks too much on this text; simplify it, or raise --regex-seconds)"
+                ) from None
+
+
+def match_sentences(matchers, strings, docs: list["Doc"], spans: list[tuple[int, int, int]],
+                    sentences: list[Sentence], *, clip: bool) -> list[tuple[str, int, int, int]]:
+    """(match key, sentence index, start, end) of every spaCy matcher hit, offsets into the sentence text.
+
+    Each parsed block is matched once and its hits are handed to the sentences they start in; a hit that runs
+    into the next sentence is cut at the sentence's end (clip) or left out.
+    """
+    from spacy.attrs import IDX, LENGTH
+
+    out: list[tuple[str, int, int, int]] = []
+    by_doc: dict[int, list[int]] = {}
+    for si, (di, _, _) in enumerate(spans):
+        by_doc.setdefault(di, []).append(si)
+    for di, members in by_doc.items():
+        doc = docs[di]
+        # sorted by start (stable, so hits keep their order) and bisected per sentence: a block of thousands
+        # of sentences must not cost sentences x matches
+        found = sorted(((strings[mid], s, e) for m in matchers for mid, s, e in m(doc)), key=lambda t: t[1])
+        if not found:
+            continue
+        starts = [f[1] for f in found]
+        # character offsets of the tokens, read once: a Span per hit would cost more than the matching
+        idx, length = (col.tolist() for col in doc.to_array([IDX, LENGTH]).T)
+        for si in members:
+            _, tstart, tend = spans[si]
+            offset = sentences[si].start
+            for mkey, ms, me in found[bisect_left(starts, tstart):bisect_left(starts, tend)]:
+                if me > tend and not clip:
                     continue
-                left = seconds - (time.monotonic() - started)
-                try:
-                    for m in rx.finditer(s.text, timeout=max(left, 0.001)):
-                        if m.end() == m.start():
-                            continue
-                        groups = tuple(
-                            (name, m.group(name), m.start(name), m.end(name))
-                            for name in sorted(rx.groupindex, key=lambda n: rx.groupindex[n])
-                            if m.group(name) is not None
-                        )
-                        hits.setdefault(k, []).append(Hit(si, m.start(), m.end(), groups))
-                except TimeoutError:
-                    raise StudygapError(
-                        f"{path}: the checklist regex {src!r} took longer than {seconds:g} s "
-                        "(it backtracks too much on this text; simplify it, or raise --regex-seconds)"
-                    ) from None
+                last = min(me, tend) - 1
+                out.append((mkey, si, idx[ms] - offset, idx[last] + length[last] - offset))
+    return out
 
 
 def _dedupe(hits: list[Hit]) -> list[Hit]:
@@ -225,43 +236,3 @@ def _dedupe(hits: list[Hit]) -> list[Hit]:
         seen.add(k)
         out.append(h)
     return out
-
-
-_WORD = re.compile(r"[a-z]{4,}")
-
-
-def _required_words(src: str) -> tuple[str, ...]:
-    """A literal word that must occur for the regex to match, or () when there is none for sure.
-
-    Sentences without it are not searched (most regexes name a word such as 'bootstrap'). Only the regex's
-    top level counts: groups, classes, alternatives and optional letters are set aside.
-    """
-    top = _strip_groups(re.sub(r"\{[A-Z]+\}", " ", src))
-    if "|" in top:
-        return ()
-    top = re.sub(r"\[[^\]]*\]", " ", top)
-    top = re.sub(r".(?:\?|\*|\{[^}]*\})", " ", top)
-    words = _WORD.findall(top.lower())
-    return (max(words, key=len),) if words else ()
-
-
-def _strip_groups(src: str) -> str:
-    """The regex with every parenthesised group and escape replaced by a space."""
-    depth, out = 0, []
-    esc = False
-    for c in src:
-        if esc:
-            esc = False
-            continue
-        if c == "\\":
-            esc = True
-            out.append(" ")
-            continue
-        if c == "(":
-            depth += 1
-            out.append(" ")
-        elif c == ")":
-            depth = max(0, depth - 1)
-        elif depth == 0:
-            out.append(c)
-    return "".join(out)

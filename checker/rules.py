@@ -9,7 +9,6 @@ from __future__ import annotations
 import itertools
 import math
 import string
-import time
 from dataclasses import dataclass, field
 from functools import lru_cache
 from importlib import resources
@@ -307,7 +306,8 @@ class CompiledRules:
     def __init__(self, ruleset: RuleSet, nlp=None) -> None:
         from spacy.matcher import Matcher, PhraseMatcher
 
-        from .matching import _required_words, _variants
+        from .matching import spelling_variants
+        from .regexscan import required_words
         from .nlp import pipeline
 
         self.ruleset = ruleset
@@ -334,41 +334,43 @@ class CompiledRules:
                 if cues.patterns:
                     self.token_matcher.add(k, [list(pt) for pt in cues.patterns])
                 for src in cues.regex:
-                    self._regexes.append((k, compile_regex(src), src, _required_words(src)))
+                    self._regexes.append((k, compile_regex(src), src, required_words(src)))
         for k, ps in phrases.items():
-            texts = sorted({v for ph in ps for v in _variants(ph)})
+            texts = sorted({v for ph in ps for v in spelling_variants(ph)})
             self.lemma_matcher.add(k, list(self.nlp.pipe(texts)))
             self.lower_matcher.add(k, [self.nlp.make_doc(t) for t in texts])
         self._matchers = [m for m in (self.lemma_matcher, self.lower_matcher, self.token_matcher) if len(m)]
 
-    def match(self, sentences: list["Sentence"], path: str, regex_seconds: float = 2.0) -> dict[str, Hits]:
+    def match(self, scan: "Scan", regex_seconds: float = 2.0) -> dict[str, Hits]:
+        from .matching import match_sentences
+        from .regexscan import Sentences
+
         found: dict[str, dict[int, set[tuple[int, int]]]] = {}
-        strings = self.nlp.vocab.strings
-        texts = [s.text for s in sentences]
+        sentences = scan.sentences
         if self._matchers:
-            for si, doc in enumerate(self.nlp.pipe(texts, batch_size=128)):
-                for matcher in self._matchers:
-                    for mid, a, b in matcher(doc):
-                        span = doc[a:b]
-                        found.setdefault(strings[mid], {}).setdefault(si, set()).add((span.start_char, span.end_char))
-        lowered = [t.lower() for t in texts]
+            if scan.docs:
+                hits = match_sentences(self._matchers, self.nlp.vocab.strings, scan.docs, scan.spans, sentences,
+                                       clip=False)
+            else:  # a Scan built by hand, without its parsed blocks
+                hits = [(self.nlp.vocab.strings[mid], si, doc[a:b].start_char, doc[a:b].end_char)
+                        for si, doc in enumerate(self.nlp.pipe([s.text for s in sentences], batch_size=128))
+                        for m in self._matchers for mid, a, b in m(doc)]
+            for mkey, si, a, b in hits:
+                found.setdefault(mkey, {}).setdefault(si, set()).add((a, b))
+        texts = Sentences([s.text for s in sentences])
         for k, rx, src, need in self._regexes:
-            started = time.monotonic()
-            for si, t in enumerate(texts):
-                if need and not any(w in lowered[si] for w in need):
-                    continue
-                left = regex_seconds - (time.monotonic() - started)
-                try:
-                    for m in rx.finditer(t, timeout=max(left, 0.001)):
-                        if m.end() > m.start():
-                            # a group named "seen" marks the words to quote ("sensitivity" of "sensitivity of 0.8")
-                            span = m.span("seen") if "seen" in rx.groupindex and m.group("seen") else m.span()
-                            found.setdefault(k, {}).setdefault(si, set()).add(span)
-                except TimeoutError:
-                    raise StudygapError(
-                        f"{path}: the rule regex {src!r} took longer than {regex_seconds:g} s on this text "
-                        "(it backtracks too much; simplify it)"
-                    ) from None
+            if not texts.mentions(need):
+                continue
+            try:
+                for si, m in texts.search(rx, need, regex_seconds):
+                    # a group named "seen" marks the words to quote ("sensitivity" of "sensitivity of 0.8")
+                    span = m.span("seen") if "seen" in rx.groupindex and m.group("seen") else m.span()
+                    found.setdefault(k, {}).setdefault(si, set()).add(span)
+            except TimeoutError:
+                raise StudygapError(
+                    f"{scan.document.path}: the rule regex {src!r} took longer than {regex_seconds:g} s on this "
+                    "text (it backtracks too much; simplify it)"
+                ) from None
         return {k: Hits({si: tuple(sorted(spans)) for si, spans in v.items()}) for k, v in found.items()}
 
 
@@ -1444,7 +1446,7 @@ def run_rules(scan: "Scan", items=None, checklist: "Checklist | None" = None, co
     if not active or not scan.sentences:
         return []
     compiled = compiled_rules(ruleset)
-    hits = compiled.match(scan.sentences, scan.document.path) if any(r.trigger for r in active) else {}
+    hits = compiled.match(scan) if any(r.trigger for r in active) else {}
     ctx = RunContext(scan)
     findings: list[Finding] = []
     for rule in active:

@@ -1,0 +1,287 @@
+"""Regex cues over many sentences at once: one search of the joined text, then exact searches of the few
+sentences it points to.
+
+Searching each of a long document's thousands of sentences with each of a checklist's hundreds of regexes costs
+hundreds of thousands of calls. Most regexes match in a handful of sentences, so each is first run once over
+the sentences joined by newlines; only the sentences its matches touch are then searched on their own, which
+gives exactly the matches the sentence-by-sentence search gives. The joined search finds every such sentence
+as long as what a regex matches inside a sentence does not depend on whether the sentence's edge is the
+string's edge or a newline; regexes that could tell the two apart (anchors, possessive or atomic parts,
+negative look-arounds that can see a newline, verbose or fuzzy syntax) are searched sentence by sentence.
+"""
+
+from __future__ import annotations
+
+import re
+import time
+from bisect import bisect_right
+from collections.abc import Iterator, Sequence
+from dataclasses import dataclass, field
+from functools import lru_cache
+
+_SEP = "\n"
+
+#: constructs whose result can differ at a newline and at the string's edge, or that stop backtracking
+_EDGE_SENSITIVE = re.compile(
+    r"""\\[AZzGK]          # string anchors, \\G, \\K
+      | \*\+ | \+\+ | \?\+ | \}\+   # possessive quantifiers
+      | \(\?>               # atomic groups
+      | \(\?[a-zA-Z]*[xr]   # verbose or reverse-search flags
+      | \{[^}]*[eids]\s*[<=] # fuzzy-match constraints such as {e<=1}
+    """,
+    re.VERBOSE,
+)
+#: escapes that can match a newline (\\p and \\x-style code points are decided separately)
+_NEWLINE_ESCAPES = frozenset("sWDnvRXNP0")
+#: Unicode properties that never include the newline, a control character
+_SAFE_PROPERTIES = re.compile(r"\\p\{(?:L[ultmo]?|N[dlo]?|M[nce]?|P[cdseifo]?|S[mcko]?|Z[slp]?|Latin|Greek)\}")
+_CODE_POINT = re.compile(r"\\(?:x([0-9a-fA-F]{2})|u([0-9a-fA-F]{4})|U([0-9a-fA-F]{8})|x\{([0-9a-fA-F]+)\})")
+
+
+@lru_cache(maxsize=8192)
+def joinable(src: str) -> bool:
+    """Whether the regex (macros already expanded) may be searched in the joined text (see the module notes)."""
+    if _EDGE_SENSITIVE.search(src):
+        return False
+    plain = _outside_classes(src)
+    if "^" in plain or "$" in plain:
+        return False
+    return not any(_sees_newline(body) for body in _negative_lookarounds(src))
+
+
+def _sees_newline(body: str) -> bool:
+    """Whether a look-around body might match a newline (conservatively: any construct that could)."""
+    i, n = 0, len(body)
+    while i < n:
+        c = body[i]
+        if c == "\\":
+            step = _escape(body, i)
+            if step is None:
+                return True
+            i += step[0]
+            if step[1] == 10:
+                return True
+        elif c == "[":
+            j = i + 1
+            if body[j:j + 1] == "^":
+                return True  # a negated class matches a newline unless it names one
+            if body[j:j + 1] == "]":
+                j += 1
+            previous = None
+            while j < n and body[j] != "]":
+                if body[j] == "\\":
+                    step = _escape(body, j)
+                    if step is None:
+                        return True
+                    width, point = step
+                elif body[j] == "[":
+                    return True  # a nested set (regex module V1 syntax): not worth taking apart
+                else:
+                    width, point = 1, ord(body[j])
+                if body[j] == "-" and previous is not None and j + 1 < n and body[j + 1] != "]":
+                    # a range: from the previous point to the next one
+                    nxt = _escape(body, j + 1) if body[j + 1] == "\\" else (1, ord(body[j + 1]))
+                    if nxt is None or nxt[1] is None or previous <= 10 <= nxt[1]:
+                        return True
+                    j += 1 + nxt[0]
+                    previous = None
+                    continue
+                if point == 10:
+                    return True
+                previous = point
+                j += width
+            i = j + 1
+        elif c in ".^$":
+            return True
+        else:
+            i += 1
+    return False
+
+
+def _escape(src: str, i: int) -> tuple[int, int | None] | None:
+    """(width, code point or None for a class escape such as \\d) of the escape at i; None if it may match a newline."""
+    nxt = src[i + 1:i + 2]
+    if nxt in _NEWLINE_ESCAPES:
+        return None
+    if nxt == "p":
+        m = _SAFE_PROPERTIES.match(src, i)
+        return (m.end() - i, None) if m else None
+    m = _CODE_POINT.match(src, i)
+    if m:
+        return m.end() - i, int(next(g for g in m.groups() if g), 16)
+    if nxt in "xuU":
+        return None
+    if nxt in "dwSbBtfae":
+        return 2, None if nxt in "dwSbB" else {"t": 9, "f": 12, "a": 7, "e": 27}[nxt]
+    return 2, ord(nxt) if nxt else None
+
+
+def _outside_classes(src: str) -> str:
+    """The source with escapes and character classes blanked, so that a bare ^ or $ is an anchor."""
+    out, i, n = [], 0, len(src)
+    while i < n:
+        c = src[i]
+        if c == "\\":
+            out.append("  ")
+            i += 2
+            continue
+        if c == "[":
+            j = i + 1
+            if j < n and src[j] == "^":
+                j += 1
+            if j < n and src[j] == "]":
+                j += 1
+            while j < n and src[j] != "]":
+                j += 2 if src[j] == "\\" else 1
+            out.append(" " * (j + 1 - i))
+            i = j + 1
+            continue
+        out.append(c)
+        i += 1
+    return "".join(out)
+
+
+def _negative_lookarounds(src: str) -> Iterator[str]:
+    for m in re.finditer(r"\(\?<?!", src):
+        depth, j, n = 1, m.end(), len(src)
+        while j < n and depth:
+            c = src[j]
+            if c == "\\":
+                j += 2
+                continue
+            depth += (c == "(") - (c == ")")
+            j += 1
+        yield src[m.end():j - 1]
+
+
+@lru_cache(maxsize=8192)
+def required_words(src: str) -> tuple[str, ...]:
+    """Literal strings (case-folded) of which one must occur for the regex to match, or () when none is sure.
+
+    Sentences without any of them need no search: most regexes name words such as 'bootstrap' or one of
+    'hospitals|centres|sites'. Worked out from the parse of the unexpanded source ({NUMBER} and the like stand
+    for no literal); a source Python's own parser cannot read gives ().
+    """
+    import re._parser as sre_parse
+
+    plain = re.sub(r"\{[A-Z]+\}", r"\\d", src)
+    plain = re.sub(r"\\[pP]\{[^}]*\}", r"\\w", plain)
+    try:
+        parsed = sre_parse.parse(plain, re.IGNORECASE)
+    except (re.error, RecursionError, OverflowError, ValueError):
+        return ()
+    found = _needs(list(parsed))
+    return tuple(sorted(found)) if found else ()
+
+
+def _needs(items: list) -> frozenset[str] | None:
+    """The best set of strings of which every match of this sequence contains one, or None."""
+    from re import _constants as c
+
+    candidates: list[frozenset[str]] = []
+    run: list[str] = []
+
+    def flush() -> None:
+        if run:
+            candidates.append(frozenset(["".join(run).casefold()]))
+            run.clear()
+
+    for op, av in items:
+        if op is c.LITERAL:
+            run.append(chr(av))
+            continue
+        flush()
+        found = None
+        if op is c.SUBPATTERN:
+            found = _needs(list(av[-1]))
+        elif op is c.ATOMIC_GROUP:
+            found = _needs(list(av))
+        elif op is c.BRANCH:
+            sets = [_needs(list(b)) for b in av[1]]
+            if all(sets):
+                found = frozenset().union(*sets)
+        elif op in (c.MAX_REPEAT, c.MIN_REPEAT, c.POSSESSIVE_REPEAT) and av[0] >= 1:
+            found = _needs(list(av[2]))
+        if found:
+            candidates.append(found)
+    flush()
+    useful = [f for f in candidates if min(_rarity(w) for w in f) >= 3]
+    if not useful:
+        return None
+    # the rarest-looking: long strings (or symbols such as "τ" or "±"), few of them
+    return max(useful, key=lambda f: (min(_rarity(w) for w in f), -len(f), sorted(f)))
+
+
+def _rarity(w: str) -> int:
+    """How seldom a string is likely to occur: its length, but a symbol outside ASCII counts as a word."""
+    return len(w) + 3 * sum(not ch.isascii() for ch in w)
+
+
+@dataclass
+class Sentences:
+    """The texts to search, joined once and shared by every regex of a scan."""
+
+    texts: Sequence[str]
+    joined: str = field(init=False)
+    starts: list[int] = field(init=False)
+    folded: str = field(init=False)
+    folded_starts: list[int] = field(init=False)
+
+    def __post_init__(self) -> None:
+        self.joined, self.starts = _join(self.texts)
+        # case-folded, as the regexes match without case ("ſ" folds to "s" as the regex module sees it)
+        self.folded, self.folded_starts = _join([t.casefold() for t in self.texts])
+
+    def mentions(self, need: tuple[str, ...]) -> bool:
+        return not need or any(w in self.folded for w in need)
+
+    def _with_words(self, need: tuple[str, ...]) -> list[int]:
+        """Sentences that contain one of the strings."""
+        seen: set[int] = set()
+        text, starts = self.folded, self.folded_starts
+        for w in need:
+            at = text.find(w)
+            while at >= 0:
+                si = bisect_right(starts, at) - 1
+                seen.add(si)
+                # on to the next sentence: one occurrence is enough
+                at = text.find(w, starts[si + 1]) if si + 1 < len(starts) else -1
+        return sorted(seen)
+
+    def _touched(self, rx, timeout: float) -> list[int]:
+        """Sentences that a match in the joined text touches: the only ones that can match on their own."""
+        seen: set[int] = set()
+        starts = self.starts
+        for m in rx.finditer(self.joined, timeout=timeout):
+            a, b = m.span()
+            first = bisect_right(starts, a) - 1
+            last = bisect_right(starts, max(a, b - 1)) - 1
+            seen.update(range(first, last + 1))
+        return sorted(seen)
+
+    def search(self, rx, need: tuple[str, ...], seconds: float) -> Iterator[tuple[int, object]]:
+        """(sentence index, match) for every non-empty match of rx in each sentence, sentence by sentence.
+
+        The same matches as searching every sentence alone, found faster; TimeoutError after `seconds`.
+        `need` is the regex's required_words().
+        """
+        started = time.monotonic()
+        if need:
+            candidates: Sequence[int] = self._with_words(need)
+        elif joinable(rx.pattern):
+            candidates = self._touched(rx, max(seconds, 0.001))
+        else:
+            candidates = range(len(self.texts))
+        for si in candidates:
+            left = seconds - (time.monotonic() - started)
+            for m in rx.finditer(self.texts[si], timeout=max(left, 0.001)):
+                if m.end() > m.start():
+                    yield si, m
+
+
+def _join(texts: Sequence[str]) -> tuple[str, list[int]]:
+    starts, at = [], 0
+    for t in texts:
+        starts.append(at)
+        at += len(t) + 1
+    return _SEP.join(texts), starts
