@@ -257,9 +257,10 @@ def compile_regex(pattern: str):
     """A checklist regex with its macros expanded, compiled once per process (validation and matching share it)."""
     import regex
 
+    from . import regexcache
     from .facts import expand_macros
 
-    return regex.compile(expand_macros(pattern), regex.IGNORECASE | regex.V0)
+    return regexcache.compile(expand_macros(pattern), regex.IGNORECASE | regex.V0)
 
 
 def _check_regex(p: _Problems, node: _Node, path: str, pattern: str) -> str | None:

@@ -101,9 +101,13 @@ def check_document(
 
     from .limits import time_limit
 
+    from . import regexcache
+
     config = config or Config()
     with time_limit(path, limits.seconds):
-        return _check(path, checklist, config, limits, read_document, parse_blocks)
+        report = _check(path, checklist, config, limits, read_document, parse_blocks)
+    regexcache.save()  # here too, as batch workers end without running exit handlers
+    return report
 
 
 def _check(path, checklist, config, limits, read_document, parse_blocks) -> Report:

@@ -13,6 +13,8 @@ from typing import Any
 
 import regex
 
+from . import regexcache
+
 __all__ = [
     "NUMBER", "DECIMAL", "UNIT", "PERCENT", "MACROS", "expand_macros", "parse_number", "Quantity",
     "parse_value", "Fact", "extract_facts", "KINDS",
@@ -78,7 +80,7 @@ PERCENT = rf"(?:(?:{DECIMAL}|{_WORDS_COMPACT}){_SP}?(?:%|(?i:per{_SP}?cent|perce
 
 MACROS: dict[str, str] = {"NUMBER": NUMBER, "DECIMAL": DECIMAL, "UNIT": UNIT, "PERCENT": PERCENT}
 
-_MACRO = regex.compile(r"(?<!\\)\{(NUMBER|DECIMAL|UNIT|PERCENT)\}")
+_MACRO = regexcache.compile(r"(?<!\\)\{(NUMBER|DECIMAL|UNIT|PERCENT)\}")
 
 
 def expand_macros(pattern: str) -> str:
@@ -90,12 +92,12 @@ _FLAGS = regex.IGNORECASE | regex.V0
 
 
 def _c(src: str) -> regex.Pattern:
-    return regex.compile(src, _FLAGS)
+    return regexcache.compile(src, _FLAGS)
 
 
 def _back(src: str) -> regex.Pattern:
     """A pattern anchored at the end of a look-back window, searched from the end (far faster than forwards)."""
-    return regex.compile(src, _FLAGS | regex.REVERSE)
+    return regexcache.compile(src, _FLAGS | regex.REVERSE)
 
 
 # ---------------------------------------------------------------------------------------------------------------
@@ -106,12 +108,12 @@ _DIGITS_FULL = _c(rf"[-+]?(?:{_DIGITS}(?:\.\d+)?|\.\d+)")
 _SCALED_FULL = _c(rf"([-+]?{_DIGITS}(?:\.\d+)?){_SP}*(k|thousand|million|billion)")
 _WORDS_FULL = _c(_WORDS)
 _SYMBOL_PREFIX = _c(r"(?:[a-z]{1,2}|[\p{Greek}])(?:_\{?\w+\}?)?\s*[=:≈]\s*")
-_GROUPING = regex.compile(r"[,\s\u00A0\u2009\u202F]")
-_LETTERS = regex.compile(r"[a-z]+")
-_VALUE_START = regex.compile(r"[-+\d.]|\p{L}")
-_POWER_END = regex.compile(r"\^?([23²³])$")
-_LENGTH_POWER = regex.compile(r"(?:mm|cm|dm|km|nm|µm|μm|um|m)\^?[23²³]$")
-_SPLIT_NAME = regex.compile(r"split|ratio|proportion|partition|fraction", regex.IGNORECASE)
+_GROUPING = regexcache.compile(r"[,\s\u00A0\u2009\u202F]")
+_LETTERS = regexcache.compile(r"[a-z]+")
+_VALUE_START = regexcache.compile(r"[-+\d.]|\p{L}")
+_POWER_END = regexcache.compile(r"\^?([23²³])$")
+_LENGTH_POWER = regexcache.compile(r"(?:mm|cm|dm|km|nm|µm|μm|um|m)\^?[23²³]$")
+_SPLIT_NAME = regexcache.compile(r"split|ratio|proportion|partition|fraction", regex.IGNORECASE)
 _SCALE = {"k": 1000, "thousand": 1000, "million": 10**6, "billion": 10**9}
 
 
@@ -187,7 +189,7 @@ _UNIT_NAMES = [
     (r"px|pixels?", "px"), (r"voxels?", "voxel"), (r"°|deg|degrees?", "degree"),
     (r"ms|msec|milliseconds?", "ms"), (r"s|sec|seconds?", "s"), (r"%|percent|per ?cent|pct", "%"),
 ]
-_UNIT_NAME_RE = [(regex.compile(rf"(?:{p})", regex.IGNORECASE), name) for p, name in _UNIT_NAMES]
+_UNIT_NAME_RE = [(regexcache.compile(rf"(?:{p})", regex.IGNORECASE), name) for p, name in _UNIT_NAMES]
 _MM_PER = {"mm": 1.0, "cm": 10.0, "dm": 100.0, "m": 1000.0, "km": 1e6, "µm": 1e-3, "nm": 1e-6}
 _POWER = {"2": "²", "3": "³", "²": "²", "³": "³"}
 
@@ -367,7 +369,7 @@ pair word sentence document question item page disease diagnosis condition findi
 pathology type view projection modality sequence protocol point pixel voxel mesh graph node edge
 value gpu cpu core paper computer container folder server filter marker cluster chapter encoder decoder
 """.split())
-_PERSON_SUFFIX = regex.compile(r"(?:ologist|ician|iatrist|ographer|ist)$")
+_PERSON_SUFFIX = regexcache.compile(r"(?:ologist|ician|iatrist|ographer|ist)$")
 
 _IRREGULAR = {
     "children": "child", "people": "person", "men": "man", "women": "woman", "mice": "mouse", "teeth": "tooth",
@@ -428,10 +430,10 @@ occurs varies ranges covers produces reaches achieves performs outperforms excee
 _BAD_HEAD = frozenset("different separate additional main major minor independent distinct similar same total "
                       "new old previous further extra various several".split())
 
-_WORD_TOKEN = regex.compile(r"(?:\p{L}[\p{L}\p{N}]*|\p{N}+\p{L}[\p{L}\p{N}]*)(?:[-'’/][\p{L}\p{N}]+)*")
-_ABBREV = regex.compile(r"\(\p{Lu}[\p{L}\p{N}\-]{0,9}\)")
-_RATE = regex.compile(r"(?:mm|cm|m|µm|μm|um|nm|km|px|pixels?|voxels?|deg|degrees?|ml|l|g|kg|mg)/\w{1,4}")
-_SPACES = regex.compile(r"[ \t\u00A0\u2009\u202F]+|\s+")
+_WORD_TOKEN = regexcache.compile(r"(?:\p{L}[\p{L}\p{N}]*|\p{N}+\p{L}[\p{L}\p{N}]*)(?:[-'’/][\p{L}\p{N}]+)*")
+_ABBREV = regexcache.compile(r"\(\p{Lu}[\p{L}\p{N}\-]{0,9}\)")
+_RATE = regexcache.compile(r"(?:mm|cm|m|µm|μm|um|nm|km|px|pixels?|voxels?|deg|degrees?|ml|l|g|kg|mg)/\w{1,4}")
+_SPACES = regexcache.compile(r"[ \t\u00A0\u2009\u202F]+|\s+")
 
 
 def _noun_after(text: str, pos: int, value: float | int | None = None) -> tuple[str, int] | None:
@@ -542,7 +544,7 @@ def _is_year(text: str, s: int, e: int) -> bool:
     return len(t) == 4 and t.isdigit() and 1800 <= int(t) <= 2100
 
 
-_SENT_END = regex.compile(r"[.!?;](?=\s+[\p{Lu}(\[])|\n\s*\n")
+_SENT_END = regexcache.compile(r"[.!?;](?=\s+[\p{Lu}(\[])|\n\s*\n")
 
 
 def _clause(text: str, s: int, e: int, before: int = 80, after: int = 60) -> tuple[str, str]:
@@ -602,7 +604,7 @@ _PCTL = [
 ]
 
 
-_HD_BEFORE = regex.compile(r"HD[\s_\-$]*_?\{?$")
+_HD_BEFORE = regexcache.compile(r"HD[\s_\-$]*_?\{?$")
 
 
 def _percentiles(text: str) -> list[_Cand]:
@@ -640,7 +642,7 @@ _BOOT_PATS = [
 _BOOT_WORD = _c(r"bootstrap")
 
 
-_LETTER_OR_COMPOUND = regex.compile(r"[-‐]\p{L}|\p{L}")
+_LETTER_OR_COMPOUND = regexcache.compile(r"[-‐]\p{L}|\p{L}")
 
 
 def _bootstrap(text: str) -> list[_Cand]:
@@ -730,8 +732,8 @@ def _date_like(vals: list, texts: list[str]) -> bool:
     return bool(vals) and all(isinstance(v, int) and len(t) == 4 and 1800 <= v <= 2100 for v, t in zip(vals, texts))
 
 
-_NAME_AFTER = regex.compile(r"[\p{L}\p{N}]|[./]\w")
-_NAME_BEFORE = regex.compile(r"[\p{L}\p{N}_.,/]$")
+_NAME_AFTER = regexcache.compile(r"[\p{L}\p{N}]|[./]\w")
+_NAME_BEFORE = regexcache.compile(r"[\p{L}\p{N}_.,/]$")
 
 
 def _splits(text: str) -> list[_Cand]:
@@ -977,8 +979,8 @@ _UNIT_AFTER = _c(rf"(?:{_SP}?[-\u2010]?(?:{UNIT})|{_SP}?%|{_SP}?(?:per{_SP}?cent
 _AND_BETWEEN = _c(r"\s*(?:,\s*(?:and\s+)?|,?\s+and\s+|\s*&\s*)$")
 
 
-_LETTER = regex.compile(r"\p{L}")
-_HEADING_AFTER = regex.compile(r"[.)]\s|\s+\p{Lu}\p{Ll}")
+_LETTER = regexcache.compile(r"\p{L}")
+_HEADING_AFTER = regexcache.compile(r"[.)]\s|\s+\p{Lu}\p{Ll}")
 
 
 def _n_facts(text: str) -> list[_Cand]:

@@ -13,6 +13,14 @@ DATA = Path(__file__).resolve().parent / "data"
 DEMO = ROOT / "fixtures" / "demo"
 
 
+def pytest_configure(config):
+    # the tests' caches (compiled regexes, per-file results) go to a folder of their own, never the user's
+    import os
+    import tempfile
+
+    os.environ.setdefault("STUDYGAP_CACHE_DIR", tempfile.mkdtemp(prefix="studygap-test-cache-"))
+
+
 def pytest_addoption(parser):
     parser.addoption("--update-golden", action="store_true", default=False,
                      help="rewrite the golden files from the current output (after a reviewed change)")

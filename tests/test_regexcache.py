@@ -1,0 +1,83 @@
+"""Compiled regexes kept between runs: reused when sound, ignored when damaged or hostile, never required."""
+
+from __future__ import annotations
+
+import os
+import pickle
+import subprocess
+import sys
+
+import pytest
+import regex
+
+from checker import regexcache
+
+PATTERN = r"\b(?P<n>\d+)\s+(?:hospitals|centres)\b"
+TEXT = "Images came from 3 hospitals and 2 centres."
+
+
+def _run(cache: str, code: str) -> subprocess.CompletedProcess:
+    env = dict(os.environ, STUDYGAP_CACHE_DIR=cache)
+    return subprocess.run([sys.executable, "-c", code], env=env, capture_output=True, text=True, timeout=60)
+
+
+FIND = ("import regex; from checker import regexcache as r; rx = r.compile(%r, regex.I); "
+        "print([m.group('n') for m in rx.finditer(%r)], r._new)" % (PATTERN, TEXT))
+
+
+def test_a_second_run_takes_the_patterns_from_the_cache(tmp_path):
+    first = _run(str(tmp_path), FIND)
+    assert first.returncode == 0, first.stderr
+    assert first.stdout.split() == ["['3',", "'2']", "1"]  # compiled, then written at exit
+    files = list(tmp_path.glob("regex-*.pickle"))
+    assert len(files) == 1
+    second = _run(str(tmp_path), FIND)
+    assert second.stdout.split() == ["['3',", "'2']", "0"]  # nothing compiled: all from the file
+
+
+def test_a_damaged_cache_is_ignored_and_replaced(tmp_path):
+    _run(str(tmp_path), FIND)
+    (path,) = tmp_path.glob("regex-*.pickle")
+    path.write_bytes(b"\x80\x05garbage")
+    again = _run(str(tmp_path), FIND)
+    assert again.returncode == 0 and again.stderr == ""
+    assert again.stdout.split()[-1] == "1"
+    assert regexcache._read(path)  # written anew, and sound
+
+
+class _Boom:
+    def __reduce__(self):
+        return (os.system, ("echo pwned > pwned.txt",))
+
+
+def test_a_cache_file_holding_anything_but_patterns_runs_nothing(tmp_path, monkeypatch):
+    monkeypatch.chdir(tmp_path)
+    path = tmp_path / "hostile.pickle"
+    path.write_bytes(pickle.dumps({(PATTERN, 0): _Boom()}))
+    assert regexcache._read(path) == {}
+    assert not (tmp_path / "pwned.txt").exists()
+
+
+def test_an_unwritable_cache_folder_costs_nothing(tmp_path):
+    blocked = tmp_path / "file-not-folder"
+    blocked.write_text("x")
+    result = _run(str(blocked / "sub"), FIND)
+    assert result.returncode == 0 and result.stderr == ""
+    assert result.stdout.split()[:2] == ["['3',", "'2']"]
+
+
+def test_off_writes_nothing(tmp_path, monkeypatch):
+    monkeypatch.chdir(tmp_path)
+    result = _run("off", FIND)
+    assert result.returncode == 0
+    assert list(tmp_path.iterdir()) == []
+
+
+@pytest.mark.parametrize("flags", [0, regex.IGNORECASE | regex.V0])
+def test_cached_patterns_match_like_fresh_ones(tmp_path, monkeypatch, flags):
+    monkeypatch.setenv("STUDYGAP_CACHE_DIR", str(tmp_path))
+    fresh = regex.compile(PATTERN, flags)
+    path = tmp_path / "p.pickle"
+    path.write_bytes(pickle.dumps({(PATTERN, int(flags)): fresh}))
+    loaded = regexcache._read(path)[(PATTERN, int(flags))]
+    assert [m.span() for m in loaded.finditer(TEXT)] == [m.span() for m in fresh.finditer(TEXT)]
