@@ -70,6 +70,9 @@ def build_parser() -> argparse.ArgumentParser:
     c.add_argument("--verbose", "-v", action="store_true", help="show every passage and facet")
     c.add_argument("--quiet", "-q", action="store_true", help="no progress display")
     c.add_argument("--no-color", action="store_true", help="no colour (NO_COLOR is respected too)")
+    c.add_argument("--no-cache", action="store_true",
+                   help="check every file afresh instead of reusing the report of an unchanged file from an "
+                        "earlier run")
     _limits_options(c)
 
     o = sub.add_parser("outline", help="what the reader saw: sections, pages, lines, word counts")
@@ -137,7 +140,7 @@ def cmd_check(args) -> int:
         with progress_bar("checking documents", len(args.files), args.quiet) as progress:
             for f in args.files:
                 try:
-                    reports.append(check_document(f, checklist, config, limits))
+                    reports.append(check_document(f, checklist, config, limits, cache=not args.no_cache))
                 except StudygapError as exc:
                     if len(args.files) == 1 or getattr(exc, "path", None) is None:
                         raise

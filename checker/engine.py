@@ -95,18 +95,37 @@ def check_document(
     checklist: str = AUTO,
     config: Config | None = None,
     limits: Limits = DEFAULT_LIMITS,
+    *,
+    cache: bool = False,
 ) -> Report:
+    """The report for one file. With `cache`, an earlier report of the same unchanged file and settings is
+    reused (see checker.resultcache)."""
+    import hashlib
+
+    from . import regexcache
+    from .limits import time_limit
     from .nlp import parse_blocks
     from .readers import read_document
 
-    from .limits import time_limit
-
-    from . import regexcache
-
     config = config or Config()
+    k = None
+    if cache:
+        from . import resultcache
+
+        try:
+            with open(path, "rb") as fh:
+                data = fh.read(limits.max_bytes + 1)
+        except OSError:
+            data = None  # the reader gives the error its proper words
+        k = resultcache.key(path, data, checklist, config, limits) if data is not None else None
+        hit = resultcache.get(k)
+        if hit is not None:
+            return hit
     with time_limit(path, limits.seconds):
         report = _check(path, checklist, config, limits, read_document, parse_blocks)
     regexcache.save()  # here too, as batch workers end without running exit handlers
+    if k is not None and report.sha256 == hashlib.sha256(data).hexdigest():  # not changed while being read
+        resultcache.put(k, report)
     return report
 
 
