@@ -30,6 +30,9 @@ def _limits_options(p: argparse.ArgumentParser) -> None:
                    help="time bound for one checklist regex over one document (default 2)")
     g.add_argument("--seconds", type=float, default=None, metavar="S",
                    help="time bound for checking one document; over it, the document is an error (default 300)")
+    g.add_argument("--pdf-engine", choices=("pdfium", "pdfminer"), default=None,
+                   help="how PDF text is laid out: pdfium (fast, default) or pdfminer (pdfminer.six layout "
+                        "analysis, about ten times slower); both give the same verdicts on the test documents")
 
 
 def _limits(args):
@@ -42,6 +45,8 @@ def _limits(args):
     for k, v in changes.items():
         if v <= 0:
             raise UsageError(f"--{k.replace('_', '-')} must be above 0")
+    if getattr(args, "pdf_engine", None):
+        changes["pdf_engine"] = args.pdf_engine
     return dataclasses.replace(DEFAULT_LIMITS, **changes)
 
 

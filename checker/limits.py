@@ -20,6 +20,9 @@ class Limits:
     max_blocks: int = 200_000  # blocks (paragraphs, rows, headings) in one document
     seconds: float = 300.0  # wall time for one document in a batch
     regex_seconds: float = 2.0  # time bound for one checklist regex over one document
+    #: how PDF text is laid out: "pdfium" (fast, the default) or "pdfminer" (pdfminer.six layout analysis).
+    #: Not a bound, but it travels with the bounds because every reader receives them.
+    pdf_engine: str = "pdfium"
 
 
 DEFAULT_LIMITS = Limits()
