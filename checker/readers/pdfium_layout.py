@@ -33,7 +33,6 @@ _MOVETO = 2
 _NO_MAP = "\ue000"  # stands for a glyph without a character map until a piece is made
 _LONE = re.compile("^\\s*\ue000\\s*$")
 _LEADING = re.compile("^\\s*\ue000\\s+(?=\\S)")
-_ODD = re.compile(r"[\x00\x01\x03-\x08\x0b\x0c\x0e-\x1f\x7f-\x9f\ue000-\uf8ff\ufffd]")
 
 
 class Unsure(Exception):
@@ -46,6 +45,47 @@ def available() -> bool:
     except ImportError:
         return False
     return True
+
+
+#: the PDFium calls used, with handles as plain integers (pypdfium2's typed pointers would need a slow cast
+#: each time one is compared or used as a key): name -> (result type, argument types)
+_VP, _I, _F, _UL = ctypes.c_void_p, ctypes.c_int, ctypes.c_float, ctypes.c_ulong
+_PF = ctypes.POINTER(ctypes.c_float)
+_SIGNATURES = {
+    "FPDFPage_CountObjects": (_I, _VP), "FPDFPage_GetObject": (_VP, _VP, _I), "FPDFPageObj_GetType": (_I, _VP),
+    "FPDFFormObj_CountObjects": (_I, _VP), "FPDFFormObj_GetObject": (_VP, _VP, _UL),
+    "FPDFPageObj_GetMatrix": (_I, _VP, _VP), "FPDFPageObj_GetBounds": (_I, _VP, _PF, _PF, _PF, _PF),
+    "FPDFTextObj_GetText": (_UL, _VP, _VP, _VP, _UL), "FPDFTextObj_GetFont": (_VP, _VP),
+    "FPDFTextObj_GetFontSize": (_I, _VP, _PF), "FPDFFont_GetBaseFontName": (ctypes.c_size_t, _VP, _VP, ctypes.c_size_t),
+    "FPDFFont_GetDescent": (_I, _VP, _F, _PF),
+    "FPDFText_LoadPage": (_VP, _VP), "FPDFText_ClosePage": (None, _VP), "FPDFText_CountChars": (_I, _VP),
+    "FPDFText_GetTextObject": (_VP, _VP, _I), "FPDFText_GetLooseCharBox": (_I, _VP, _I, _VP),
+    "FPDFText_IsGenerated": (_I, _VP, _I), "FPDFText_HasUnicodeMapError": (_I, _VP, _I),
+    "FPDFText_GetUnicode": (ctypes.c_uint, _VP, _I), "FPDFText_GetText": (_I, _VP, _I, _I, _VP),
+    "FPDFPath_CountSegments": (_I, _VP), "FPDFPath_GetPathSegment": (_VP, _VP, _I),
+    "FPDFPathSegment_GetType": (_I, _VP), "FPDFPathSegment_GetPoint": (_I, _VP, _PF, _PF),
+    "FPDFPathSegment_GetClose": (_I, _VP),
+}
+
+
+class _Api:
+    """PDFium's functions re-declared over the same library, taking and giving handles as integers."""
+
+    def __init__(self, raw) -> None:
+        for name, (result, *args) in _SIGNATURES.items():
+            address = ctypes.cast(getattr(raw, name), ctypes.c_void_p).value
+            setattr(self, name, ctypes.CFUNCTYPE(result, *args)(address))
+
+
+_API: _Api | None = None
+
+
+def _api(raw) -> _Api:
+    global _API
+    if _API is None:
+        _API = _Api(raw)
+    return _API
+
 
 
 class _Matrix:
@@ -86,8 +126,10 @@ class _Run:
 class _Reader:
     def __init__(self, raw) -> None:
         self.raw = raw
+        self.api = _api(raw)
         self.buf = ctypes.create_string_buffer(8192)
         self.fmatrix = raw.FS_MATRIX()
+        self.pmatrix = ctypes.byref(self.fmatrix)
         self.fl = [ctypes.c_float() for _ in range(4)]
         self.fonts: dict[int, tuple[bool, float]] = {}
         self.seen: dict[int, set[str]] = {}  # per font, the characters asked about
@@ -97,43 +139,43 @@ class _Reader:
 
     def matrix(self, obj) -> _Matrix:
         m = self.fmatrix
-        if not self.raw.FPDFPageObj_GetMatrix(obj, m):
+        if not self.api.FPDFPageObj_GetMatrix(obj, self.pmatrix):
             return _Matrix()
         return _Matrix(m.a, m.b, m.c, m.d, m.e, m.f)
 
     def bounds(self, obj) -> tuple[float, float, float, float] | None:
         a, b, c, d = self.fl
-        if not self.raw.FPDFPageObj_GetBounds(obj, a, b, c, d):
+        if not self.api.FPDFPageObj_GetBounds(obj, a, b, c, d):
             return None
         return a.value, b.value, c.value, d.value
 
     def text(self, obj, textpage) -> str:
-        raw = self.raw
-        n = raw.FPDFTextObj_GetText(obj, textpage, None, 0)
+        api = self.api
+        n = api.FPDFTextObj_GetText(obj, textpage, None, 0)
         if n <= 2:
             return ""
         if n > len(self.buf):
             self.buf = ctypes.create_string_buffer(n * 2)
-        n = raw.FPDFTextObj_GetText(obj, textpage, ctypes.cast(self.buf, ctypes.POINTER(ctypes.c_ushort)), n)
+        n = api.FPDFTextObj_GetText(obj, textpage, self.buf, n)
         return self.buf.raw[: max(0, n - 2)].decode("utf-16-le", "replace")
 
     def font(self, obj) -> tuple[bool, float]:
         """(bold, descent per unit of font size) of a text object's font."""
         from .pdf import _is_bold
 
-        raw = self.raw
-        font = raw.FPDFTextObj_GetFont(obj)
-        key = ctypes.cast(font, ctypes.c_void_p).value or 0
+        api = self.api
+        font = api.FPDFTextObj_GetFont(obj)
+        key = font or 0
         hit = self.fonts.get(key)
         if hit is None:
-            n = raw.FPDFFont_GetBaseFontName(font, None, 0) if font else 0
+            n = api.FPDFFont_GetBaseFontName(font, None, 0) if font else 0
             name = ""
             if n > 1:
                 b = ctypes.create_string_buffer(n)
-                raw.FPDFFont_GetBaseFontName(font, b, n)
+                api.FPDFFont_GetBaseFontName(font, b, n)
                 name = b.value.decode("latin-1")
             d = self.fl[0]
-            descent = d.value / 1000.0 if font and raw.FPDFFont_GetDescent(font, 1000.0, d) else -0.2
+            descent = d.value / 1000.0 if font and api.FPDFFont_GetDescent(font, 1000.0, d) else -0.2
             hit = self.fonts[key] = (_is_bold(name), max(-1.0, min(0.0, descent)))
         return hit
 
@@ -155,7 +197,10 @@ def pages(path: Path, data: bytes, limits: Limits) -> list:
         n = len(pdf)
         if n > limits.max_pages or n == 0:
             raise Unsure("page count")
-        reader = _Reader(raw)
+        try:
+            reader = _Reader(raw)
+        except AttributeError as exc:  # an older PDFium without some of the calls used here
+            raise Unsure(str(exc)) from None
         return [_page(reader, pdf, i) for i in range(n)]
     finally:
         pdf.close()
@@ -164,7 +209,7 @@ def pages(path: Path, data: bytes, limits: Limits) -> list:
 def _page(reader: _Reader, pdf, index: int):
     from .pdf import _Page
 
-    raw = reader.raw
+    api, raw = reader.api, reader.raw
     try:
         page = pdf[index]
     except Exception as exc:
@@ -176,7 +221,8 @@ def _page(reader: _Reader, pdf, index: int):
         left, bottom, right, top = page.get_mediabox()
         width, height = right - left, top - bottom
         origin = _Matrix(e=-left, f=-bottom)
-        textpage = raw.FPDFText_LoadPage(page.raw)
+        handle = ctypes.cast(page.raw, ctypes.c_void_p).value
+        textpage = api.FPDFText_LoadPage(handle)
         if not textpage:
             raise Unsure("text layer")
         runs: list[_Run] = []
@@ -187,114 +233,146 @@ def _page(reader: _Reader, pdf, index: int):
         def walk(holder, count_fn, get_fn, matrix: _Matrix, take_text: bool) -> None:
             for i in range(count_fn(holder)):
                 obj = get_fn(holder, i)
-                kind = raw.FPDFPageObj_GetType(obj)
+                kind = api.FPDFPageObj_GetType(obj)
                 if kind == _TEXT:
                     if take_text:
                         texts.append((obj, matrix))
                 elif kind == _FORM:
                     m = reader.matrix(obj).then(matrix)
                     big = _covers_page(reader, obj, m, matrix, area) if take_text else False
-                    walk(obj, raw.FPDFFormObj_CountObjects, raw.FPDFFormObj_GetObject, m, take_text and big)
+                    walk(obj, api.FPDFFormObj_CountObjects, api.FPDFFormObj_GetObject, m, take_text and big)
                 elif kind == _IMAGE:
                     counts["images"] += 1
                 elif kind == _PATH:
                     _rules(reader, obj, matrix, height, rules)
 
         texts: list[tuple[object, _Matrix]] = []
-        walk(page.raw, raw.FPDFPage_CountObjects, raw.FPDFPage_GetObject, origin, True)
-        chars = _Chars(raw, textpage)
+        walk(handle, api.FPDFPage_CountObjects, api.FPDFPage_GetObject, origin, True)
+        chars = _Chars(reader, textpage)
         for obj, matrix in texts:
             runs.extend(_text_runs(reader, obj, textpage, matrix, chars, origin))
         pieces, undecoded = _pieces(runs)
         return _Page(index + 1, width, height, tuple(pieces), tuple(rules), counts["images"], undecoded)
     finally:
         if textpage:
-            raw.FPDFText_ClosePage(textpage)
+            api.FPDFText_ClosePage(textpage)
         page.close()
 
 
 class _Chars:
-    """Where each text object's characters sit in PDFium's character list of the page.
+    """Where each text object's characters sit in PDFium's character list of the page, and what they say.
 
     The list follows the objects in drawing order, with generated spaces and line breaks between them, so a
-    cursor finds most objects at once; when PDFium reordered a line, one pass over the page maps them all.
+    cursor finds most objects at once and a galloping search finds where each ends; when PDFium reordered a
+    line, one pass over the page maps them all.
     """
 
-    def __init__(self, raw, textpage) -> None:
-        self.raw, self.textpage = raw, textpage
+    def __init__(self, reader: _Reader, textpage) -> None:
+        api = self.api = reader.api
+        self.reader = reader
+        self.textpage = textpage
         self.cursor = 0
-        self.count = raw.FPDFText_CountChars(textpage)
+        self.count = api.FPDFText_CountChars(textpage)
         self.full: dict[int, list[int]] | None = None
-        self.box = [ctypes.c_double() for _ in range(4)]
-        self.rect = raw.FS_RECTF()
+        self.rect = reader.raw.FS_RECTF()
+        self.prect = ctypes.byref(self.rect)
+        self.text: str | None = None
+        if self.count > 0:
+            buf = ctypes.create_string_buffer((self.count + 1) * 2)
+            api.FPDFText_GetText(textpage, 0, self.count, buf)
+            text = buf.raw[: 2 * self.count].decode("utf-16-le", "replace")
+            if len(text) == self.count:  # one unit per character (no characters beyond the BMP)
+                self.text = text
 
     def _obj(self, i: int) -> int | None:
-        return ctypes.cast(self.raw.FPDFText_GetTextObject(self.textpage, i), ctypes.c_void_p).value
+        return self.api.FPDFText_GetTextObject(self.textpage, i)
 
-    def span(self, obj, length: int) -> tuple[int, int] | None:
-        """First and last character index of a text object with ``length`` characters."""
-        key = ctypes.cast(obj, ctypes.c_void_p).value
+    def _end(self, start: int, key: int) -> int:
+        """The last index of the run of characters from ``start`` that belong to ``key``."""
+        last, step = start, 1
+        while last + step < self.count and self._obj(last + step) == key:
+            last += step
+            step *= 2
+        top = min(last + step, self.count)  # the first index known not to belong, or the end
+        while top - last > 1:
+            mid = (last + top) // 2
+            if self._obj(mid) == key:
+                last = mid
+            else:
+                top = mid
+        return last
+
+    def _map(self) -> None:
+        self.full = {}
+        for i in range(self.count):
+            self.full.setdefault(self._obj(i), []).append(i)
+
+    def locate(self, obj) -> tuple[str, range | list[int]] | None:
+        """A text object's characters: their text and their indexes, or None when it has none."""
+        if self.text is None:
+            return self._locate_slowly(obj)
+        start = None
         if self.full is None:
-            for s in range(self.cursor, min(self.cursor + 4, self.count)):
-                if self._obj(s) == key:
-                    # the object's text and its characters can differ by one or two (a ligature, a hyphen)
-                    expected = s + length - 1
-                    for last in range(min(expected + 2, self.count - 1), max(s, expected - 3) - 1, -1):
-                        if self._obj(last) == key:
-                            self.cursor = last + 1
-                            return s, last
+            for c in range(self.cursor, min(self.cursor + 4, self.count)):
+                if self._obj(c) == obj:
+                    start = c
                     break
-            self.full = {}
-            for i in range(self.count):
-                self.full.setdefault(self._obj(i), []).append(i)
-        idx = self.full.get(key)
-        return (idx[0], idx[-1]) if idx else None
+            if start is None:
+                if not self.reader.text(obj, self.textpage):
+                    return None  # nothing of it in the text layer (drawn twice, or without area)
+                self._map()
+        if start is not None:
+            last = self._end(start, obj)
+            self.cursor = last + 1
+            pos: range | list[int] = range(start, last + 1)
+            text = self.text[start: last + 1]
+        else:
+            pos = self.full.get(obj) or []
+            if not pos:
+                return None
+            text = "".join(self.text[i] for i in pos)
+        if "\ufffe" in text:  # a hyphen PDFium found at a line end, or a character without any code
+            text = "".join(ch if ch != "\ufffe" else ("-" if self.api.FPDFText_GetUnicode(self.textpage, i) == 2
+                                                      else " ") for ch, i in zip(text, pos))
+        return text, pos
+
+    def _locate_slowly(self, obj) -> tuple[str, list[int]] | None:
+        """For a page whose text has characters beyond the BMP: the object's characters one by one."""
+        if self.full is None:
+            self._map()
+        pos = self.full.get(obj) or []
+        chars = []
+        for i in pos:
+            u = self.api.FPDFText_GetUnicode(self.textpage, i)
+            chars.append("-" if u == 2 else chr(u) if 0 < u < 0x110000 else " ")
+        return ("".join(chars), pos) if pos else None
 
     def loose(self, i: int) -> tuple[float, float]:
         """Left and right edge of a character's advance."""
         r = self.rect
-        self.raw.FPDFText_GetLooseCharBox(self.textpage, i, r)
+        self.api.FPDFText_GetLooseCharBox(self.textpage, i, self.prect)
         return r.left, r.right
 
 
 def _text_runs(reader: _Reader, obj, textpage, outer: _Matrix, chars: _Chars, page: _Matrix) -> list[_Run]:
     """A text object as runs of text, cut where a gap inside it is wide (table cells set as one run)."""
-    raw = reader.raw
-    text = reader.text(obj, textpage)
-    if not text.strip():
+    api = reader.api
+    located = chars.locate(obj)
+    if located is None or not located[0].strip():
         return []
+    text, pos = located
     m = reader.matrix(obj).then(outer)
     if not (m.a * m.d > 0 and m.b * m.c <= 0):
         return []  # rotated margin stamps and axis labels are not running text
     fs = reader.fl[0]
-    size = fs.value if raw.FPDFTextObj_GetFontSize(obj, fs) else 0.0
+    size = fs.value if api.FPDFTextObj_GetFontSize(obj, fs) else 0.0
     # the font size in page units: FPDFTextObj_GetFontSize gives it in text space
     size = abs(size * math.hypot(m.c, m.d)) or abs(m.d)
     if size <= 0:
         return []
     bold, descent = reader.font(obj)
     y0 = m.f + descent * size
-    text = text.replace("\x02", "-")
-    span = chars.span(obj, len(text))
-    pos: range | list[int] = range(0)
-    if span is not None:
-        pos = range(span[0], span[1] + 1)
-        if len(pos) != len(text):
-            # the object's text and its characters differ (a ligature, a generated space): spell it from them
-            key = ctypes.cast(obj, ctypes.c_void_p).value
-            pos = [i for i in pos if chars._obj(i) == key]
-            text = "".join(chr(raw.FPDFText_GetUnicode(textpage, i) or 32) for i in pos).replace("\x02", "-")
-            if not text.strip():
-                return []
-        text = _unmapped(reader, obj, textpage, text, pos)
-    elif _ODD.search(text):
-        raise Unsure("characters that cannot be placed")
-    if span is None:
-        b = reader.bounds(obj)
-        if b is None:
-            return []
-        x0, _, x1, _ = outer.box(*b)
-        return [_Run(text, x0, x1, y0, y0 + size, size, bold, _letters(text))]
+    text = _unmapped(reader, obj, textpage, text, pos)
     # text and characters line up one to one: every space is a place the run may be cut
     first, end = chars.loose(pos[0]), chars.loose(pos[-1])
     x0 = page.apply(first[0], 0.0)[0]
@@ -328,8 +406,8 @@ def _text_runs(reader: _Reader, obj, textpage, outer: _Matrix, chars: _Chars, pa
 def _empty_gap(chars: _Chars, indexes: list[int]) -> bool:
     """Whether a wide gap between two letters is empty, as pdfminer sees it: spaces typed into the text are
     characters that bridge it (one line), spaces PDFium inferred from the spacing are not."""
-    raw, tp = chars.raw, chars.textpage
-    real = [indexes[0]] + [i for i in indexes[1:-1] if raw.FPDFText_IsGenerated(tp, i) != 1] + [indexes[-1]]
+    api, tp = chars.api, chars.textpage
+    real = [indexes[0]] + [i for i in indexes[1:-1] if api.FPDFText_IsGenerated(tp, i) != 1] + [indexes[-1]]
     if len(real) == 2:
         return True
     boxes = [chars.loose(i) for i in real]
@@ -351,19 +429,19 @@ def _unmapped(reader: _Reader, obj, textpage, text: str, pos) -> str:
     PDFium puts the glyph's code in their place, which reads like an ordinary letter. Each font is asked about
     each distinct character once; a font found to lack a mapping is asked about every character after that.
     """
-    raw = reader.raw
-    key = ctypes.cast(raw.FPDFTextObj_GetFont(obj), ctypes.c_void_p).value or 0
+    api = reader.api
+    key = api.FPDFTextObj_GetFont(obj) or 0
     if key not in reader.lacking:
         seen = reader.seen.setdefault(key, set())
         new = set(text) - seen
         if not new:
             return text
         seen |= new
-        if not any(raw.FPDFText_HasUnicodeMapError(textpage, pos[text.index(ch)]) == 1
+        if not any(api.FPDFText_HasUnicodeMapError(textpage, pos[text.index(ch)]) == 1
                    for ch in new if not ch.isspace()):
             return text
         reader.lacking.add(key)
-    bad = [k for k, i in enumerate(pos) if raw.FPDFText_HasUnicodeMapError(textpage, i) == 1]
+    bad = [k for k, i in enumerate(pos) if api.FPDFText_HasUnicodeMapError(textpage, i) == 1]
     if not bad:
         return text
     letters = list(text)
@@ -373,7 +451,7 @@ def _unmapped(reader: _Reader, obj, textpage, text: str, pos) -> str:
 
 
 def _letters(text: str) -> int:
-    return sum(1 for ch in text if not ch.isspace())
+    return len("".join(text.split()))
 
 
 def _covers_page(reader: _Reader, form, m: _Matrix, outer: _Matrix, area: float) -> bool:
@@ -397,7 +475,7 @@ def _covers_page(reader: _Reader, form, m: _Matrix, outer: _Matrix, area: float)
 
 def _rules(reader: _Reader, obj, outer: _Matrix, height: float, rules: list) -> None:
     """Horizontal strokes of a path (table rules, and the top and bottom edges of thin boxes)."""
-    raw = reader.raw
+    api = reader.api
     b = reader.bounds(obj)
     if b is None:
         return
@@ -405,19 +483,19 @@ def _rules(reader: _Reader, obj, outer: _Matrix, height: float, rules: list) -> 
     if x1 - x0 <= 10 or y1 - y0 >= 0.3 * height + 4:
         return  # too short for a rule, or a frame taller than a thin box
     m = reader.matrix(obj).then(outer)
-    n = raw.FPDFPath_CountSegments(obj)
+    n = api.FPDFPath_CountSegments(obj)
     if n <= 0 or n > 400:
         return
     fx, fy = reader.fl[0], reader.fl[1]
     subpaths: list[list[tuple[float, float, int, bool]]] = []
     for i in range(n):
-        seg = raw.FPDFPath_GetPathSegment(obj, i)
-        kind = raw.FPDFPathSegment_GetType(seg)
-        raw.FPDFPathSegment_GetPoint(seg, fx, fy)
+        seg = api.FPDFPath_GetPathSegment(obj, i)
+        kind = api.FPDFPathSegment_GetType(seg)
+        api.FPDFPathSegment_GetPoint(seg, fx, fy)
         x, y = m.apply(fx.value, fy.value)
         if kind == _MOVETO or not subpaths:
             subpaths.append([])
-        subpaths[-1].append((x, y, kind, bool(raw.FPDFPathSegment_GetClose(seg))))
+        subpaths[-1].append((x, y, kind, bool(api.FPDFPathSegment_GetClose(seg))))
     for sp in subpaths:
         xs = [p[0] for p in sp]
         ys = [p[1] for p in sp]
