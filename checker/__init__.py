@@ -1,3 +1,7 @@
 """studygap: checks whether a validation-study document reports what its readers need."""
 
 __version__ = "0.1.0"
+
+from . import spacyimport as _spacyimport
+
+_spacyimport.install()

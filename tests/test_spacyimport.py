@@ -1,0 +1,46 @@
+"""spaCy is imported without its command-line tools, and the caller's own later use of them still works."""
+
+from __future__ import annotations
+
+import subprocess
+import sys
+from pathlib import Path
+
+ROOT = Path(__file__).resolve().parent.parent
+
+
+def _run(code: str) -> str:
+    proc = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, cwd=ROOT)
+    assert proc.returncode == 0, proc.stderr
+    return proc.stdout.strip()
+
+
+def test_checking_a_document_leaves_spacy_cli_unimported():
+    out = _run(
+        "import sys\n"
+        "from checker.engine import check_document\n"
+        "r = check_document('fixtures/demo/wrist-fracture-manuscript.md')\n"
+        "print(len(r.items) > 0, 'spacy' in sys.modules, any(m.startswith('spacy.cli') for m in sys.modules))\n"
+    )
+    assert out == "True True False"
+
+
+def test_spacy_cli_is_the_real_one_when_asked_for_later():
+    out = _run(
+        "import checker, spacy\n"
+        "nlp = spacy.blank('en')\n"
+        "import spacy.cli\n"
+        "from spacy.cli.info import info\n"
+        "print(callable(spacy.cli.download), info.__module__, callable(spacy.info))\n"
+    )
+    assert out == "True spacy.cli.info True"
+
+
+def test_spacy_imported_before_studygap_is_left_alone():
+    out = _run(
+        "import spacy, sys\n"
+        "import checker\n"
+        "from checker.spacyimport import _Finder\n"
+        "print('spacy.cli' in sys.modules, any(isinstance(f, _Finder) for f in sys.meta_path))\n"
+    )
+    assert out == "True False"
