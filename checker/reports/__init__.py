@@ -8,9 +8,10 @@ from __future__ import annotations
 
 import importlib
 from dataclasses import dataclass
-from typing import Sequence
+from typing import TYPE_CHECKING, Sequence
 
-from ..report import Report
+if TYPE_CHECKING:  # the report model is not needed to list the formats for --help
+    from ..report import Report
 
 
 @dataclass(frozen=True)
