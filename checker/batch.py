@@ -57,17 +57,18 @@ def warm(checklist: str = "auto") -> None:
 
 
 def check_one(path: str, checklist: str = "auto", config: Config | None = None, limits: Limits = DEFAULT_LIMITS,
-              data: bytes | None = None) -> BatchResult:
+              data: bytes | None = None, cache: bool = False) -> BatchResult:
     """The result for one document; never raises for a bad document (run in workers).
 
     With ``data`` the document's bytes come with the task (for workers that cannot see the file); the report
-    names ``path`` exactly as if the file had been read there.
+    names ``path`` exactly as if the file had been read there. With ``cache`` a file's report from an earlier
+    run is reused while the file and the settings are unchanged (never for ``data``, whose copy is temporary).
     """
     from .engine import check_document
 
     try:
         if data is None:
-            return BatchResult(path, check_document(path, checklist, config, limits))
+            return BatchResult(path, check_document(path, checklist, config, limits, cache=cache))
         return BatchResult(path, _check_bytes(path, data, checklist, config, limits))
     except StudygapError as exc:
         return BatchResult(path, error=_one_line(str(exc), path))
@@ -135,12 +136,14 @@ def run_batch(
     client: Any = None,
     send: str = "path",
     progress: Progress | None = None,
+    cache: bool = False,
 ) -> list[BatchResult]:
     """Check every document; one result per path, in input order; bad documents become error rows.
 
     ``engine="local"`` uses ``jobs`` processes (default: one per CPU; 1 runs in this process).
     ``engine="dask"`` submits to ``client`` or to the scheduler at ``scheduler`` (for example
     ``tcp://host:8786``); ``send="bytes"`` ships each document's bytes for workers that do not share the files.
+    ``cache`` reuses the reports of unchanged files from earlier runs (see checker.resultcache).
     """
     if engine not in ENGINES:
         raise UsageError(f"unknown engine {engine!r}; use one of {', '.join(ENGINES)}")
@@ -153,20 +156,20 @@ def run_batch(
     if not names:
         return []
     if engine == "dask":
-        return _run_dask(names, checklist, config, limits, scheduler, client, send, progress)
+        return _run_dask(names, checklist, config, limits, scheduler, client, send, progress, cache)
     jobs = jobs or os.cpu_count() or 1
     if jobs == 1 or len(names) == 1:
         out = []
         for i, p in enumerate(names, start=1):
-            out.append(check_one(p, checklist, config, limits))
+            out.append(check_one(p, checklist, config, limits, cache=cache))
             if progress is not None:
                 progress(i, len(names), p)
         return out
-    return _run_pool(names, checklist, config, limits, min(jobs, len(names)), progress)
+    return _run_pool(names, checklist, config, limits, min(jobs, len(names)), progress, cache)
 
 
 def _run_pool(names: list[str], checklist: str, config: Config, limits: Limits, jobs: int,
-              progress: Progress | None) -> list[BatchResult]:
+              progress: Progress | None, cache: bool = False) -> list[BatchResult]:
     import multiprocessing
     from concurrent.futures import ProcessPoolExecutor, as_completed
     from concurrent.futures.process import BrokenProcessPool
@@ -176,7 +179,7 @@ def _run_pool(names: list[str], checklist: str, config: Config, limits: Limits, 
         # forked workers share what this process has built (copy-on-write), so build it once here
         warm(checklist)
     with ProcessPoolExecutor(max_workers=jobs, initializer=warm, initargs=(checklist,)) as pool:
-        futures = {pool.submit(check_one, p, checklist, config, limits): i for i, p in enumerate(names)}
+        futures = {pool.submit(check_one, p, checklist, config, limits, None, cache): i for i, p in enumerate(names)}
         for done, fut in enumerate(as_completed(futures), start=1):
             i = futures[fut]
             try:
@@ -190,7 +193,7 @@ def _run_pool(names: list[str], checklist: str, config: Config, limits: Limits, 
 
 
 def _run_dask(names: list[str], checklist: str, config: Config, limits: Limits, scheduler: str | None, client: Any,
-              send: str, progress: Progress | None) -> list[BatchResult]:
+              send: str, progress: Progress | None, cache: bool = False) -> list[BatchResult]:
     try:
         from distributed import Client, as_completed
     except ImportError:
@@ -228,7 +231,7 @@ def _run_dask(names: list[str], checklist: str, config: Config, limits: Limits, 
                 except StudygapError as exc:
                     finished(i, BatchResult(p, error=_one_line(str(exc), p)))
                     continue
-            fut = client.submit(check_one, p, checklist, config, limits, data, pure=False)
+            fut = client.submit(check_one, p, checklist, config, limits, data, cache and data is None, pure=False)
             index[fut.key] = i
             futures.append(fut)
         for fut in as_completed(futures):

@@ -41,6 +41,9 @@ def add_batch_options(p: argparse.ArgumentParser) -> None:
                    help="give Dask workers the file paths (shared file system) or the documents' bytes (default path)")
     p.add_argument("-o", "--output", metavar="PATH", help="write the result to this file (atomically)")
     p.add_argument("--quiet", "-q", action="store_true", help="no progress display")
+    p.add_argument("--no-cache", action="store_true",
+                   help="check every file afresh instead of reusing the report of an unchanged file from an "
+                        "earlier run")
     from .cli import _limits_options
 
     _limits_options(p)
@@ -131,7 +134,8 @@ def run_inputs(args, limits=None):
     checklist, note = resolve_checklist(paths, args.checklist, limits)
     with progress_bar("checking documents", len(paths), args.quiet) as progress:
         results = run_batch(paths, checklist, None, limits, jobs=args.jobs, engine=args.engine,
-                            scheduler=args.scheduler, send=args.send, progress=progress)
+                            scheduler=args.scheduler, send=args.send, progress=progress,
+                            cache=not getattr(args, "no_cache", False))
     return results, note, time.monotonic() - started, paths
 
 

@@ -260,3 +260,36 @@ def test_no_cache_neither_reads_nor_writes_the_cache(cache, doc, capsys):
         _cli(["check", doc, "--checklist", MINI, "-f", "json", "-q", "--no-cache"], capsys)
     assert len(runs) == 2
     assert entries(folder) == []
+
+
+def test_a_batch_reuses_reports_of_unchanged_files_and_rechecks_the_changed_one(cache, tmp_path):
+    from checker.batch import run_batch
+    from checker.reports.json import dumps
+
+    folder, runs = cache
+    paths = []
+    for i in range(3):
+        p = tmp_path / f"proposal-{i}.md"
+        p.write_text(TEXT.replace("Three", ("Two", "Three", "Four")[i]), encoding="utf-8")
+        paths.append(p)
+    first = run_batch(paths, MINI, jobs=1, cache=True)
+    assert len(runs) == 3
+    paths[1].write_text(TEXT.replace("Three", "Five"), encoding="utf-8")
+    second = run_batch(paths, MINI, jobs=1, cache=True)
+    assert runs[3:] == [str(paths[1])]  # only the edited file was read again
+    assert dumps(second[0].report.to_dict()) == dumps(first[0].report.to_dict())
+    run_batch(paths, MINI, jobs=1)  # without the cache every file is read
+    assert len(runs) == 7
+
+
+def test_screen_no_cache_checks_every_file_afresh(cache, tmp_path, doc):
+    folder, runs = cache
+    out = tmp_path / "screen.json"
+    assert main(["screen", str(doc), "--checklist", MINI, "--format", "json", "-o", str(out), "--quiet",
+                 "--jobs", "1"]) == 0
+    assert main(["screen", str(doc), "--checklist", MINI, "--format", "json", "-o", str(out), "--quiet",
+                 "--jobs", "1"]) == 0
+    assert runs == [str(doc)]
+    assert main(["screen", str(doc), "--checklist", MINI, "--format", "json", "-o", str(out), "--quiet",
+                 "--jobs", "1", "--no-cache"]) == 0
+    assert runs == [str(doc), str(doc)]
