@@ -31,6 +31,12 @@ def write_atomic(target: Path, data: str | bytes, inputs: Sequence[str | Path] =
         except OSError:
             continue
     payload = data.encode("utf-8") if isinstance(data, str) else data
+    if target.exists() and not target.is_file():
+        # a device or a pipe (/dev/null, /dev/stdout, a named pipe): renaming over it would replace it with a
+        # plain file, so it is written to as it is
+        with open(target, "wb") as fh:
+            fh.write(payload)
+        return
     fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".part", dir=folder)
     try:
         with os.fdopen(fd, "wb") as fh:

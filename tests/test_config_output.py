@@ -79,3 +79,20 @@ def test_a_written_report_is_readable_like_any_new_file(tmp_path):
     finally:
         os.umask(old)
     assert stat.S_IMODE((tmp_path / "report.html").stat().st_mode) == 0o644
+
+
+def test_writing_to_a_pipe_or_device_keeps_it_what_it_is(tmp_path):
+    import os
+    import stat
+    import threading
+
+    pipe = tmp_path / "report.fifo"
+    os.mkfifo(pipe)
+    received = []
+    reader = threading.Thread(target=lambda: received.append(pipe.read_bytes()), daemon=True)
+    reader.start()
+    write_atomic(pipe, "report through a pipe\n")
+    reader.join(timeout=10)
+    assert received == [b"report through a pipe\n"]
+    assert stat.S_ISFIFO(os.stat(pipe).st_mode)  # still a pipe, not a plain file renamed over it
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["report.fifo"]
