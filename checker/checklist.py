@@ -597,5 +597,8 @@ _CACHE: dict[tuple[str, str, bool], Checklist] = {}
 def _cached(text: str, file: str, builtin: bool = False) -> Checklist:
     key = (file, text, builtin)
     if key not in _CACHE:
-        _CACHE[key] = parse_checklist(text, file, compile_regexes=not builtin)
+        from .resultcache import parsed
+
+        _CACHE[key] = parsed("Checklist", text, file, f"builtin={builtin}",
+                             lambda: parse_checklist(text, file, compile_regexes=not builtin))
     return _CACHE[key]

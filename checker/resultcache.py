@@ -131,19 +131,24 @@ def put(k: str | None, report: Report) -> None:
     folder = _folder()
     if k is None or folder is None:
         return
+    _store(folder / f"{k}.pickle", report)
+
+
+def _store(path: Path, record) -> None:
+    """Pickle a record to path atomically; a read-only or full disk loses nothing but time."""
     try:
-        folder.mkdir(parents=True, exist_ok=True)
-        fd, tmp = tempfile.mkstemp(prefix=".report-", dir=folder)
+        path.parent.mkdir(parents=True, exist_ok=True)
+        fd, tmp = tempfile.mkstemp(prefix=".entry-", dir=path.parent)
         try:
             with os.fdopen(fd, "wb") as fh:
-                pickle.dump(report, fh, protocol=pickle.HIGHEST_PROTOCOL)
-            os.replace(tmp, folder / f"{k}.pickle")
+                pickle.dump(record, fh, protocol=pickle.HIGHEST_PROTOCOL)
+            os.replace(tmp, path)
         except BaseException:
             os.unlink(tmp)
             raise
-        _prune(folder)
-    except (OSError, pickle.PicklingError, TypeError, AttributeError):  # a read-only or full disk: nothing is
-        pass  # lost but time
+        _prune(path.parent)
+    except (OSError, pickle.PicklingError, TypeError, AttributeError):
+        pass
 
 
 def _mtime(p: Path) -> int:
@@ -164,3 +169,28 @@ def _prune(folder: Path) -> None:
             p.unlink()
         except OSError:
             pass
+
+
+def parsed(kind: str, text: str, file: str, options: str, build):
+    """A parsed checklist or rule set, from the cache when the same text was parsed by this same studygap.
+
+    Parsing the YAML with its line marks costs a few tenths of a second in every process; the parsed records
+    are studygap's own frozen dataclasses, kept in ``parsed/`` of the cache folder and read back through the
+    same restricted unpickler as reports. Errors are never cached: a file that fails is parsed (and fails)
+    again each time.
+    """
+    d = cache_dir()
+    if d is None:
+        return build()
+    h = hashlib.sha256(f"{kind}\0{file}\0{options}\0{_code_stamp()}\0".encode())
+    h.update(text.encode("utf-8"))
+    path = d / "parsed" / f"{h.hexdigest()}.pickle"
+    try:
+        found = _ReportsOnly(io.BytesIO(path.read_bytes())).load()
+        if type(found).__name__ == kind:
+            return found
+    except Exception:  # absent, damaged or foreign: parse afresh
+        pass
+    result = build()
+    _store(path, result)
+    return result

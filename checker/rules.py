@@ -269,7 +269,9 @@ def parse_rules(text: str, file: str) -> RuleSet:
 
 @lru_cache(maxsize=8)
 def _parse_cached(text: str, file: str) -> RuleSet:
-    return parse_rules(text, file)
+    from .resultcache import parsed
+
+    return parsed("RuleSet", text, file, "", lambda: parse_rules(text, file))
 
 
 def load_rules(path: str | Path | None = None) -> RuleSet:

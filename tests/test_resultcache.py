@@ -293,3 +293,29 @@ def test_screen_no_cache_checks_every_file_afresh(cache, tmp_path, doc):
     assert main(["screen", str(doc), "--checklist", MINI, "--format", "json", "-o", str(out), "--quiet",
                  "--jobs", "1", "--no-cache"]) == 0
     assert runs == [str(doc), str(doc)]
+
+
+def test_parsed_checklists_are_reused_and_errors_are_never_kept(cache, tmp_path, monkeypatch):
+    from checker import checklist as checklist_module
+    from checker.errors import ChecklistError
+
+    folder, _runs = cache
+    text = (DATA / "checklists" / "mini.yaml").read_text(encoding="utf-8")
+    first = resultcache.parsed("Checklist", text, "mini.yaml", "", lambda: checklist_module.parse_checklist(
+        text, "mini.yaml"))
+    assert len(list((folder / "parsed").glob("*.pickle"))) == 1
+
+    def fail():
+        raise AssertionError("parsed again although nothing changed")
+
+    assert resultcache.parsed("Checklist", text, "mini.yaml", "", fail) == first
+    for entry in (folder / "parsed").glob("*.pickle"):
+        entry.write_bytes(b"damaged")
+    assert resultcache.parsed("Checklist", text, "mini.yaml", "",
+                              lambda: checklist_module.parse_checklist(text, "mini.yaml")) == first
+    broken = "id: [unclosed\n"
+    for _ in range(2):  # the error comes from parsing each time; nothing is kept for it
+        with pytest.raises(ChecklistError):
+            resultcache.parsed("Checklist", broken, "broken.yaml", "",
+                               lambda: checklist_module.parse_checklist(broken, "broken.yaml"))
+    assert len(list((folder / "parsed").glob("*.pickle"))) == 1
