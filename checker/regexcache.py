@@ -99,17 +99,22 @@ def save() -> None:
         merged.update(_memo)
         if len(merged) > _MAX_ENTRIES:
             merged = dict(_memo)
-        path.parent.mkdir(parents=True, exist_ok=True)
-        fd, tmp = tempfile.mkstemp(prefix=".regex-", dir=path.parent)
-        try:
-            with os.fdopen(fd, "wb") as fh:
-                pickle.dump(merged, fh, protocol=pickle.HIGHEST_PROTOCOL)
-            os.replace(tmp, path)
-        except BaseException:
-            os.unlink(tmp)
-            raise
+        pickle_atomically(path, merged)
     except OSError:  # a read-only home or a full disk: the next run compiles again, nothing is lost
         pass
+
+
+def pickle_atomically(path: Path, value) -> None:
+    """Pickle value to path so that a reader sees the old file or the whole new one (studygap's caches)."""
+    path.parent.mkdir(parents=True, exist_ok=True)
+    fd, tmp = tempfile.mkstemp(prefix=f".{path.stem[:20]}-", dir=path.parent)
+    try:
+        with os.fdopen(fd, "wb") as fh:
+            pickle.dump(value, fh, protocol=pickle.HIGHEST_PROTOCOL)
+        os.replace(tmp, path)
+    except BaseException:
+        os.unlink(tmp)
+        raise
 
 
 atexit.register(save)

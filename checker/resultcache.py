@@ -18,13 +18,12 @@ import json
 import os
 import pickle
 import sys
-import tempfile
 from functools import lru_cache
 from pathlib import Path
 
 from .config import Config
 from .limits import Limits
-from .regexcache import cache_dir
+from .regexcache import cache_dir, pickle_atomically
 from .report import Report
 
 _MAX_ENTRIES = 500
@@ -135,17 +134,9 @@ def put(k: str | None, report: Report) -> None:
 
 
 def _store(path: Path, record) -> None:
-    """Pickle a record to path atomically; a read-only or full disk loses nothing but time."""
+    """Keep a record; a read-only or full disk loses nothing but time."""
     try:
-        path.parent.mkdir(parents=True, exist_ok=True)
-        fd, tmp = tempfile.mkstemp(prefix=".entry-", dir=path.parent)
-        try:
-            with os.fdopen(fd, "wb") as fh:
-                pickle.dump(record, fh, protocol=pickle.HIGHEST_PROTOCOL)
-            os.replace(tmp, path)
-        except BaseException:
-            os.unlink(tmp)
-            raise
+        pickle_atomically(path, record)
         _prune(path.parent)
     except (OSError, pickle.PicklingError, TypeError, AttributeError):
         pass

@@ -150,6 +150,13 @@ def _is_bold(fontname: str) -> bool:
     return bool(_BOLD_FONT.search(fontname.split("+", 1)[-1]))
 
 
+def _undecoded(raw: str) -> tuple[str, int]:
+    """A line's text with its glyphs without a character map, written (cid:N), settled: one standing alone at
+    the start of the line is a bullet in practice; the others are counted (_clean drops them)."""
+    raw = "•" if _LONE_CID.match(raw) else _LEADING_CID.sub("• ", raw, count=1)
+    return raw, len(_CID.findall(raw))
+
+
 def _piece(line) -> tuple[_Piece | None, int]:
     from pdfminer.layout import LTAnno, LTChar
 
@@ -173,10 +180,7 @@ def _piece(line) -> tuple[_Piece | None, int]:
         elif isinstance(ch, LTAnno) and parts:
             parts.append(ch.get_text())
             bold.append(None)
-    raw = "".join(parts)
-    # an undecodable glyph standing alone at the start of a line is a bullet in practice
-    raw = "•" if _LONE_CID.match(raw) else _LEADING_CID.sub("• ", raw, count=1)
-    undecoded = len(_CID.findall(raw))
+    raw, undecoded = _undecoded("".join(parts))
     text = _clean(raw)
     if not text or not sizes:
         return None, undecoded

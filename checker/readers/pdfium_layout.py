@@ -19,9 +19,11 @@ from __future__ import annotations
 import ctypes
 import math
 import re
+from itertools import takewhile
 from pathlib import Path
 
 from ..limits import Limits
+from .pdf import _clean, _is_bold, _Page, _Piece, _undecoded
 
 #: split a line where the gap between two characters exceeds this many of their widths (pdfminer's char_margin)
 _CHAR_MARGIN = 1.6
@@ -30,21 +32,11 @@ _SPACE = 0.1
 
 _TEXT, _PATH, _IMAGE, _FORM = 1, 2, 3, 5
 _MOVETO = 2
-_NO_MAP = "\ue000"  # stands for a glyph without a character map until a piece is made
-_LONE = re.compile("^\\s*\ue000\\s*$")
-_LEADING = re.compile("^\\s*\ue000\\s+(?=\\S)")
+_NO_MAP = "\ue000"  # one character for a glyph without a character map, so text and indexes stay aligned
 
 
 class Unsure(Exception):
     """The fast path cannot vouch for this file; read it the careful way."""
-
-
-def available() -> bool:
-    try:
-        import pypdfium2  # noqa: F401
-    except ImportError:
-        return False
-    return True
 
 
 #: the PDFium calls used, with handles as plain integers (pypdfium2's typed pointers would need a slow cast
@@ -87,7 +79,6 @@ def _api(raw) -> _Api:
     return _API
 
 
-
 class _Matrix:
     __slots__ = ("a", "b", "c", "d", "e", "f")
 
@@ -115,12 +106,11 @@ class _Run:
 
     __slots__ = ("text", "x0", "x1", "y0", "y1", "size", "bold", "chars", "w0", "w1")
 
-    def __init__(self, text, x0, x1, y0, y1, size, bold, chars, w0=None, w1=None):
+    def __init__(self, text, x0, x1, y0, y1, size, bold, chars, w0, w1):
         self.text, self.x0, self.x1, self.y0, self.y1 = text, x0, x1, y0, y1
         self.size, self.bold, self.chars = size, bold, chars
         # the advance widths of the first and the last character, which set how wide a gap splits a line
-        self.w0 = 0.5 * size if w0 is None else w0
-        self.w1 = 0.5 * size if w1 is None else w1
+        self.w0, self.w1 = w0, w1
 
 
 class _Reader:
@@ -161,8 +151,6 @@ class _Reader:
 
     def font(self, obj) -> tuple[bool, float]:
         """(bold, descent per unit of font size) of a text object's font."""
-        from .pdf import _is_bold
-
         api = self.api
         font = api.FPDFTextObj_GetFont(obj)
         key = font or 0
@@ -207,8 +195,6 @@ def pages(path: Path, data: bytes, limits: Limits) -> list:
 
 
 def _page(reader: _Reader, pdf, index: int):
-    from .pdf import _Page
-
     api, raw = reader.api, reader.raw
     try:
         page = pdf[index]
@@ -502,15 +488,14 @@ def _rules(reader: _Reader, obj, outer: _Matrix, height: float, rules: list) -> 
         sx0, sx1, sy0, sy1 = min(xs), max(xs), min(ys), max(ys)
         w, h = sx1 - sx0, sy1 - sy0
         curved = any(p[2] == 1 for p in sp)
-        if len(sp) == 2 and not curved:  # a line
-            if w > 10 and h < 1.5:
-                rules.append((round((sy0 + sy1) / 2, 2), sx0, sx1))
-        elif not curved and len(sp) in (4, 5) and _axis_aligned(sp):  # a rectangle
-            if w > 10 and h < 1.5:
-                rules.append((round((sy0 + sy1) / 2, 2), sx0, sx1))
-            elif w > 10 and h < 0.3 * height:
-                rules.append((round(sy0, 2), sx0, sx1))
-                rules.append((round(sy1, 2), sx0, sx1))
+        if curved or w <= 10:
+            continue
+        line, box = len(sp) == 2, len(sp) in (4, 5) and _axis_aligned(sp)
+        if (line or box) and h < 1.5:  # a stroke, or a box thin enough to be one
+            rules.append((round((sy0 + sy1) / 2, 2), sx0, sx1))
+        elif box and h < 0.3 * height:  # a thin box: its top and bottom edges
+            rules.append((round(sy0, 2), sx0, sx1))
+            rules.append((round(sy1, 2), sx0, sx1))
 
 
 def _axis_aligned(points: list[tuple[float, float, int, bool]]) -> bool:
@@ -529,8 +514,6 @@ def _pieces(runs: list[_Run]) -> tuple[list, int]:
     """Runs joined into pieces as pdfminer joins characters into lines: one after the other in drawing order,
     on one line and nearly touching. Runs that only happen to sit side by side (two captions next to each
     other) stay apart, as they do on the careful path."""
-    from .pdf import _clean, _Piece
-
     out = []
     group: list[_Run] = []
     for run in runs:
@@ -542,51 +525,37 @@ def _pieces(runs: list[_Run]) -> tuple[list, int]:
                     apart < _CHAR_MARGIN * max(prev.w1, run.w0):
                 group.append(run)
                 continue
-            out.append(_piece_of(group, _clean, _Piece))
+            out.append(_piece_of(group))
         group = [run]
     if group:
-        out.append(_piece_of(group, _clean, _Piece))
+        out.append(_piece_of(group))
     return [p for p, _n in out if p is not None], sum(n for _p, n in out)
 
 
-def _piece_of(group: list[_Run], clean, piece_type):
-    parts: list[str] = []
-    end = None
-    for run in group:
-        if parts and end is not None and run.x0 - end > _SPACE * run.size and not parts[-1].endswith(" ") \
-                and not run.text.startswith(" "):
+def _piece_of(group: list[_Run]) -> tuple[_Piece | None, int]:
+    """One line piece from runs, with the careful path's words: a space where runs stand apart, glyphs without a
+    character map settled as there (written as pdfminer writes them)."""
+    parts = [group[0].text]
+    end = group[0].x1
+    for run in group[1:]:
+        if run.x0 - end > _SPACE * run.size and not parts[-1].endswith(" ") and not run.text.startswith(" "):
             parts.append(" ")
         parts.append(run.text)
-        end = run.x1 if end is None else max(end, run.x1)
-    raw = "".join(parts)
-    undecoded = 0
-    if _NO_MAP in raw:
-        # as the careful path: a lone unmapped glyph at the start of a line is a bullet, the rest are left out
-        raw = "•" if _LONE.match(raw) else _LEADING.sub("• ", raw, count=1)
-        undecoded = raw.count(_NO_MAP)
-        raw = raw.replace(_NO_MAP, "")
-    text = clean(raw)
+        end = max(end, run.x1)
+    raw, undecoded = _undecoded("".join(parts).replace(_NO_MAP, "(cid:0)"))
+    text = _clean(raw)
     chars = sum(r.chars for r in group)
     if not text or not chars:
         return None, undecoded
     share = sum(r.chars for r in group if r.bold) / chars
     prefix = ""
     if 0 < share < 1 and group[0].bold:
-        head = clean(" ".join(r.text for r in _leading_bold(group)))
+        head = _clean(" ".join(r.text for r in takewhile(lambda r: r.bold, group)))
         if head and text.startswith(head):
             prefix = head
     sizes = sorted(s for r in group for s in [r.size] * max(r.chars, 1))
-    return piece_type(
+    return _Piece(
         text=text, x0=min(r.x0 for r in group), x1=max(r.x1 for r in group), y0=min(r.y0 for r in group),
         y1=max(r.y1 for r in group), size=sizes[len(sizes) // 2], bold=share, bold_prefix=prefix,
         ends_soft=raw.rstrip().endswith("\u00ad"), chars=chars,
     ), undecoded
-
-
-def _leading_bold(group: list[_Run]) -> list[_Run]:
-    out = []
-    for r in group:
-        if not r.bold:
-            break
-        out.append(r)
-    return out
