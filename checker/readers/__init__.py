@@ -120,7 +120,10 @@ def read_document(path: str | Path, limits: Limits = DEFAULT_LIMITS, *, fmt: str
         raise InputError(path, "reading it needed more memory than allowed") from None
     if len(parsed.blocks) > limits.max_blocks:
         raise InputError(path, f"more than {limits.max_blocks} blocks of text", "raise --max-blocks if genuine")
-    blocks = assign_sections(parsed.blocks)
+    from .hygiene import clean_blocks
+
+    cleaned, hygiene_warnings = clean_blocks(parsed.blocks)
+    blocks = assign_sections(cleaned)
     if not any(b.text.strip() for b in blocks):
         raise InputError(path, "no text found in the document", "is it empty, or an image?")
     return Document(
@@ -129,5 +132,5 @@ def read_document(path: str | Path, limits: Limits = DEFAULT_LIMITS, *, fmt: str
         blocks=tuple(blocks),
         pages=parsed.pages,
         sha256=hashlib.sha256(data).hexdigest(),
-        warnings=tuple(parsed.warnings),
+        warnings=tuple(parsed.warnings) + tuple(hygiene_warnings),
     )
