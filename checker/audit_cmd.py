@@ -42,10 +42,14 @@ def add_parser(subparsers) -> argparse.ArgumentParser:
 
 
 def run(args) -> int:
-    """Run `studygap audit`; returns the exit code."""
-    from .audit import build_audit, load_meta, plot, render
+    """Run `studygap audit`; returns the exit code.
+
+    The table (or JSON) is written before the plot is drawn, so a plot that cannot be drawn never costs the
+    numbers: that failure is one line on stderr and exit code 2, with the table already in place.
+    """
+    from .audit import PlotError, build_audit, load_meta, plot, render, sidecar
     from .output import write_atomic
-    from .screen_cmd import run_inputs, write_output
+    from .screen_cmd import run_inputs, write_csv, write_output
 
     try:
         meta = None
@@ -57,16 +61,27 @@ def run(args) -> int:
                 raise UsageError(f"{args.meta}: has no field {args.by!r} (it has {', '.join(fields)})")
         if args.plot and Path(args.plot).suffix.lower() not in (".png", ".svg"):
             raise UsageError(f"{args.plot}: the plot is written as .png or .svg")
-        results, note, seconds, paths = run_inputs(args)
-        for r in results:
-            if not r.ok:
-                print(f"studygap: error: {r.error}", file=sys.stderr)
-        audit = build_audit(results, note, by=args.by, meta=meta, seconds=seconds)
+        skipped: list[tuple[str, str]] = []
+        results, note, seconds, paths = run_inputs(args, skipped=skipped)
+        audit = build_audit(results, note, by=args.by, meta=meta, seconds=seconds, skipped=skipped)
+        for path in audit.unmatched:
+            print(f"studygap: no metadata row: {path} (counted under \"(no metadata)\")", file=sys.stderr)
         inputs = paths + ([args.meta] if args.meta else [])
-        if args.plot:
-            write_atomic(Path(args.plot), plot(audit, args.plot), inputs)
-        write_output(render(audit, args.format), args.output, inputs)
+        if args.format == "csv":
+            write_csv(render(audit, "csv"), sidecar(audit), args.output, inputs)
+        else:
+            write_output(render(audit, args.format), args.output, inputs)
     except StudygapError as exc:
         print(exc.line(), file=sys.stderr)
         return int(ExitCode.ERROR)
+    if args.plot:
+        try:
+            write_atomic(Path(args.plot), plot(audit, args.plot), inputs)
+        except StudygapError as exc:
+            print(exc.line() + " (the rates were written all the same)", file=sys.stderr)
+            return int(ExitCode.ERROR)
+        except (PlotError, ValueError, RuntimeError, OSError) as exc:
+            print(f"studygap: error: {args.plot}: the plot could not be drawn ({exc}); the rates were written all "
+                  "the same", file=sys.stderr)
+            return int(ExitCode.ERROR)
     return int(ExitCode.SOME_INPUTS_FAILED if audit.errors else ExitCode.OK)

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import argparse
+import json
 import os
 import sys
 import time
@@ -61,22 +62,42 @@ def add_parser(subparsers) -> argparse.ArgumentParser:
     return p
 
 
-def collect_inputs(inputs: list[str]) -> list[str]:
-    """Files as given, and each folder's readable documents (sorted); a missing input stays, to become an error row."""
+def collect_inputs(inputs: list[str], skipped: list[tuple[str, str]] | None = None) -> list[str]:
+    """Files as given, and each folder's readable documents (sorted); a missing input stays, to become an error row.
+
+    Files in a folder that are not checked are added to ``skipped`` as (path, reason), so that outputs can name
+    them: a kind studygap does not read, a hidden file or folder, a LaTeX part of a main file.
+    """
     from .readers import supported_suffixes
 
     suffixes = set(supported_suffixes())
     out: list[str] = []
+    skips = skipped if skipped is not None else []
     for name in inputs:
         path = Path(name)
         if path.is_dir():
-            found = sorted(str(p) for p in path.rglob("*") if p.is_file() and p.suffix.lower() in suffixes
-                           and not any(part.startswith(".") for part in p.relative_to(path).parts))
-            found = _without_latex_parts(found)
-            if not found:
+            found = []
+            for p in sorted(path.rglob("*"), key=str):
+                rel = p.relative_to(path).parts
+                hidden = next((i for i, part in enumerate(rel) if part.startswith(".")), None)
+                if hidden is not None:
+                    # a hidden folder is named once, not file by file (a .git folder holds thousands)
+                    if hidden == len(rel) - 1:
+                        skips.append((str(p), "hidden " + ("folder, not searched" if p.is_dir() else "file")))
+                    continue
+                if not p.is_file():
+                    continue
+                if p.suffix.lower() in suffixes:
+                    found.append(str(p))
+                else:
+                    skips.append((str(p), f"not a kind of file studygap reads ({p.suffix or 'no suffix'})"))
+            kept = _without_latex_parts(found)
+            skips.extend((p, "LaTeX part without \\documentclass, read as part of its main file")
+                         for p in found if p not in kept)
+            if not kept:
                 raise UsageError(f"{name}: no documents found in this folder (studygap reads "
                                  f"{', '.join(sorted(suffixes))})")
-            out.extend(found)
+            out.extend(kept)
         else:
             out.append(name)
     return out
@@ -119,8 +140,11 @@ def resolve_checklist(paths: list[str], checklist: str | None, limits) -> tuple[
     return "validation-study", "validation-study, the default (no document could be read to choose one)"
 
 
-def run_inputs(args, limits=None):
-    """Resolve inputs and checklist, run the batch with a progress display; (results, note, seconds, paths)."""
+def run_inputs(args, limits=None, skipped: list[tuple[str, str]] | None = None):
+    """Resolve inputs and checklist, run the batch with a progress display; (results, note, seconds, paths).
+
+    Files of the given folders that are not checked are added to ``skipped`` and named on stderr.
+    """
     from .batch import run_batch
     from .cli import _limits
 
@@ -129,14 +153,35 @@ def run_inputs(args, limits=None):
         raise UsageError("--jobs must be 1 or more")
     if args.engine == "dask" and not args.scheduler:
         raise UsageError("--engine dask needs --scheduler ADDRESS (for example tcp://host:8786)")
-    paths = collect_inputs(args.inputs)
+    skips: list[tuple[str, str]] = [] if skipped is None else skipped
+    paths = collect_inputs(args.inputs, skips)
+    for path, why in skips:
+        print(f"studygap: skipped: {path}: {why}", file=sys.stderr)
     started = time.monotonic()
     checklist, note = resolve_checklist(paths, args.checklist, limits)
     with progress_bar("checking documents", len(paths), args.quiet) as progress:
         results = run_batch(paths, checklist, None, limits, jobs=args.jobs, engine=args.engine,
                             scheduler=args.scheduler, send=args.send, progress=progress,
                             cache=not getattr(args, "no_cache", False))
+    for r in results:
+        if not r.ok:
+            print(f"studygap: error: {r.error}", file=sys.stderr)
     return results, note, time.monotonic() - started, paths
+
+
+def sidecar_path(output: str) -> Path:
+    """Where a CSV's notes go: rates.csv -> rates.meta.json beside it."""
+    p = Path(output)
+    return p.with_name(p.stem + ".meta.json") if p.suffix else p.with_name(p.name + ".meta.json")
+
+
+def write_csv(text: str, meta: dict, output: str | None, inputs: list[str]) -> None:
+    """A CSV table, and beside a named file its notes as JSON (a CSV holds one header row and the rows only)."""
+    write_output(text, output, inputs)
+    if output and output != "-" and (Path(output).is_file() or not Path(output).exists()):
+        from .output import write_atomic
+
+        write_atomic(sidecar_path(output), json.dumps(meta, ensure_ascii=False, indent=2) + "\n", inputs)
 
 
 def write_output(text: str, output: str | None, inputs: list[str]) -> None:
@@ -157,9 +202,6 @@ def run(args) -> int:
         if getattr(args, "output", None) and os.path.isdir(args.output):
             raise UsageError(f"{args.output}: is a folder; give a file name for the output")
         results, note, seconds, paths = run_inputs(args)
-        for r in results:
-            if not r.ok:
-                print(f"studygap: error: {r.error}", file=sys.stderr)
         screen = build_screen(results, note, seconds)
         write_output(render(screen, args.format), args.output, paths)
     except StudygapError as exc:

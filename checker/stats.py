@@ -34,8 +34,12 @@ def wilson_interval(proportion: float, n: int, z: float = 1.96) -> tuple[float, 
     denom = 1.0 + z2 / n
     centre = (proportion + z2 / (2 * n)) / denom
     half = (z / denom) * math.sqrt(proportion * (1.0 - proportion) / n + z2 / (4.0 * n * n))
-    # rounding can push an end a hair past 0 or 1 when the proportion is 0 or 1
-    return max(0.0, centre - half), min(1.0, centre + half)
+    # The interval always holds the observed proportion and lies in [0, 1]. Rounding alone can put the low end a
+    # hair above 0 when nothing was observed (1.4e-17 for 0 of 24) or the high end a hair below 1 for n of n;
+    # both ends are clamped so that the rate minus its low end, and its high end minus the rate, are never negative.
+    low = min(max(0.0, centre - half), proportion)
+    high = max(min(1.0, centre + half), proportion)
+    return low, high
 
 
 def wilson_counts(successes: int, n: int, z: float = 1.96) -> tuple[float, float]:

@@ -149,13 +149,166 @@ def test_audit_command_writes_table_and_plot(corpus, tmp_path, capsys):
                  "--format", "csv", "-o", str(out), "--plot", str(chart), "--jobs", "2", "--quiet")
     assert audit_cmd.run(args) == 0
     text = out.read_text(encoding="utf-8")
-    table = [row for row in csv.DictReader(io.StringIO(text)) if not row["group"].startswith("#") and row["item"]]
+    table = list(csv.DictReader(io.StringIO(text)))
     assert {row["group"] for row in table} == {"2023", "2024"}
-    assert "partial counts as not reported" in text and "not a judgement" in text
+    assert not text.startswith("#") and "\n#" not in text  # the notes are in the sidecar, not in the table
+    notes = json.loads((tmp_path / "rates.meta.json").read_text(encoding="utf-8"))
+    assert "partial counts as not reported" in notes["rate"]
+    assert any("not a judgement" in c for c in notes["cautions"])
+    assert notes["summary"] == {"documents": 8, "checked": 8, "errors": 0, "skipped": 0}
     assert chart.read_bytes().startswith(b"<?xml")
     bad = parse("audit", str(folder), "--meta", str(meta), "--by", "country", "--quiet")
     assert audit_cmd.run(bad) == 2
     assert "has no field 'country'" in capsys.readouterr().err
+
+
+def test_audit_csv_reads_as_one_row_per_rate_with_csv_and_pandas(corpus_results):
+    # external reader: pandas.read_csv with its defaults, beside the standard csv module
+    pd = pytest.importorskip("pandas", reason="pandas is not installed (it comes with statsmodels, a test extra)")
+    from checker.audit import COLUMNS, render
+
+    audit = build_audit(corpus_results[:10], "validation-study, named by the user")
+    text = render(audit, "csv")
+    rows = list(csv.reader(io.StringIO(text)))
+    assert rows[0] == list(COLUMNS) and len(rows) == 1 + len(audit.rows)
+    assert all(len(r) == len(COLUMNS) for r in rows)
+    frame = pd.read_csv(io.StringIO(text))
+    assert frame.shape == (len(audit.rows), len(COLUMNS))
+    assert list(frame["item"])[:2] == [r.item for r in audit.rows[:2]]
+
+
+def proposal_variants(folder: Path, count: int) -> list[str]:
+    """Proposals built from the demo proposal, each without one of its sections (a fixed-seed draw)."""
+    text = (DEMO / "kidney-stone-benchmark-proposal.md").read_text(encoding="utf-8")
+    parts = text.split("\n## ")
+    rng = random.Random(7)
+    out = []
+    for n in range(count):
+        drop = rng.randrange(1, len(parts))
+        path = folder / f"proposal-{n:02d}.md"
+        path.write_text("\n## ".join(p for i, p in enumerate(parts) if i != drop), encoding="utf-8")
+        out.append(str(path))
+    return out
+
+
+@pytest.fixture(scope="module")
+def mixed_results(corpus_results, tmp_path_factory):
+    """32 documents: 24 manuscripts checked against validation-study, 8 proposals against benchmark-proposal, as a
+    batch returns them when each document's checklist is chosen for it."""
+    paths = proposal_variants(tmp_path_factory.mktemp("proposals"), 8)
+    proposals = run_batch(paths, "benchmark-proposal", jobs=2)
+    assert all(r.ok for r in proposals)
+    mixed = list(corpus_results[:24])
+    for k, r in enumerate(proposals):
+        mixed.insert(3 * k + 1, r)
+    return mixed
+
+
+def test_audit_of_a_mixed_corpus_gives_rates_per_checklist(mixed_results, corpus_results):
+    from checker.audit import render
+
+    audit = build_audit(mixed_results)
+    assert [(c[0], c[3]) for c in audit.checklists] == [("validation-study", 24), ("benchmark-proposal", 8)]
+    manuscripts = {r.item: r for r in audit.rows if r.checklist == "validation-study"}
+    proposals = {r.item: r for r in audit.rows if r.checklist == "benchmark-proposal"}
+    assert manuscripts and proposals and set(manuscripts) != set(proposals)  # some ids are shared, not all
+    # the manuscripts' rates are the rates of those 24 alone: the proposals do not dilute them
+    alone = {r.item: r for r in build_audit(corpus_results[:24]).rows}
+    for item, r in manuscripts.items():
+        assert (r.reported, r.partial, r.applicable) == (alone[item].reported, alone[item].partial,
+                                                         alone[item].applicable)
+    assert all(r.applicable <= 8 for r in proposals.values())
+    term = render(audit, "terminal")
+    assert "validation-study 1.0 (24 documents)" in term and "(8 documents)" in term
+    data = json.loads(render(audit, "json"))
+    assert {r["checklist"] for r in data["rates"]} == {"validation-study", "benchmark-proposal"}
+
+
+def test_audit_plot_draws_for_every_corpus_size_from_1_to_60(mixed_results, tmp_path):
+    """Every size n from 1 to 60 (the 32 documents again under other names past 32): items at 0% and at 100% for
+    many n gave Wilson ends a hair outside the rate, and matplotlib refused the negative error bar."""
+    pytest.importorskip("matplotlib", reason="matplotlib is not installed (pip install 'studygap[plot]')")
+    import matplotlib.pyplot as plt
+
+    from checker.audit import figure
+    from checker.batch import BatchResult
+
+    edges = 0
+    for n in range(1, 61):
+        results = [BatchResult(f"copy-{k}/{Path(r.path).name}", r.report)
+                   for k, r in ((k, mixed_results[k % len(mixed_results)]) for k in range(n))]
+        audit = build_audit(results)
+        edges += sum(1 for r in audit.rows if r.applicable and r.reported in (0, r.applicable))
+        for r in audit.rows:
+            if r.rate is not None:
+                assert r.low <= r.rate <= r.high, (n, r)
+        plt.close(figure(audit))  # the error bars are checked as the figure is built
+    assert edges > 100  # the edges were met, many times
+    # drawn in full through the command's path for a few sizes, including those that failed before
+    assert plot(build_audit(mixed_results[:3]), tmp_path / "r3.svg").startswith(b"<?xml")
+    assert plot(build_audit(mixed_results[:24]), tmp_path / "r24.png").startswith(b"\x89PNG")
+
+
+def test_audit_plot_labels_lie_inside_the_figure_and_show_n(mixed_results):
+    pytest.importorskip("matplotlib", reason="matplotlib is not installed (pip install 'studygap[plot]')")
+    import matplotlib.pyplot as plt
+    from matplotlib.text import Text
+
+    from checker.audit import figure
+
+    audit = build_audit(mixed_results)
+    fig = figure(audit)
+    fig.canvas.draw()
+    renderer = fig.canvas.get_renderer()
+    box = fig.bbox
+    texts = [t for t in fig.findobj(Text) if t.get_visible() and t.get_text().strip()]
+    assert texts
+    for t in texts:
+        ext = t.get_window_extent(renderer)
+        assert ext.x0 >= box.x0 - 1 and ext.x1 <= box.x1 + 1 and ext.y0 >= box.y0 - 1 and ext.y1 <= box.y1 + 1, \
+            t.get_text()
+    words = [t.get_text() for t in texts]
+    assert "n=24" in words and any("n = documents where the item applies" in w for w in words)
+    assert sum(1 for w in words if "documents" in w and ("validation-study" in w or "benchmark-proposal" in w)) == 2
+    plt.close(fig)
+
+
+def test_audit_names_unread_and_skipped_files_and_keeps_the_table_when_the_plot_fails(corpus, tmp_path, capsys,
+                                                                                      monkeypatch):
+    pytest.importorskip("matplotlib", reason="matplotlib is not installed (pip install 'studygap[plot]')")
+    docs, _ = corpus
+    folder = tmp_path / "in"
+    folder.mkdir()
+    for path, _, _ in docs[:3]:
+        shutil.copy(path, folder)
+    (folder / "saved-page.pdf").write_text("<html><body>Sign in to read</body></html>", encoding="utf-8")
+    (folder / "notes.odt").write_bytes(b"PK\x03\x04 not read")
+    out, chart = tmp_path / "rates.json", tmp_path / "rates.png"
+
+    import checker.audit as audit_mod
+
+    def broken(*_a, **_k):
+        raise ValueError("'xerr' must not contain negative values")
+
+    monkeypatch.setattr(audit_mod, "plot", broken)
+    args = parse("audit", str(folder), "--checklist", "validation-study", "-f", "json", "-o", str(out),
+                 "--plot", str(chart), "-j", "1", "-q")
+    assert audit_cmd.run(args) == 2  # the plot failed
+    err = capsys.readouterr().err
+    data = json.loads(out.read_text(encoding="utf-8"))  # ... and the numbers were written all the same
+    assert not chart.exists() and "the rates were written all the same" in err and "xerr" in err
+    assert data["summary"] == {"documents": 4, "checked": 3, "errors": 1, "skipped": 1}
+    assert data["errors"][0]["path"].endswith("saved-page.pdf") and "HTML" in data["errors"][0]["error"]
+    assert data["skipped"] == [{"path": str(folder / "notes.odt"),
+                                "reason": "not a kind of file studygap reads (.odt)"}]
+    assert "saved-page.pdf" in err and "notes.odt" in err
+    monkeypatch.undo()
+    term = tmp_path / "rates.txt"
+    assert audit_cmd.run(parse("audit", str(folder), "--checklist", "validation-study", "-o", str(term),
+                               "-j", "1", "-q")) == 3
+    text = term.read_text(encoding="utf-8")
+    assert "could not be read: " + str(folder / "saved-page.pdf") in text
+    assert "skipped: " + str(folder / "notes.odt") in text and "1 other file in the folders skipped" in text
 
 
 @pytest.fixture(scope="module")
