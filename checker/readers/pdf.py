@@ -820,6 +820,8 @@ _KEEP_HYPHEN_HEADS = frozenset(
 
 
 _PASTED_HYPHEN = re.compile(r"(?<![\w-])([^\W\d_]+)- ([a-z]+)\b")
+_LINE_END_HYPHEN = re.compile(r"([\w-]*)-$")
+_LEADING_LETTERS = re.compile(r"[^\W\d_]*")
 
 
 def _caps_heading(text: str) -> bool:
@@ -986,37 +988,35 @@ class _Assembler:
         return m.group(0)
 
     def _text(self, rows: list[_Row]) -> tuple[str, tuple[Mark, ...]]:
-        text = ""
+        """The rows' lines joined into one text, with a mark where each line starts.
+
+        Linear in the block's length: the text is kept as pieces (one per line, and the spaces between them),
+        and only the last few lines are looked at for a hyphen or a dash at the end.
+        """
+        parts: list[str] = []
+        length = 0
         marks: list[Mark] = []
         for k, r in enumerate(rows):
             t = _PASTED_HYPHEN.sub(self._mend, r.text) if "- " in r.text else r.text
-            if k == 0:
-                marks.append(Mark(0, r.page, r.line))
-                text = t
-                continue
-            prev = rows[k - 1]
-            if prev.ends_soft:
-                marks.append(Mark(len(text), r.page, r.line))
-                text += t
-                continue
-            m = re.search(r"([\w-]*)-$", text)
-            if m and len(text) > 1 and text[-2].isalpha():
-                tail = re.match(r"[^\W\d_]*", t).group(0)
-                word = m.group(1)
-                # a break after the hyphen of a compound ("state-of-the-", "ODR-") keeps it
-                if "-" not in word and self._join_hyphen(word, tail):
-                    text = text[:-1]
-                marks.append(Mark(len(text), r.page, r.line))
-                text += t
-                continue
-            if text.endswith(("—", "/")):
-                marks.append(Mark(len(text), r.page, r.line))
-                text += t
-                continue
-            text += " "
-            marks.append(Mark(len(text), r.page, r.line))
-            text += t
-        return text, tuple(marks)
+            if k > 0 and not rows[k - 1].ends_soft:
+                # a word broken at the end of the previous line sits within its last few pieces
+                end = "".join(parts[-4:])
+                m = _LINE_END_HYPHEN.search(end)
+                if m and len(end) > 1 and end[-2].isalpha():
+                    tail = _LEADING_LETTERS.match(t).group(0)
+                    word = m.group(1)
+                    # a break after the hyphen of a compound ("state-of-the-", "ODR-") keeps it
+                    if "-" not in word and self._join_hyphen(word, tail):
+                        parts[-1] = parts[-1][:-1]
+                        length -= 1
+                elif not end.endswith(("—", "/")):
+                    parts.append(" ")
+                    length += 1
+            marks.append(Mark(length, r.page, r.line))
+            if t:
+                parts.append(t)
+                length += len(t)
+        return "".join(parts), tuple(marks)
 
     # -- the whole
 
