@@ -19,6 +19,8 @@ from .errors import StudygapError
 if TYPE_CHECKING:
     from spacy.tokens import Doc
 
+    from .attribution import Attribution
+
 #: section role -> how much evidence found there counts; references never count
 ROLE_WEIGHTS = {
     "methods": 1.0,
@@ -65,11 +67,23 @@ class Scan:
     #: where each sentence lies in the parsed blocks: (index into docs, first token, end token)
     spans: list[tuple[int, int, int]] = field(default_factory=list, repr=False)
     docs: list["Doc"] = field(default_factory=list, repr=False)
+    #: whose statement each sentence is (see checker.attribution); filled on first use
+    _attributions: list["Attribution"] | None = field(default=None, repr=False)
+
+    def attribution(self, i: int) -> "Attribution":
+        if self._attributions is None:
+            from .attribution import attribute
+
+            self._attributions = [attribute(s.text, s.role, s.kind) for s in self.sentences]
+        return self._attributions[i]
 
     def weight(self, i: int) -> float:
+        """How much sentence i counts as evidence: its section's weight times whose statement it is."""
         s = self.sentences[i]
         w = ROLE_WEIGHTS.get(s.role, 0.9)
-        return w * HEADING_FACTOR if s.kind == "heading" else w
+        if s.kind == "heading":
+            return w * HEADING_FACTOR
+        return w * self.attribution(i).factor
 
 
 def key(item: int, facet: int, part: str) -> str:

@@ -25,6 +25,8 @@ class Evidence:
     #: character spans (start, end) in `text` of the words that matched
     matches: tuple[tuple[int, int], ...] = ()
     facets: tuple[str, ...] = ()
+    #: whose statement the passage is (this-study, other-work, background, plan, template; see attribution.py)
+    attribution: str = "this-study"
 
     def to_dict(self) -> dict[str, Any]:
         return {
@@ -33,6 +35,7 @@ class Evidence:
             "score": round(self.score, 3),
             "matches": [list(m) for m in self.matches],
             "facets": list(self.facets),
+            "attribution": self.attribution,
         }
 
 

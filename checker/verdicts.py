@@ -84,7 +84,8 @@ def evaluate_item(compiled: CompiledChecklist, scan: Scan, ii: int, item: Item, 
         sent = scan.sentences[si]
         spans = _merge_spans([(h.start, h.end) for hs in fhits.values() for h in hs])
         text, spans = _trim(sent.text, spans)
-        evidence.append(Evidence(text, sent.location, score, spans, tuple(f.id for f in item.facets if f.id in fhits)))
+        evidence.append(Evidence(text, sent.location, score, spans, tuple(f.id for f in item.facets if f.id in fhits),
+                                 scan.attribution(si).kind))
         if len(evidence) >= MAX_EVIDENCE:
             break
 

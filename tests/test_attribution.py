@@ -1,0 +1,57 @@
+"""Whose statement a sentence is, and that only this study's statements make an item reported."""
+
+import json
+
+import pytest
+
+from checker.attribution import BACKGROUND, OTHER_WORK, PLAN, TEMPLATE, THIS_STUDY, attribute
+from checker.engine import check_text
+
+
+@pytest.mark.parametrize("text, role, kind", [
+    ("Three radiologists annotated each scan in a slice-based editor.", "methods", THIS_STUDY),
+    ("We used images from the public archive [7], annotated by two readers.", "methods", THIS_STUDY),
+    ("The images come from the public archive of the Northvale clinic [7].", "data", THIS_STUDY),
+    ("Participants may not use external data or pretrained weights.", "body", THIS_STUDY),
+    ("Each scan in this dataset was labelled by one technician.", "introduction", THIS_STUDY),
+    ("Previous studies used three annotators per case.", "methods", OTHER_WORK),
+    ("Okafor et al. annotated 300 scans with two radiologists.", "methods", OTHER_WORK),
+    ("Two readers annotated the scans (Okafor and Lind, 2019).", "introduction", OTHER_WORK),
+    ("Inter-rater agreement was 0.81 in a prior cohort [12].", "introduction", OTHER_WORK),
+    ("Fractures of this kind are frequent in older adults¹⁴,¹⁵.", "introduction", OTHER_WORK),
+    ("Annotators marked every lesion in the scans.", "related-work", OTHER_WORK),
+    ("Please describe how the annotations of several readers were merged.", "body", TEMPLATE),
+    ("Describe the number of annotators and their expertise.", "body", TEMPLATE),
+    ("In future work we plan to investigate consensus labels from several readers.", "discussion", PLAN),
+    ("Bootstrap intervals could be explored in future editions.", "discussion", PLAN),
+    ("Dice is widely used to compare segmentations.", "methods", BACKGROUND),
+    ("Chronic kidney disease affects over 800 million people worldwide.", "introduction", BACKGROUND),
+])
+def test_attribution_of_typical_sentences(text, role, kind):
+    assert attribute(text, role).kind == kind
+
+
+def test_units_with_superscripts_are_not_citations():
+    # "mm²" is a unit, not reference 2
+    assert attribute("Each lesion larger than 5 mm² was outlined.", "introduction").kind == THIS_STUDY
+
+
+def test_other_work_never_makes_an_item_reported():
+    text = ("Methods\n\n"
+            "Previous studies had each case annotated by three radiologists with ten years of experience.\n\n"
+            "Okafor et al. merged the readers' masks by majority vote.")
+    report = check_text(text, "validation-study")
+    items = {it.id: it for it in report.items}
+    assert items["reference.annotators"].status != "reported"
+    assert items["reference.fusion"].status != "reported"
+
+
+def test_this_study_statement_is_reported_and_shows_its_attribution():
+    text = ("Methods\n\n"
+            "Each case was annotated independently by three radiologists with ten years of experience.")
+    report = check_text(text, "validation-study")
+    item = next(it for it in report.items if it.id == "reference.annotators")
+    assert item.status == "reported"
+    data = json.loads(json.dumps(report.to_dict()))
+    ev = next(i for i in data["items"] if i["id"] == "reference.annotators")["evidence"]
+    assert ev and ev[0]["attribution"] == THIS_STUDY
