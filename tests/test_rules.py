@@ -85,7 +85,7 @@ def test_switching_off_a_rule_that_does_not_exist_is_a_clear_error():
 def test_evidence_never_comes_from_the_references(tmp_path):
     path = tmp_path / "paper.md"
     path.write_text(
-        "# A study of liver masks\n\n## Methods\n\nVolume overlap was measured with the Dice coefficient.\n\n"
+        "# A study of spleen masks\n\n## Methods\n\nVolume overlap was measured with the Dice coefficient.\n\n"
         "## References\n\n1. Quill A. Why the Hausdorff distance misleads. J Imaging Stud. 2019;3:1-9.\n\n"
         "2. Moss B. A test set of 120 patients and a test set of 100 patients. Eval Rev. 2020;1:2-3.\n",
         encoding="utf-8")
