@@ -158,3 +158,53 @@ def test_xhtml_with_xml_declaration(tmp_path):
 def test_superscripts_do_not_glue_into_numbers(tmp_path):
     doc = read(tmp_path, "<p>Volumes in mm<sup>3</sup> were read by two experts<sup>12</sup>; H<sub>2</sub>O.</p>")
     assert doc.blocks[0].text == "Volumes in mm³ were read by two experts¹²; H₂O."
+
+
+def _site(pages: int) -> str:
+    """A saved site: several whole pages, one after another, each with its own navigation and footer."""
+    out = []
+    for k in range(1, pages + 1):
+        out.append(f"""<!-- saved page {k} -->
+<!DOCTYPE html>
+<html lang="en"><head><title>Page {k}</title><script>var page = {k};</script></head>
+<body>
+<nav><a href="/">Home</a> <a href="/rules">Rules</a> <a href="/data">Data</a></nav>
+<h1>Fictional Lakeside challenge, page {k}</h1>
+<p>Paragraph {k} says that the organisers annotated {10 * k} cases by hand.</p>
+<footer>Copyright the fictional Lakeside organisers</footer>
+</body>
+</html>
+""")
+    return "\n".join(out)
+
+
+def test_a_saved_site_with_several_html_documents_is_read_whole(tmp_path):
+    import lxml.html
+
+    site = _site(4)
+    path = tmp_path / "site.html"
+    path.write_text(site, encoding="utf-8")
+    doc = read_document(path)
+    text = doc.text
+    for k in range(1, 5):
+        assert f"Paragraph {k} says that the organisers annotated {10 * k} cases by hand." in text
+    # the source line of each page's paragraph is its line in the file
+    lines = site.split("\n")
+    for b in doc.blocks:
+        assert b.text.split()[0] in lines[b.location.line - 1], (b.text, b.location.line)
+    # each page's heading starts a section of its own
+    assert [b.text for b in doc.blocks if b.kind == "heading"] == [
+        f"Fictional Lakeside challenge, page {k}" for k in range(1, 5)]
+    # lxml (libxml2) alone reads only the first document of the file: the failure this guards against
+    assert "Paragraph 2" not in lxml.html.document_fromstring(site).text_content()
+    # navigation and footers are still left out, and the user is told how much of them
+    assert "Home" not in text and "Copyright" not in text
+    assert any("navigation (12 words)" in w and "page headers and footers (20 words)" in w for w in doc.warnings), \
+        doc.warnings
+
+
+def test_a_page_with_nothing_left_out_has_no_note(tmp_path):
+    path = tmp_path / "plain.html"
+    path.write_text("<html><body><h1>Data</h1><p>Forty scans.</p><script>x = 1</script></body></html>",
+                    encoding="utf-8")
+    assert read_document(path).warnings == ()

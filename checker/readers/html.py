@@ -21,13 +21,25 @@ from .text import SUBSCRIPT, SUPERSCRIPT, LineText, decode_bytes, sniff_text_lik
 FORMAT = "html"
 SUFFIXES = (".html", ".htm", ".xhtml")
 
-#: never text of the document itself
-_DROP = frozenset(
-    """script style noscript template nav aside head title iframe object embed svg canvas button select option
-    optgroup textarea input datalist map audio video source track pre dialog meta link base""".split()
-)
+#: never text of the document itself: what a browser does not show as the page's text, and the page's furniture,
+#: with the words a warning uses for what was left out (None: not shown by a browser, so not worth a word)
+_SKIP_TAGS: dict[str, str | None] = {
+    **dict.fromkeys("script style noscript template head title meta link base source track".split()),
+    **dict.fromkeys("nav".split(), "navigation"),
+    **dict.fromkeys("aside".split(), "sidebars"),
+    **dict.fromkeys("button select option optgroup textarea input datalist".split(), "form controls"),
+    **dict.fromkeys("iframe object embed svg canvas map audio video".split(), "embedded objects"),
+    **dict.fromkeys("pre".split(), "code blocks"),
+    **dict.fromkeys("dialog".split(), "hidden elements"),
+}
+_DROP = frozenset(_SKIP_TAGS)
 #: ARIA roles of page furniture
-_DROP_ROLES = frozenset("navigation banner contentinfo search complementary menu menubar toolbar tablist".split())
+_DROP_ROLES = {
+    **dict.fromkeys("navigation menu menubar toolbar tablist".split(), "navigation"),
+    **dict.fromkeys("banner contentinfo".split(), "page headers and footers"),
+    **dict.fromkeys("search".split(), "form controls"),
+    **dict.fromkeys("complementary".split(), "sidebars"),
+}
 _CONTENT = frozenset({"article", "main", "section"})
 _BLOCK = frozenset(
     """address article aside blockquote body center details dialog dd div dl dt fieldset figcaption figure footer
@@ -110,25 +122,37 @@ class _HtmlBlocks:
         self.tables = tables
         self.blocks: list[Block] = []
         self.content_depth = 0
+        #: elements left out that hold words a reader of the page might look for, with the reason
+        self.skipped: dict[etree._Element, str] = {}
 
     # -- what to skip
     def dropped(self, el: etree._Element) -> bool:
         if not isinstance(el.tag, str):
             return True  # comments and processing instructions
+        reason = self.skip_reason(el)
+        if reason is None:
+            return False
+        if reason:
+            self.skipped.setdefault(el, reason)
+        return True
+
+    def skip_reason(self, el: etree._Element) -> str | None:
+        """Why ``el`` is left out ("" when a browser would not show it either), or None when it is read."""
         tag = el.tag.lower()
         if tag in _DROP:
-            return True
+            return _SKIP_TAGS[tag] or ""
         if tag in ("header", "footer") and not self.content_depth:
-            return True  # page chrome; a header inside an article holds its title
+            return "page headers and footers"  # page chrome; a header inside an article holds its title
         attrib = el.attrib
         if not attrib:
-            return False
+            return None
         if "hidden" in attrib or attrib.get("aria-hidden", "").strip().lower() == "true":
-            return True
-        if attrib.get("role", "").strip().lower() in _DROP_ROLES:
-            return True
+            return "hidden elements"
+        role = attrib.get("role", "").strip().lower()
+        if role in _DROP_ROLES:
+            return _DROP_ROLES[role]
         style = attrib.get("style")
-        return bool(style and _HIDDEN_STYLE.search(style))
+        return "hidden elements" if style and _HIDDEN_STYLE.search(style) else None
 
     # -- text
     def add(self, b: LineText, text: str | None, line: int | None) -> None:
@@ -277,11 +301,13 @@ class _HtmlBlocks:
             self.emit(b, "table-row", fallback=self.lines.text.get(row, row.sourceline), table=self.tables, row=r)
 
 
-def html_blocks(text: str, file: str, first_line: int = 1, tables: int = 0) -> tuple[list[Block], int]:
+def html_blocks(text: str, file: str, first_line: int = 1, tables: int = 0,
+                skipped: dict[str, int] | None = None) -> tuple[list[Block], int]:
     """Blocks of an HTML document or fragment given as text, its lines counted from ``first_line``.
 
     Returns the blocks and the number of data tables seen so far (``tables`` plus this text's own), so that
-    a Markdown file with HTML tables numbers all its tables in one sequence.
+    a Markdown file with HTML tables numbers all its tables in one sequence. Words left out (navigation,
+    hidden elements, ...) are added to ``skipped`` by reason.
     """
     if not text.strip():
         return [], tables
@@ -298,7 +324,42 @@ def html_blocks(text: str, file: str, first_line: int = 1, tables: int = 0) -> t
     body = root.find("body")
     start = body if body is not None else root
     reader.flow(start, "paragraph")
+    if skipped is not None:
+        for el, reason in reader.skipped.items():
+            words = len(el.text_content().split())
+            if words:
+                skipped[reason] = skipped.get(reason, 0) + words
     return reader.blocks, reader.tables
+
+
+def skipped_note(skipped: dict[str, int]) -> str | None:
+    """One line naming what was left out of the page's text, most words first."""
+    if not skipped:
+        return None
+    parts = [f"{reason} ({words:,} word{'s' if words != 1 else ''})"
+             for reason, words in sorted(skipped.items(), key=lambda kv: (-kv[1], kv[0]))]
+    return "left out as not the page's own text: " + ", ".join(parts)
+
+
+_END = re.compile(r"</html\s*>", re.IGNORECASE)
+_NEXT_START = re.compile(r"<!doctype\b|<html\b", re.IGNORECASE)
+
+
+def html_documents(text: str) -> list[tuple[int, str]]:
+    """The HTML documents one file holds, as (first line, text): a saved site often joins several pages, each
+    with its own <html> element, and a parser stops at the end of the first one."""
+    pieces: list[tuple[int, str]] = []
+    start, line = 0, 1
+    for m in _END.finditer(text):
+        nxt = _NEXT_START.search(text, m.end())
+        if nxt is None:
+            break
+        # everything up to the next page's start (comments, blank lines) goes with the page before
+        pieces.append((line, text[start:nxt.start()]))
+        line += text.count("\n", start, nxt.start())
+        start = nxt.start()
+    pieces.append((line, text[start:]))
+    return pieces
 
 
 def sniff(head: bytes, path: Path) -> str | None:
@@ -307,5 +368,13 @@ def sniff(head: bytes, path: Path) -> str | None:
 
 def read(path: Path, data: bytes, limits: Limits) -> Parsed:
     text, warnings = decode_bytes(data, declared_charset(data[:4096]))
-    blocks, _ = html_blocks(text, str(path))
+    blocks: list[Block] = []
+    tables = 0
+    skipped: dict[str, int] = {}
+    for first_line, piece in html_documents(text):
+        more, tables = html_blocks(piece, str(path), first_line, tables, skipped)
+        blocks.extend(more)
+    note = skipped_note(skipped)
+    if note:
+        warnings.append(note)
     return Parsed(blocks=blocks, warnings=warnings)
