@@ -10,6 +10,7 @@ import html
 import io
 import json
 from dataclasses import dataclass
+from pathlib import Path
 from typing import Any, Sequence
 
 from .batch import BatchResult
@@ -23,58 +24,105 @@ CAUTIONS = (
 )
 SCORE_NOTE = ("completeness = (reported + half of partial) / applicable items; not-applicable and waived items "
               "are left out")
-SHORT = {"reported": "R", "partial": "P", "missing": "M", "not-applicable": "-", "waived": "W"}
+
+
+@dataclass(frozen=True)
+class Cell:
+    """What a matrix cell opens: the status, why, the best passages with their places, facts, or what was sought."""
+
+    status: str
+    reason: str
+    quotes: tuple[tuple[str, str], ...] = ()  # (passage, place)
+    facts: str = ""
+    looked_for: tuple[str, ...] = ()  # the facets' titles, for an item with no passage
+    question: str = ""
 
 
 @dataclass(frozen=True)
 class ScreenRow:
     path: str
     error: str
-    statuses: tuple[str, ...]  # one per checklist item, in checklist order; empty for an error row
+    statuses: tuple[str, ...]  # one per item of the row's checklist, in checklist order; empty for an error row
     completeness: float | None
     counts: tuple[tuple[str, int], ...]
     facts: tuple[tuple[str, str], ...]  # fact name -> values found, ", "-joined
+    checklist: str = ""  # the id of the checklist this document was checked against ("" for an error row)
+    cells: tuple[Cell, ...] = ()
 
     def to_dict(self, items: Sequence[str]) -> dict[str, Any]:
         if self.error:
             return {"path": self.path, "error": self.error}
-        return {"path": self.path, "completeness": _r(self.completeness), "summary": dict(self.counts),
-                "statuses": dict(zip(items, self.statuses)), "facts": dict(self.facts)}
+        return {"path": self.path, "checklist": self.checklist, "completeness": _r(self.completeness),
+                "summary": dict(self.counts), "statuses": dict(zip(items, self.statuses)),
+                "facts": dict(self.facts)}
+
+
+@dataclass(frozen=True)
+class ScreenChecklist:
+    id: str
+    title: str
+    version: str
+    items: tuple[tuple[str, str], ...]  # (id, title)
+    item_groups: tuple[str, ...]  # the group id of each item
+    groups: tuple[tuple[str, str], ...]  # (id, title) in checklist order
 
 
 @dataclass(frozen=True)
 class Screen:
-    checklist_id: str
-    checklist_title: str
     checklist_note: str
-    items: tuple[tuple[str, str], ...]  # (id, title)
+    checklists: tuple[ScreenChecklist, ...]
     rows: tuple[ScreenRow, ...]
     fact_names: tuple[str, ...]
     seconds: float = 0.0
 
     @property
+    def checklist_id(self) -> str:
+        return "+".join(c.id for c in self.checklists)
+
+    @property
+    def checklist_title(self) -> str:
+        return "; ".join(c.title for c in self.checklists)
+
+    @property
+    def items(self) -> tuple[tuple[str, str], ...]:
+        """Every item of every checklist, once each, in order of first appearance."""
+        seen: dict[str, str] = {}
+        for c in self.checklists:
+            for i, t in c.items:
+                seen.setdefault(i, t)
+        return tuple(seen.items())
+
+    @property
     def errors(self) -> tuple[ScreenRow, ...]:
         return tuple(r for r in self.rows if r.error)
 
+    def rows_of(self, checklist_id: str) -> list[ScreenRow]:
+        return [r for r in self.rows if not r.error and r.checklist == checklist_id]
+
     def item_shares(self) -> list[dict[str, Any]]:
-        """Per item: how many readable documents gave each status."""
-        ok = [r for r in self.rows if not r.error]
+        """Per item of each checklist: how many readable documents checked against it gave each status."""
         out = []
-        for i, (iid, title) in enumerate(self.items):
-            counts = {s: sum(1 for r in ok if r.statuses[i] == s) for s in STATUS_ORDER}
-            applicable = counts["reported"] + counts["partial"] + counts["missing"]
-            out.append({"id": iid, "title": title, **counts,
-                        "reported_share": _r(counts["reported"] / applicable) if applicable else None})
+        for c in self.checklists:
+            rows = self.rows_of(c.id)
+            for i, (iid, title) in enumerate(c.items):
+                counts = {s: sum(1 for r in rows if r.statuses[i] == s) for s in STATUS_ORDER}
+                applicable = counts["reported"] + counts["partial"] + counts["missing"]
+                out.append({"checklist": c.id, "id": iid, "title": title, **counts,
+                            "reported_share": _r(counts["reported"] / applicable) if applicable else None})
         return out
 
     def to_dict(self) -> dict[str, Any]:
-        ids = [i for i, _ in self.items]
+        ids = {c.id: [i for i, _ in c.items] for c in self.checklists}
         # no timing here: the same inputs must give the same JSON bytes on every engine
         return {
             "checklist": {"id": self.checklist_id, "title": self.checklist_title, "choice": self.checklist_note},
+            "checklists": [{"id": c.id, "title": c.title, "version": c.version,
+                            "documents": len(self.rows_of(c.id)),
+                            "items": [{"id": i, "title": t, "group": g} for (i, t), g in zip(c.items, c.item_groups)]}
+                           for c in self.checklists],
             "score": SCORE_NOTE,
             "items": [{"id": i, "title": t} for i, t in self.items],
-            "documents": [r.to_dict(ids) for r in self.rows],
+            "documents": [r.to_dict(ids.get(r.checklist, [])) for r in self.rows],
             "item_shares": self.item_shares(),
             "summary": {"documents": len(self.rows), "errors": len(self.errors)},
             "cautions": list(CAUTIONS),
@@ -100,10 +148,22 @@ def fact_text(value: Any) -> str:
     return str(value)
 
 
+def _cell(it, rep) -> Cell:
+    quotes = tuple((" ".join(ev.text.split()), ev.location.describe(rep.document_path)) for ev in it.evidence[:2])
+    facts = "; ".join(f"{name} {', '.join(x.text for x in fs)}" for name, fs in it.facts)
+    return Cell(it.status, it.reason, quotes, facts, tuple(f.title for f in it.facets if not f.found), it.question)
+
+
 def build_screen(results: Sequence[BatchResult], checklist_note: str = "", seconds: float = 0.0) -> Screen:
-    """The Screen of batch results that were all checked against the same checklist."""
-    first = next((r.report for r in results if r.ok), None)
-    items = tuple((it.id, it.title) for it in first.items) if first else ()
+    """The Screen of batch results; documents checked against different checklists get a matrix each."""
+    checklists: dict[str, ScreenChecklist] = {}
+    for res in results:
+        if res.ok and res.report.checklist_id not in checklists:
+            rep = res.report
+            checklists[rep.checklist_id] = ScreenChecklist(
+                rep.checklist_id, rep.checklist_title, rep.checklist_version,
+                tuple((it.id, it.title) for it in rep.items), tuple(it.group for it in rep.items),
+                tuple(rep.groups) or tuple((g, g) for g in dict.fromkeys(it.group for it in rep.items)))
     rows = []
     names: set[str] = set()
     for res in results:
@@ -112,7 +172,9 @@ def build_screen(results: Sequence[BatchResult], checklist_note: str = "", secon
             continue
         rep = res.report
         by_id = {it.id: it for it in rep.items}
+        items = checklists[rep.checklist_id].items
         statuses = tuple(by_id[i].status if i in by_id else "not-applicable" for i, _ in items)
+        cells = tuple(_cell(by_id[i], rep) if i in by_id else Cell("not-applicable", "") for i, _ in items)
         facts: dict[str, list[str]] = {}
         for it in rep.items:
             for name, fs in it.facts:
@@ -124,10 +186,21 @@ def build_screen(results: Sequence[BatchResult], checklist_note: str = "", secon
         names.update(facts)
         rows.append(ScreenRow(res.path, "", statuses, completeness(statuses),
                               tuple((s, statuses.count(s)) for s in STATUS_ORDER),
-                              tuple(sorted((k, ", ".join(v)) for k, v in facts.items()))))
-    cid = first.checklist_id if first else ""
-    title = first.checklist_title if first else ""
-    return Screen(cid, title, checklist_note, items, tuple(rows), tuple(sorted(names)), seconds)
+                              tuple(sorted((k, ", ".join(v)) for k, v in facts.items())), rep.checklist_id, cells))
+    return Screen(checklist_note, tuple(checklists.values()), tuple(rows), tuple(sorted(names)), seconds)
+
+
+def short_names(paths: Sequence[str]) -> list[str]:
+    """The shortest tail of each path that tells it from the others: file names, with folders only where needed."""
+    parts = [Path(p).parts or (p,) for p in paths]
+    depth = [1] * len(paths)
+    for _ in range(max((len(p) for p in parts), default=1)):
+        tails = ["/".join(p[-d:]) for p, d in zip(parts, depth)]
+        clash = {t for t in tails if tails.count(t) > 1}
+        if not clash:
+            return tails
+        depth = [d + 1 if t in clash and d < len(p) else d for p, d, t in zip(parts, depth, tails)]
+    return [str(p) for p in paths]
 
 
 # ------------------------------------------------------------------------------------------------ renderers
@@ -148,28 +221,37 @@ def _summary_line(screen: Screen, timed: bool) -> str:
 
 
 def render_terminal(screen: Screen) -> str:
+    from .reports.words import GLYPHS, WORDS, glyph
+
     out = io.StringIO()
     w = out.write
-    w(f"Screening against {screen.checklist_id}: {screen.checklist_title}\n")
+    w(f"Screening against {screen.checklist_id or 'no checklist (no document could be read)'}\n")
     if screen.checklist_note:
         w(f"Checklist: {screen.checklist_note}\n")
+    names = short_names([r.path for r in screen.rows])
+    number = {id(r): n for n, r in enumerate(screen.rows, start=1)}
     w("\nDocuments\n")
-    for n, row in enumerate(screen.rows, start=1):
+    for n, (row, name) in enumerate(zip(screen.rows, names), start=1):
         if row.error:
-            w(f"  D{n:<3} error  {row.error}\n")
+            w(f"  D{n:<3} could not be read: {row.error}\n")
         else:
             c = dict(row.counts)
-            w(f"  D{n:<3} {_pct(row.completeness):>5}  {row.path}  ({c['reported']} reported, {c['partial']} partial, "
-              f"{c['missing']} missing)\n")
+            w(f"  D{n:<3} {_pct(row.completeness):>5}  {name}  ({c['reported']} reported, {c['partial']} partial, "
+              f"{c['missing']} missing)" + (f"  [{row.checklist}]" if len(screen.checklists) > 1 else "") + "\n")
+    legend = ", ".join(f"{GLYPHS[s]} {WORDS[s]}" for s in STATUS_ORDER)
+    for c in screen.checklists:
+        rows = screen.rows_of(c.id)
+        if not rows or not c.items:
+            continue
+        w(f"\n{c.title} ({c.id}): items by document ({legend})\n")
+        width = min(44, max(len(t) for _, t in c.items))
+        w(f"  {'':<{width}}  " + " ".join(f"D{number[id(r)]:<3}" for r in rows) + "  reported\n")
+        shares = [s for s in screen.item_shares() if s["checklist"] == c.id]
+        for k, (_iid, title) in enumerate(c.items):
+            cells = " ".join(f"{glyph(r.statuses[k]):<4}" for r in rows)
+            short = title if len(title) <= width else title[: width - 1] + "…"
+            w(f"  {short:<{width}}  {cells}  {_pct(shares[k]['reported_share'])}\n")
     ok = [(n, r) for n, r in enumerate(screen.rows, start=1) if not r.error]
-    if ok and screen.items:
-        w("\nItems by document (R reported, P partial, M missing, - not applicable, W waived)\n")
-        width = max(len(i) for i, _ in screen.items)
-        w(f"  {'':<{width}}  " + " ".join(f"D{n:<3}" for n, _ in ok) + "  reported\n")
-        shares = screen.item_shares()
-        for k, (iid, _t) in enumerate(screen.items):
-            cells = " ".join(f"{SHORT[r.statuses[k]]:<4}" for _, r in ok)
-            w(f"  {iid:<{width}}  {cells}  {_pct(shares[k]['reported_share'])}\n")
     if screen.fact_names and ok:
         w("\nFacts found\n")
         for n, r in ok:
@@ -182,33 +264,47 @@ def render_terminal(screen: Screen) -> str:
     return out.getvalue()
 
 
+COUNT_COLUMNS = tuple(f"{s} items" for s in STATUS_ORDER)
+
+
 def _header(screen: Screen) -> list[str]:
-    return (["path", "error", "completeness (partial counts half)", *STATUS_ORDER]
+    return (["path", "checklist", "error", "completeness", *COUNT_COLUMNS]
             + [i for i, _ in screen.items] + [f"fact: {n}" for n in screen.fact_names])
 
 
 def _cells(screen: Screen, row: ScreenRow) -> list[str]:
+    width = len(_header(screen))
     if row.error:
-        return [row.path, row.error] + [""] * (len(_header(screen)) - 2)
+        return [row.path, "", row.error] + [""] * (width - 3)
     facts = dict(row.facts)
+    mine = dict(zip((i for i, _ in next(c for c in screen.checklists if c.id == row.checklist).items), row.statuses))
     score = "" if row.completeness is None else f"{row.completeness:.3f}"
-    return ([row.path, "", score, *(str(v) for _, v in row.counts)] + list(row.statuses)
-            + [facts.get(n, "") for n in screen.fact_names])
+    return ([row.path, row.checklist, "", score, *(str(v) for _, v in row.counts)]
+            + [mine.get(i, "") for i, _ in screen.items] + [facts.get(n, "") for n in screen.fact_names])
 
 
 def render_csv(screen: Screen) -> str:
+    """One header row, then one row per document (an unreadable one with its reason in `error`); nothing else.
+
+    Item cells hold the JSON contract's status values; an item of another checklist is left blank. The notes
+    (checklists, the score's definition, counts, cautions) are in sidecar().
+    """
     buf = io.StringIO()
     writer = csv.writer(buf, lineterminator="\n")
     writer.writerow(_header(screen))
     for row in screen.rows:
         writer.writerow(_cells(screen, row))
-    # trailing lines start with '#', so spreadsheet imports (and pandas comment='#') can skip them
-    # written as bare lines (not quoted cells) so that comment='#' in pandas and similar readers skips them
-    buf.write("\n")
-    for line in (f"checklist {screen.checklist_id}: {screen.checklist_note}", SCORE_NOTE,
-                 _summary_line(screen, False), *CAUTIONS):
-        buf.write(f"# {line}\n")
     return buf.getvalue()
+
+
+def sidecar(screen: Screen) -> dict[str, Any]:
+    """What the CSV leaves out, as JSON beside it."""
+    data = screen.to_dict()
+    del data["documents"]
+    data["summary"]["checked"] = data["summary"]["documents"] - data["summary"]["errors"]
+    data["columns"] = {"completeness": SCORE_NOTE, "item columns": "the status of the item in that document: "
+                       + ", ".join(STATUS_ORDER) + "; blank where the item belongs to another checklist"}
+    return data
 
 
 def render_json(screen: Screen) -> str:
@@ -222,7 +318,7 @@ document.querySelectorAll('table.sortable th').forEach(function (th, col) {
     var rows = Array.prototype.slice.call(body.rows);
     var up = th.dataset.dir !== 'up'; th.dataset.dir = up ? 'up' : 'down';
     rows.sort(function (a, b) {
-      var ca = a.cells[col], cb = b.cells[col];  // error rows have fewer cells
+      var ca = a.cells[col], cb = b.cells[col];
       var x = ca ? (ca.dataset.key || ca.textContent) : '', y = cb ? (cb.dataset.key || cb.textContent) : '';
       var nx = parseFloat(x), ny = parseFloat(y);
       var c = (!isNaN(nx) && !isNaN(ny)) ? nx - ny : x.localeCompare(y);
@@ -241,55 +337,36 @@ if (box) box.addEventListener('input', function () {
 });
 """
 
-HTML_STYLE = """body{font-family:system-ui,sans-serif;margin:1.5em;color:#222}table{border-collapse:collapse;font-size:.85em}
-th,td{border:1px solid #ccc;padding:.25em .4em;text-align:left;vertical-align:top}th{cursor:pointer;background:#f3f3f3}
-td.reported{background:#dff0d8}td.partial{background:#fcf3cf}td.missing{background:#f8d7da}
-td.not-applicable,td.waived{color:#777}tr.error td{background:#fde2e2}.note{color:#444;max-width:60em}"""
+# the audit page: the same neutral ink and tints as the screening page
+HTML_STYLE = """body{font:14px/1.45 system-ui,sans-serif;margin:1.2em;color:#1f2733}
+table{border-collapse:collapse;font-size:.9em}th,td{border:1px solid #d5dae2;padding:.25em .45em;text-align:left;
+vertical-align:top}th{cursor:pointer;background:#f2f4f7}td{font-variant-numeric:tabular-nums}
+.note{color:#5b6473;max-width:60em}[hidden]{display:none}"""
 
 
 def html_page(title: str, body: str) -> str:
-    return (f"<!DOCTYPE html>\n<html lang=\"en\"><head><meta charset=\"utf-8\"><title>{html.escape(title)}</title>"
-            f"<style>{HTML_STYLE}</style></head><body>\n{body}\n<script>{HTML_SCRIPT}</script></body></html>\n")
+    return (f"<!DOCTYPE html>\n<html lang=\"en\"><head><meta charset=\"utf-8\">"
+            "<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\">"
+            f"<title>{html.escape(title)}</title><style>{HTML_STYLE}</style></head><body>\n{body}\n"
+            f"<script>{HTML_SCRIPT}</script></body></html>\n")
 
 
 def render_html(screen: Screen) -> str:
-    e = html.escape
-    head = "".join(f"<th title=\"{e(t)}\">{e(c)}</th>" for c, t in zip(
-        _header(screen), ["", "", SCORE_NOTE, *STATUS_ORDER, *(t for _, t in screen.items),
-                          *("" for _ in screen.fact_names)]))
-    rows = []
-    for row in screen.rows:
-        cells = _cells(screen, row)
-        if row.error:
-            rows.append(f"<tr class=\"error\"><td>{e(row.path)}</td><td colspan=\"{len(cells) - 1}\">"
-                        f"{e(row.error)}</td></tr>")
-            continue
-        tds = []
-        for k, c in enumerate(cells):
-            cls = f" class=\"{e(c)}\"" if c in SHORT else ""
-            key = f" data-key=\"{STATUS_ORDER.index(c)}\"" if c in SHORT else ""
-            tds.append(f"<td{cls}{key}>{e(c)}</td>")
-        rows.append("<tr>" + "".join(tds) + "</tr>")
-    notes = "".join(f"<p class=\"note\">{e(c)}</p>" for c in CAUTIONS)
-    share_head = "".join(f"<th>{e(c)}</th>" for c in ("item", "title", *STATUS_ORDER, "reported share"))
-    share_rows = "".join(
-        "<tr>" + "".join(f"<td>{e(str(c))}</td>" for c in (s["id"], s["title"], *(s[k] for k in STATUS_ORDER),
-                                                            _pct(s["reported_share"]))) + "</tr>"
-        for s in screen.item_shares())
-    body = (f"<h1>Screening: {e(screen.checklist_id)}</h1><p>{e(screen.checklist_title)}. Checklist: "
-            f"{e(screen.checklist_note)}</p>"
-            f"<p><label>Filter rows: <input id=\"filter\" type=\"search\" placeholder=\"words in a row\"></label> "
-            f"Click a column heading to sort.</p>"
-            f"<table class=\"sortable\"><thead><tr>{head}</tr></thead><tbody>{''.join(rows)}</tbody></table>"
-            f"<p class=\"note\">{e(SCORE_NOTE)}.</p>"
-            f"<h2>Items across the documents</h2><table class=\"sortable\"><thead><tr>{share_head}</tr></thead>"
-            f"<tbody>{share_rows}</tbody></table>"
-            f"<p>{e(_summary_line(screen, True))}.</p>{notes}")
-    return html_page(f"studygap screening: {screen.checklist_id}", body)
+    from .reports.screening import render_html as page
+
+    return page(screen)
 
 
-RENDERERS = {"terminal": render_terminal, "csv": render_csv, "html": render_html, "json": render_json}
+def render_docx(screen: Screen) -> bytes:
+    from .reports.screening import render_docx as table
+
+    return table(screen)
 
 
-def render(screen: Screen, fmt: str) -> str:
+RENDERERS = {"terminal": render_terminal, "csv": render_csv, "html": render_html, "json": render_json,
+             "docx": render_docx}
+BINARY = ("docx",)
+
+
+def render(screen: Screen, fmt: str) -> str | bytes:
     return RENDERERS[fmt](screen)

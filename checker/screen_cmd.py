@@ -56,8 +56,9 @@ def add_parser(subparsers) -> argparse.ArgumentParser:
                               description=DESCRIPTION, epilog=EPILOG,
                               formatter_class=argparse.RawDescriptionHelpFormatter)
     add_batch_options(p)
-    p.add_argument("--format", "-f", choices=["terminal", "csv", "html", "json"], default="terminal",
-                   help="output format (default terminal)")
+    p.add_argument("--format", "-f", choices=["terminal", "csv", "html", "json", "docx"], default="terminal",
+                   help="output format (default terminal); csv writes its notes to NAME.meta.json beside -o NAME.csv; "
+                        "docx is a landscape table for a meeting and needs -o")
     p.set_defaults(handler=run)
     return p
 
@@ -196,14 +197,23 @@ def write_output(text: str, output: str | None, inputs: list[str]) -> None:
 
 def run(args) -> int:
     """Run `studygap screen`; returns the exit code."""
-    from .screen import build_screen, render
+    from .screen import build_screen, render, sidecar
 
     try:
         if getattr(args, "output", None) and os.path.isdir(args.output):
             raise UsageError(f"{args.output}: is a folder; give a file name for the output")
+        if args.format == "docx" and (not args.output or args.output == "-"):
+            raise UsageError("the docx format is a file: give -o PATH.docx")
         results, note, seconds, paths = run_inputs(args)
         screen = build_screen(results, note, seconds)
-        write_output(render(screen, args.format), args.output, paths)
+        if args.format == "csv":
+            write_csv(render(screen, "csv"), sidecar(screen), args.output, paths)
+        elif args.format == "docx":
+            from .output import write_atomic
+
+            write_atomic(Path(args.output), render(screen, "docx"), paths)
+        else:
+            write_output(render(screen, args.format), args.output, paths)
     except StudygapError as exc:
         print(exc.line(), file=sys.stderr)
         return int(ExitCode.ERROR)

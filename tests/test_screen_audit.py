@@ -356,12 +356,13 @@ def test_screen_csv_html_terminal_carry_notes(demo_inputs, tmp_path, capsys):
     text = render(screen, "csv")
     rows = list(csv.reader(io.StringIO(text)))
     header = rows[0]
-    assert header[:3] == ["path", "error", "completeness (partial counts half)"]
+    assert header[:4] == ["path", "checklist", "error", "completeness"]
     assert "reference.annotators" in header and "fact: annotators" in header
-    assert rows[3][1].startswith(str(demo_inputs / "c-saved-page.pdf"))
+    assert rows[3][2].startswith(str(demo_inputs / "c-saved-page.pdf"))
     page = render(screen, "html")
     assert "b-&lt;b&gt;&amp;proposal.md" in page and "<b>&proposal" not in page
-    assert "<script>" in page and 'id="filter"' in page and "half of partial" in page and "triage aid" in page
+    assert page.count("<script>") == 1 and 'id="docfilter"' in page and "half of partial" in page
+    assert "triage aid" in page
     term = render(screen, "terminal")
     assert "half of partial" in term and "triage aid" in term and "1.5 s" in term
     assert "venue's own reporting requirements govern" in term

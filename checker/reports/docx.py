@@ -167,6 +167,19 @@ def _widths(table, widths_cm) -> None:
             cell.width = Cm(w)
 
 
+def shade(cell, fill: str) -> None:
+    """A cell's background (hex RGB without #)."""
+    from docx.oxml import OxmlElement
+    from docx.oxml.ns import qn
+
+    tc_pr = cell._tc.get_or_add_tcPr()
+    el = OxmlElement("w:shd")
+    el.set(qn("w:val"), "clear")
+    el.set(qn("w:color"), "auto")
+    el.set(qn("w:fill"), fill)
+    tc_pr.append(el)
+
+
 def _repeat_header(row) -> None:
     """Repeat the header row on every page of a long table."""
     from docx.oxml import OxmlElement
