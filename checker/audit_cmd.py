@@ -16,11 +16,16 @@ beside the rate as the partial rate. Not-applicable and waived documents are lef
 --meta FILE.csv adds fields per document: the first column holds the document's path (as given, or its file
 name), the others fields such as year or venue; --by FIELD gives the rates per value of that field.
 
-Without --checklist, the checklist chosen for the first document is used for all, and the output says so.
+Without --checklist, the checklist chosen for the first document is used for all, and the output says so; a
+corpus whose documents were checked against different checklists gets rates per checklist.
+
+--format csv gives one header row and one row per checklist, group and item; with -o NAME.csv the notes (counts,
+files that could not be read or were skipped, cautions) go to NAME.meta.json beside it. --plot is drawn after the
+table is written: a plot that cannot be drawn never costs the table.
 Rates describe what the wording reports; validate the tool on your own labelled sample (studygap evaluate)."""
 
-EPILOG = """exit codes: 0 done, 2 usage, metadata or checklist error, 3 done but some documents could not be read
-(they are listed and left out of the rates)."""
+EPILOG = """exit codes: 0 done, 2 usage, metadata or checklist error, or the plot could not be drawn (the table is
+written all the same), 3 done but some documents could not be read (they are listed and left out of the rates)."""
 
 
 def add_parser(subparsers) -> argparse.ArgumentParser:

@@ -20,6 +20,35 @@ EPILOG = """exit codes: 0 done (nothing over --fail-on), 1 items over --fail-on,
 A complete report does not show that a study is sound; a person must still read the document."""
 
 
+#: an example for every command's --help, shown above its exit codes
+EXAMPLES = {
+    "check": ("studygap check paper.pdf\n"
+              "  studygap check draft.tex --fail-on missing --format lines\n"
+              "  studygap check paper.pdf --format html -o report.html"),
+    "outline": "studygap outline paper.pdf\n  studygap outline draft.docx --format json -o outline.json",
+    "screen": ("studygap screen proposals/ --checklist benchmark-proposal --format html -o screening.html\n"
+               "  studygap screen proposals/ --format docx -o screening.docx"),
+    "audit": ("studygap audit corpus/ --checklist validation-study --format csv -o rates.csv --plot rates.svg\n"
+              "  studygap audit corpus/ --meta corpus.csv --by year --format json -o rates.json"),
+    "compare": ("studygap compare draft-v1.pdf draft-v2.pdf --format markdown\n"
+                "  studygap compare main-before.tex main.tex --fail-on lost"),
+    "evaluate": "studygap evaluate my-labels/ --format json -o agreement.json",
+    "checklists": ("studygap checklists list\n  studygap checklists show validation-study\n"
+                   "  studygap checklists validate my-checklist.yaml"),
+}
+OUTLINE_DESCRIPTION = """What the reader saw in one document: its format, pages and words, the section tree with the
+role of each section (methods, results, references...) and its page or line range, and any warnings. Use it to
+see why an item was or was not found in a section."""
+CHECK_DESCRIPTION = """The gap report for each document: per checklist item a status (reported, partial, missing,
+not applicable, waived), the passages found with their page, section and line, and the facts extracted."""
+CHECKLISTS_DESCRIPTION = """The built-in checklists (list), the items of one (show), and a check of your own checklist
+files that reports every problem with FILE:LINE:COLUMN (validate)."""
+
+
+def _with_example(name: str, epilog: str | None) -> str:
+    return f"example:\n  {EXAMPLES[name]}" + (f"\n\n{epilog}" if epilog else "")
+
+
 def _limits_options(p: argparse.ArgumentParser) -> None:
     g = p.add_argument_group("limits (for untrusted input)")
     g.add_argument("--max-bytes", type=int, default=None, metavar="N", help="largest input file read (default 100 MB)")
@@ -62,8 +91,8 @@ def build_parser() -> argparse.ArgumentParser:
     parser.add_argument("--version", action="version", version=f"studygap {__version__}")
     sub = parser.add_subparsers(dest="command", metavar="COMMAND")
 
-    c = sub.add_parser("check", help="the gap report for each document", epilog=EPILOG,
-                       formatter_class=argparse.RawDescriptionHelpFormatter)
+    c = sub.add_parser("check", help="the gap report for each document", description=CHECK_DESCRIPTION,
+                       epilog=_with_example("check", EPILOG), formatter_class=argparse.RawDescriptionHelpFormatter)
     c.add_argument("files", nargs="+", metavar="FILE", help="PDF, DOCX, LaTeX, Markdown, HTML or text files")
     c.add_argument("--checklist", default=None, metavar="ID|PATH",
                    help="built-in checklist id, a YAML file, or 'auto' (default: chosen from the document's words)")
@@ -80,10 +109,14 @@ def build_parser() -> argparse.ArgumentParser:
                         "earlier run")
     _limits_options(c)
 
-    o = sub.add_parser("outline", help="what the reader saw: sections, pages, lines, word counts")
-    o.add_argument("file", metavar="FILE")
-    o.add_argument("--format", "-f", default="terminal", choices=["terminal", "json"])
-    o.add_argument("-o", "--output", metavar="PATH")
+    o = sub.add_parser("outline", help="what the reader saw: sections, pages, lines, word counts",
+                       description=OUTLINE_DESCRIPTION,
+                       epilog=_with_example("outline", "exit codes: 0 done, 2 usage or input error."),
+                       formatter_class=argparse.RawDescriptionHelpFormatter)
+    o.add_argument("file", metavar="FILE", help="PDF, DOCX, LaTeX, Markdown, HTML or text file")
+    o.add_argument("--format", "-f", default="terminal", choices=["terminal", "json"],
+                   help="output format (default terminal)")
+    o.add_argument("-o", "--output", metavar="PATH", help="write the outline to this file (atomically)")
     _limits_options(o)
 
     from . import audit_cmd, compare_cmd, evaluate_cmd, screen_cmd
@@ -92,14 +125,27 @@ def build_parser() -> argparse.ArgumentParser:
     audit_cmd.add_parser(sub)
     compare_cmd.add_parser(sub)
     evaluate_cmd.add_parser(sub)
+    for name in ("screen", "audit", "compare", "evaluate"):
+        p = sub.choices[name]
+        p.epilog = _with_example(name, p.epilog)
 
-    k = sub.add_parser("checklists", help="list, show and validate checklists")
+    k = sub.add_parser("checklists", help="list, show and validate checklists", description=CHECKLISTS_DESCRIPTION,
+                       epilog=_with_example("checklists", "exit codes: 0 done, 2 a checklist has problems."),
+                       formatter_class=argparse.RawDescriptionHelpFormatter)
     ksub = k.add_subparsers(dest="action", metavar="ACTION")
-    ksub.add_parser("list", help="the built-in checklists")
-    show = ksub.add_parser("show", help="the items of one checklist")
-    show.add_argument("ref", metavar="ID|PATH")
-    val = ksub.add_parser("validate", help="check checklist files and report every problem with its place")
-    val.add_argument("paths", nargs="+", metavar="PATH")
+    ksub.add_parser("list", help="the built-in checklists", description="The built-in checklists: id, version, "
+                    "number of items and title.", epilog="example:\n  studygap checklists list",
+                    formatter_class=argparse.RawDescriptionHelpFormatter)
+    show = ksub.add_parser("show", help="the items of one checklist", description="The groups and items of one "
+                           "checklist, each with its question.", epilog="example:\n  studygap checklists show "
+                           "benchmark-proposal", formatter_class=argparse.RawDescriptionHelpFormatter)
+    show.add_argument("ref", metavar="ID|PATH", help="a built-in checklist id or a YAML file")
+    val = ksub.add_parser("validate", help="check checklist files and report every problem with its place",
+                          description="Load checklist files strictly and report every problem with "
+                          "FILE:LINE:COLUMN; exit 2 when any file has one.",
+                          epilog="example:\n  studygap checklists validate my-checklist.yaml",
+                          formatter_class=argparse.RawDescriptionHelpFormatter)
+    val.add_argument("paths", nargs="+", metavar="PATH", help="checklist YAML files")
     return parser
 
 

@@ -82,6 +82,15 @@ class Comparison:
     checklist_note: str
     items: tuple[ItemChange, ...]
 
+    def over(self, fail_on: str) -> list[ItemChange]:
+        """The items that stop a CI run: `lost` (reported or partial before, less reported now) or `missing`
+        (missing in the new version, whatever it was before)."""
+        if fail_on == "lost":
+            return [it for it in self.items if it.kind in ("lost", "worse")]
+        if fail_on == "missing":
+            return [it for it in self.items if it.new_status == "missing"]
+        raise ValueError(f"unknown --fail-on value {fail_on!r}")
+
     def counts(self) -> dict[str, int]:
         return {k: sum(1 for it in self.items if it.kind == k) for k in KINDS}
 

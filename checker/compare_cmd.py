@@ -13,7 +13,9 @@ added, removed; passages are matched by similarity of wording).
 
 Both versions are checked against one checklist: the one named with --checklist, or the one chosen for OLD."""
 
-EPILOG = "exit codes: 0 done, 2 usage, checklist or input error (either version could not be read)."
+EPILOG = """exit codes: 0 done (nothing over --fail-on), 1 something over --fail-on (lost: an item reported or
+partial in OLD is less reported in NEW; missing: an item is missing in NEW), 2 usage, checklist or input error
+(either version could not be read)."""
 
 
 def add_parser(subparsers) -> argparse.ArgumentParser:
@@ -27,6 +29,9 @@ def add_parser(subparsers) -> argparse.ArgumentParser:
     p.add_argument("--format", "-f", choices=["terminal", "markdown", "json"], default="terminal",
                    help="output format (default terminal)")
     p.add_argument("-o", "--output", metavar="PATH", help="write the result to this file (atomically)")
+    p.add_argument("--fail-on", choices=["lost", "missing"], default=None,
+                   help="exit 1 when the revision lost something (an item less reported than before) or when an "
+                        "item is missing in NEW; for CI")
     p.set_defaults(handler=run)
     return p
 
@@ -46,4 +51,9 @@ def run(args) -> int:
     except StudygapError as exc:
         print(exc.line(), file=sys.stderr)
         return int(ExitCode.ERROR)
+    over = comp.over(args.fail_on) if args.fail_on else []
+    if over:
+        print(f"studygap: {len(over)} item{'s' if len(over) != 1 else ''} over --fail-on {args.fail_on}: "
+              + ", ".join(f"{it.id} ({it.old_status} -> {it.new_status})" for it in over), file=sys.stderr)
+        return int(ExitCode.ITEMS_OVER_THRESHOLD)
     return int(ExitCode.OK)

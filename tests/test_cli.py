@@ -124,3 +124,38 @@ def test_outline_json_has_sections_with_roles_and_lines(capsys):
 def test_help_and_version_answer(flag):
     proc = subprocess.run([sys.executable, "-m", "checker.cli", flag], capture_output=True, text=True, cwd=ROOT)
     assert proc.returncode == 0 and "studygap" in proc.stdout
+
+
+def _commands():
+    from checker.cli import build_parser
+
+    parser = build_parser()
+    sub = next(a for a in parser._actions if a.__class__.__name__ == "_SubParsersAction")
+    out = []
+    for name, p in sub.choices.items():
+        out.append((name, p))
+        for a in p._actions:
+            if a.__class__.__name__ == "_SubParsersAction":
+                out += [(f"{name} {n}", q) for n, q in a.choices.items()]
+    return out
+
+
+@pytest.mark.parametrize("name", [n for n, _ in _commands()])
+def test_every_command_has_a_description_and_an_example(name):
+    p = dict(_commands())[name]
+    assert p.description and len(p.description) > 40, name
+    assert "example:\n  studygap " + name.split()[0] in (p.epilog or ""), name
+    for action in p._actions:
+        if action.option_strings and action.dest != "help":
+            assert action.help, f"{name} {action.option_strings[0]} has no help"
+        elif not action.option_strings and action.__class__.__name__ != "_SubParsersAction":
+            assert action.help, f"{name} {action.dest} has no help"
+
+
+def test_readme_lists_every_command():
+    readme = (ROOT / "README.md").read_text(encoding="utf-8")
+    commands = readme[readme.index("## Commands"):]
+    commands = commands[: commands.index("\n## ", 5)]
+    for name, _ in _commands():
+        if " " not in name:
+            assert f"`studygap {name}" in commands, name

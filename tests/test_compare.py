@@ -98,3 +98,24 @@ def test_formats_and_command(versions, comparison, tmp_path):
     assert "reference.annotators" in out.read_text(encoding="utf-8")
     missing = parser.parse_args(["compare", versions[0], str(tmp_path / "nope.md"), "--checklist", "validation-study"])
     assert compare_cmd.run(missing) == 2
+
+
+def test_fail_on_lost_and_missing_stop_ci(versions, tmp_path, capsys):
+    parser = argparse.ArgumentParser(prog="studygap")
+    compare_cmd.add_parser(parser.add_subparsers(dest="command"))
+    old, new = versions
+    out = str(tmp_path / "out.txt")
+    # forwards nothing is lost, but some items are still missing
+    assert compare_cmd.run(parser.parse_args(["compare", old, new, "--checklist", "validation-study", "-o", out,
+                                              "--fail-on", "lost"])) == 0
+    assert compare_cmd.run(parser.parse_args(["compare", old, new, "--checklist", "validation-study", "-o", out,
+                                              "--fail-on", "missing"])) == 1
+    assert "over --fail-on missing" in capsys.readouterr().err
+    # backwards the annotation paragraph is lost: exit 1, and the item is named
+    assert compare_cmd.run(parser.parse_args(["compare", new, old, "--checklist", "validation-study", "-o", out,
+                                              "--fail-on", "lost"])) == 1
+    err = capsys.readouterr().err
+    assert "reference.annotators (reported -> " in err
+    assert Path(out).read_text(encoding="utf-8")  # the report is written before the exit code is given
+    assert compare_cmd.run(parser.parse_args(["compare", new, old, "--checklist", "validation-study", "-o",
+                                              out])) == 0
