@@ -102,6 +102,8 @@ def build_parser() -> argparse.ArgumentParser:
                    help="exit 1 when an item is missing (or missing or partial)")
     c.add_argument("--config", metavar="FILE", help="settings file (default: nearest studygap.yaml or pyproject.toml)")
     c.add_argument("--verbose", "-v", action="store_true", help="show every passage and facet")
+    c.add_argument("--all", dest="all_requests", action="store_true",
+                   help="with --format markdown: every request to the authors, not only the ten most important")
     c.add_argument("--quiet", "-q", action="store_true", help="no progress display")
     c.add_argument("--no-color", action="store_true", help="no colour (NO_COLOR is respected too)")
     c.add_argument("--no-cache", action="store_true",
@@ -205,7 +207,8 @@ def cmd_check(args) -> int:
               "; no output was written", file=sys.stderr)
         return ExitCode.INTERRUPTED
     if reports:
-        out = render(args.format, reports, RenderOptions(verbose=args.verbose, color=_color(args), many=len(args.files) > 1))
+        out = render(args.format, reports, RenderOptions(verbose=args.verbose, color=_color(args), many=len(args.files) > 1,
+                                                 all_requests=args.all_requests))
         _write(out, args.output, args.files)
     if errors:
         return ExitCode.SOME_INPUTS_FAILED

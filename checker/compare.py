@@ -219,7 +219,10 @@ def render_terminal(comp: Comparison, markdown: bool = False) -> str:
     for kind, items in _sections(comp):
         w(f"\n## {KIND_TEXT[kind]} ({len(items)})\n\n" if markdown else f"\n{KIND_TEXT[kind]} ({len(items)})\n")
         for it in items:
-            status = f"{it.old_status} -> {it.new_status}" if it.old_status != it.new_status else it.new_status
+            from .reports.words import word
+
+            status = (f"{word(it.old_status)} -> {word(it.new_status)}" if it.old_status != it.new_status
+                      else word(it.new_status))
             if markdown:
                 w(f"- **{it.id}** {it.title} ({status})\n")
             else:

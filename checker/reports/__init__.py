@@ -21,6 +21,8 @@ class RenderOptions:
     width: int | None = None
     #: several documents were asked for (JSON then gives a list even when only one could be read)
     many: bool = False
+    #: a review letter lists every request, not only the most important ones
+    all_requests: bool = False
 
 
 @dataclass(frozen=True)

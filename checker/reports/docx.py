@@ -9,10 +9,13 @@ from collections.abc import Sequence
 from datetime import datetime, timezone
 
 from ..report import CAUTIONS, Evidence, ItemResult, Report
+from .words import glyph, word
 
-COLUMNS = ("Item", "Question", "Status", "Where reported", "Quoted evidence", "Author's response")
-#: column widths in centimetres on a landscape A4 page (27.7 cm of text width)
-WIDTHS = (3.6, 5.2, 2.2, 3.6, 8.1, 5.0)
+COLUMNS = ("Item", "Question", "Status", "Where reported", "Quoted evidence", "Request to the authors",
+           "Author's response")
+#: column widths in centimetres on a landscape A4 page (27.7 cm of text width); the status column holds the
+#: longest status ("– not applicable") on one line at 9 pt
+WIDTHS = (3.4, 4.4, 2.8, 2.9, 6.4, 4.2, 3.6)
 #: rows in this order: gaps first, so the authors answer them first
 ROW_ORDER = ("missing", "partial", "reported", "not-applicable", "waived")
 
@@ -75,23 +78,19 @@ def _piece(text: str) -> str:
 def _row(table, it: ItemResult, r: Report, verbose: bool) -> None:
     cells = table.add_row().cells
     cells[0].text = ""
-    p = cells[0].paragraphs[0]
-    p.add_run(_clean(it.title)).bold = True
-    p.add_run("\n" + it.id).italic = True
+    cells[0].paragraphs[0].add_run(_clean(it.title)).bold = True
     cells[1].text = _clean(it.question)
     cells[2].text = ""
-    cells[2].paragraphs[0].add_run(it.status).bold = True
-    if it.status != "reported" and it.reason:
-        cells[2].add_paragraph(_clean(it.reason))
+    cells[2].paragraphs[0].add_run(f"{glyph(it.status)} {word(it.status)}").bold = True
     shown = it.evidence if verbose else it.evidence[:2]
     cells[3].text = "\n".join(_where(ev, r) for ev in shown) if shown else "not found"
-    cells[4].text = ""
+    if it.status not in ("reported",) and it.reason:
+        cells[3].add_paragraph().add_run(_clean(it.reason)).italic = True
+    cells[4].text = ""  # quotes only
     for i, ev in enumerate(shown):
         _quote_runs(cells[4].paragraphs[0] if i == 0 else cells[4].add_paragraph(), ev)
-    if it.status in ("missing", "partial") and it.ask:
-        p = cells[4].add_paragraph() if shown else cells[4].paragraphs[0]
-        p.add_run("Request: " + _clean(it.ask)).italic = True
-    cells[5].text = ""
+    cells[5].text = _clean(it.ask) if it.status in ("missing", "partial") and it.ask else ""
+    cells[6].text = ""
 
 
 def _document(doc, r: Report, verbose: bool, when: datetime) -> None:
@@ -106,7 +105,7 @@ def _document(doc, r: Report, verbose: bool, when: datetime) -> None:
         ("Document", f"{r.document_path} ({r.document_format}{pages}, {r.words:,} words)"),
         ("Checklist", f"{r.checklist_title} ({r.checklist_id}, version {r.checklist_version})"),
         ("Date", when.strftime("%Y-%m-%d")),
-        ("Items", ", ".join(f"{counts[s]} {s}" for s in ROW_ORDER)),
+        ("Items", ", ".join(f"{counts[s]} {word(s)}" for s in ROW_ORDER)),
         ("Checked by", f"studygap {r.tool_version}"),
     ):
         cells = meta.add_row().cells
@@ -114,6 +113,11 @@ def _document(doc, r: Report, verbose: bool, when: datetime) -> None:
         cells[0].paragraphs[0].runs[0].bold = True
         cells[1].text = _clean(v)
     _widths(meta, (4.0, 23.7))
+    for row in meta.rows:
+        for cell in row.cells:
+            for p in cell.paragraphs:
+                for run in p.runs:
+                    run.font.size = Pt(10)
     doc.add_paragraph(
         "Please answer each item in the last column: where the manuscript now reports it (section and page), "
         "or why it does not apply. Items are listed with the gaps first.")
@@ -191,26 +195,32 @@ def _repeat_header(row) -> None:
     tr_pr.append(el)
 
 
-def render(reports: Sequence[Report], options) -> bytes:
+def landscape_document(title: str, when: datetime):
+    """A python-docx Document on landscape A4 with narrow margins and fixed properties (same inputs, same bytes)."""
     from docx import Document
     from docx.enum.section import WD_ORIENT
-    from docx.enum.text import WD_BREAK
     from docx.shared import Cm
 
-    when = report_date()
     doc = Document()
     sec = doc.sections[0]
     sec.orientation = WD_ORIENT.LANDSCAPE
     sec.page_width, sec.page_height = Cm(29.7), Cm(21.0)
-    for side in ("left_margin", "right_margin"):
-        setattr(sec, side, Cm(1.0))
+    sec.left_margin = sec.right_margin = Cm(1.0)
     sec.top_margin = sec.bottom_margin = Cm(1.5)
     props = doc.core_properties
-    props.title = "studygap reporting form"
+    props.title = title
     props.author = props.last_modified_by = "studygap"
     # fixed dates keep the file the same for the same inputs and SOURCE_DATE_EPOCH
     props.created = props.modified = when.replace(tzinfo=None)
     props.revision = 1
+    return doc
+
+
+def render(reports: Sequence[Report], options) -> bytes:
+    from docx.enum.text import WD_BREAK
+
+    when = report_date()
+    doc = landscape_document("studygap reporting form", when)
     for i, r in enumerate(reports):
         if i:
             doc.add_paragraph().add_run().add_break(WD_BREAK.PAGE)

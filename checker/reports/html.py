@@ -9,21 +9,16 @@ from collections.abc import Sequence
 from html import escape
 
 from ..report import CAUTIONS, Evidence, ItemResult, Report
+from .words import GAPS_FIRST, GLYPHS, heading
 
-#: status -> (heading word, short sign shown beside the word); the word is always written out
-LABELS = {
-    "reported": ("Reported", "✓"),
-    "partial": ("Partly reported", "◐"),
-    "missing": ("Not found", "✗"),
-    "not-applicable": ("Not applicable", "–"),
-    "waived": ("Waived", "≈"),
-}
+#: status -> (heading word, glyph shown beside the word): the one vocabulary of words.py
+LABELS = {s: (heading(s), GLYPHS[s]) for s in GAPS_FIRST}
 #: the order items are listed in: gaps first
-LIST_ORDER = ("missing", "partial", "reported", "not-applicable", "waived")
+LIST_ORDER = GAPS_FIRST
 
 CSS = """
 :root{--ink:#1d2330;--soft:#5a6272;--line:#d9dde5;--paper:#fff;--band:#f1f4f8;--mark:#fff0a8;
---reported:#1f6b57;--partial:#8a5200;--missing:#a1283f;--not-applicable:#5d6470;--waived:#4b4a9c}
+--reported:#9aa5b4;--partial:#5b6473;--missing:#1f2733;--not-applicable:#c5ccd6;--waived:#c5ccd6}
 *{box-sizing:border-box}
 body{margin:0;font:16px/1.5 system-ui,-apple-system,"Segoe UI",Roboto,"Helvetica Neue",Arial,sans-serif;
 color:var(--ink);background:var(--paper)}
@@ -51,7 +46,7 @@ border-radius:.4rem;padding:.2rem .6rem}
 .item{border:1px solid var(--line);border-left:.45rem solid var(--c);border-radius:.5rem;padding:.7rem .9rem;
 margin:.7rem 0;break-inside:avoid}
 .item header{display:flex;flex-wrap:wrap;align-items:baseline;gap:.2rem .7rem}
-.status{font-weight:700;color:var(--c);text-transform:uppercase;letter-spacing:.04em;font-size:.8rem}
+.status{font-weight:700;color:var(--ink);letter-spacing:.02em;font-size:.85rem}
 .id{color:var(--soft);font-family:ui-monospace,Menlo,Consolas,monospace;font-size:.82rem}
 .group{color:var(--soft);font-size:.82rem}
 .question{margin:.35rem 0;color:var(--soft)}
@@ -61,6 +56,7 @@ blockquote p{margin:0}
 .where{display:block;color:var(--soft);font-size:.85rem;margin-top:.2rem}
 mark{background:var(--mark);color:inherit;padding:0 .1em;border-radius:.15em}
 .facts{font-size:.9rem;color:var(--soft);margin:.35rem 0 0}
+.more summary{cursor:pointer;color:var(--soft);font-size:.9rem}
 .ask{margin:.5rem 0 0;font-size:.95rem}
 .finding{--c:var(--ink)}
 .s-reported{--c:var(--reported)}.s-partial{--c:var(--partial)}.s-missing{--c:var(--missing)}
@@ -69,7 +65,7 @@ mark{background:var(--mark);color:inherit;padding:0 .1em;border-radius:.15em}
 @media (max-width:34rem){body{font-size:15px}main{padding:.6rem}.band{padding:.7rem}.item{padding:.6rem .7rem}}
 @media print{
 body{font-size:10.5pt;color:#000}main{max-width:none;padding:0}
-.filters{display:none!important}.band{background:none;border:1px solid #999}
+.filters{display:none!important}.more{display:block}.band{background:none;border:1px solid #999}
 .item,.band{break-inside:avoid}mark{background:none;font-weight:700;text-decoration:underline}
 a{color:#000}.doc+.doc{break-before:page}
 }
@@ -142,7 +138,9 @@ def _item(it: ItemResult, r: Report, verbose: bool) -> str:
     for ev in it.evidence if verbose else it.evidence[:2]:
         parts.append(_quote(ev, r))
     if len(it.evidence) > 2 and not verbose:
-        parts.append(f'<p class="facts">{len(it.evidence) - 2} more passage(s) not shown (use --verbose).</p>')
+        more = len(it.evidence) - 2
+        parts.append(f'<details class="more"><summary>{more} more passage{"s" if more != 1 else ""}</summary>'
+                     + "".join(_quote(ev, r) for ev in it.evidence[2:]) + "</details>")
     if it.facts:
         facts = "; ".join(f"{e(name)} = {e(', '.join(x.text for x in fs))}" for name, fs in it.facts)
         parts.append(f'<p class="facts">Facts: {facts}</p>')
@@ -201,10 +199,11 @@ def _filters(reports: Sequence[Report]) -> str:
     for r in reports:
         for it in r.items:
             groups.setdefault(it.group, r.group_title(it.group))
-    statuses = [s for s in LIST_ORDER if any(it.status == s for r in reports for it in r.items)]
+    statuses = list(LIST_ORDER)  # all five, so that the filter reads the same on every page
     out = ['<fieldset class="filters" id="filters" hidden><legend>Show items</legend>',
            '<div role="group" aria-label="by status"><strong>Status:</strong>']
-    out += [f'<label><input type="checkbox" checked data-status="{s}"> {e(LABELS[s][0])}</label>' for s in statuses]
+    out += [f'<label><input type="checkbox" checked data-status="{s}"> {LABELS[s][1]} {e(LABELS[s][0])}</label>'
+            for s in statuses]
     out.append('<button type="button" class="all" data-set="status" data-value="1">all</button>'
                '<button type="button" class="all" data-set="status" data-value="0">none</button></div>')
     out.append(f'<details><summary>Groups ({len(groups)})</summary><div role="group" aria-label="by group">')

@@ -7,15 +7,10 @@ import re
 from collections.abc import Sequence
 
 from ..report import CAUTIONS, Evidence, FacetResult, ItemResult, Report
+from .words import heading, word
 
-#: the order of sections: what needs the authors' attention first
-SECTIONS = (
-    ("partial", "Partly reported"),
-    ("missing", "Not found"),
-    ("reported", "Reported"),
-    ("not-applicable", "Not applicable"),
-    ("waived", "Waived"),
-)
+#: the order of sections: what needs the authors' attention first; headings are words.py's words
+SECTIONS = tuple((s, heading(s)) for s in ("partial", "missing", "reported", "not-applicable", "waived"))
 COUNT_ORDER = ("partial", "missing", "reported", "not-applicable", "waived")
 
 # Characters that make markup anywhere in a line; escaped with a backslash (CommonMark allows it for any ASCII
@@ -78,21 +73,79 @@ def _sentence(text: str) -> str:
     return text if text.endswith((".", "?", "!")) else text + "."
 
 
+#: the order in which a letter raises the groups of each built-in checklist: what most changes how far readers can
+#: trust the results comes first (our judgement, common practice in reviewing; other checklists keep their order)
+GROUP_PRIORITY = {
+    "validation-study": ("reference", "data", "metrics", "ranking", "results", "methods", "purpose", "availability",
+                         "governance"),
+    "benchmark-proposal": ("data", "reference", "metrics", "ranking", "results", "governance", "availability",
+                           "purpose"),
+    "dataset-description": ("data", "reference", "availability", "governance", "purpose", "metrics", "results",
+                            "ranking"),
+}
+#: at most this many requests in a letter unless every one is asked for
+MAX_REQUESTS = 10
+
 def request(item: ItemResult, r: Report) -> str:
-    """A polite, specific request for one missing or partial item (plain text, document words escaped)."""
-    ask = _sentence(item.ask) if item.ask else f"Could you add: {item.question}"
+    """A polite, specific request for one missing or partial item (plain text, document words escaped).
+
+    A partial item names what was found (with its place) and what was not, as lists after "found:" and "not
+    found:", so that any facet title reads correctly there, and asks only for what is missing; a missing item
+    gives the item's own request.
+    """
     if item.status == "partial":
         found = [f for f in item.facets if f.found]
         lacking = [f for f in item.facets if not f.found]
         bits = []
         for f in found:
             ev = _first_evidence_of(item, f)
-            bits.append(f"{f.title} ({escape(place(ev, r))})" if ev else f.title)
-        head = "the document mentions " + _join(bits) if bits else "part of this is reported"
-        tail = f", but we could not find {_join([f.title for f in lacking])}" if lacking else ""
-        return f"**{escape(item.title)}**: {head}{tail}. {ask}"
-    why = f" — {escape(item.reason)}" if item.reason else ""
-    return f"**{escape(item.title)}**: we could not find this in the document{why}. {ask}"
+            bits.append(f"{_label(f.title)} ({escape(place(ev, r))})" if ev else _label(f.title))
+        head = "found: " + "; ".join(bits) if bits else "partly found"
+        if lacking:
+            return (f"**{escape(item.title)}** — {head}; not found: {'; '.join(_label(f.title) for f in lacking)}. "
+                    "Could you add what is missing?")
+        return f"**{escape(item.title)}** — {head}. {_sentence(item.ask) if item.ask else ''}".rstrip()
+    ask = _sentence(item.ask) if item.ask else f"Could you add: {item.question}"
+    where = f"; it is {escape(item.reason)}" if item.reason.startswith("only mentioned") else ""
+    return f"**{escape(item.title)}** — not found in the document{where}. {ask}"
+
+
+def _label(title: str) -> str:
+    return escape(" ".join(title.split()))
+
+
+def ranked_gaps(r: Report) -> list[ItemResult]:
+    """Missing and partial items, most important first: by the group's rank for this kind of document, then missing
+    before partial, then checklist order."""
+    order = GROUP_PRIORITY.get(r.checklist_id) or tuple(g for g, _ in r.groups)
+    rank = {g: i for i, g in enumerate(order)}
+    gaps = [(n, it) for n, it in enumerate(r.items) if it.status in ("partial", "missing")]
+    gaps.sort(key=lambda p: (rank.get(p[1].group, len(rank)), 0 if p[1].status == "missing" else 1, p[0]))
+    return [it for _, it in gaps]
+
+
+def letter(r: Report, level: str, all_requests: bool = False) -> list[str]:
+    """The requests to the authors, grouped by section of the checklist, numbered throughout, at most MAX_REQUESTS
+    unless all_requests; those left out are named in one line."""
+    gaps = ranked_gaps(r)
+    out = [f"{level} Requests to the authors", ""]
+    if not gaps:
+        return out + ["Every item of the checklist was found; there is nothing to request from these checks alone.",
+                      ""]
+    shown = gaps if all_requests else gaps[:MAX_REQUESTS]
+    n = 0
+    for group in dict.fromkeys(it.group for it in shown):
+        out += [f"{level}# {escape(r.group_title(group))}", ""]
+        for it in (x for x in shown if x.group == group):
+            n += 1
+            out.append(f"{n}. {request(it, r)}")
+        out.append("")
+    rest = gaps[len(shown):]
+    if rest:
+        out += [f"{len(rest)} further item{'s were' if len(rest) != 1 else ' was'} not found or only partly found; "
+                "they matter less for this kind of document and are left out of the requests: "
+                + "; ".join(escape(it.title) for it in rest) + ".", ""]
+    return out
 
 
 def _join(words: list[str]) -> str:
@@ -104,10 +157,10 @@ def _join(words: list[str]) -> str:
 def _item_block(item: ItemResult, r: Report, verbose: bool) -> list[str]:
     out = [f"#### {escape(item.title)} (`{item.id}`)", "", f"*{escape(item.question)}*", ""]
     if item.status != "reported" or verbose:
-        out += [f"Status: **{item.status}**. {escape(_sentence(item.reason))}" if item.reason
-                else f"Status: **{item.status}**.", ""]
+        out += [f"Status: **{word(item.status)}**. {escape(_sentence(item.reason))}" if item.reason
+                else f"Status: **{word(item.status)}**.", ""]
     else:
-        out += [f"Status: **{item.status}**.", ""]
+        out += [f"Status: **{word(item.status)}**.", ""]
     # gaps show two passages (what was found, for the authors to extend), reported items their best one
     shown = item.evidence if verbose else item.evidence[: 1 if item.status == "reported" else 2]
     for ev in shown:
@@ -118,7 +171,7 @@ def _item_block(item: ItemResult, r: Report, verbose: bool) -> list[str]:
     return out
 
 
-def render_one(r: Report, verbose: bool = False, level: int = 2) -> str:
+def render_one(r: Report, verbose: bool = False, level: int = 2, all_requests: bool = False) -> str:
     h = "#" * level
     out: list[str] = []
     out += [f"{h} studygap report: {escape(r.document_path)}", ""]
@@ -129,7 +182,7 @@ def render_one(r: Report, verbose: bool = False, level: int = 2) -> str:
     out += [f"- Document: {escape(r.document_path)} ({', '.join(bits)})",
             f"- Checklist: {escape(r.checklist_title)} (`{r.checklist_id}`, version {r.checklist_version})"]
     counts = r.summary
-    out.append("- Items: " + ", ".join(f"{counts[s]} {s}" for s in COUNT_ORDER))
+    out.append("- Items: " + ", ".join(f"{counts[s]} {word(s)}" for s in COUNT_ORDER))
     if r.findings:
         out.append(f"- Findings across items: {len(r.findings)}")
     out.append("")
@@ -152,20 +205,14 @@ def render_one(r: Report, verbose: bool = False, level: int = 2) -> str:
             for ev in f.evidence[: (None if verbose else 3)]:
                 out += [f"> {quote(ev)}", ">", f"> — {escape(place(ev, r))}", ""]
 
-    gaps = [it for it in r.items if it.status in ("partial", "missing")]
-    gaps.sort(key=lambda it: 0 if it.status == "missing" else 1)
-    out += [f"{h}# Requests to the authors", ""]
-    if gaps:
-        out += [f"{n}. {request(it, r)}" for n, it in enumerate(gaps, 1)]
-    else:
-        out.append("Every item of the checklist was found; there is nothing to request from these checks alone.")
-    out.append("")
+    out += letter(r, f"{h}#", all_requests)
     return "\n".join(out)
 
 
 def render(reports: Sequence[Report], options) -> str:
+    every = getattr(options, "all_requests", False)
     if len(reports) == 1:
-        return render_one(reports[0], options.verbose)
+        return render_one(reports[0], options.verbose, all_requests=every)
     parts = ["# studygap reports", ""]
-    parts += [render_one(r, options.verbose, level=2) for r in reports]
+    parts += [render_one(r, options.verbose, level=2, all_requests=every) for r in reports]
     return "\n".join(parts)

@@ -329,26 +329,14 @@ def render_html(screen: Screen) -> str:
 def render_docx(screen: Screen) -> bytes:
     """One landscape table per checklist: items as rows (with their group), documents as columns, a glyph and a
     word per cell where there is room; a key of the documents and the signs below."""
-    from docx import Document
-    from docx.enum.section import WD_ORIENT
     from docx.enum.table import WD_TABLE_ALIGNMENT
-    from docx.shared import Cm, Pt
+    from docx.shared import Pt
 
     from ..screen import CAUTIONS, SCORE_NOTE, _summary_line, short_names
-    from .docx import _repeat_header, _widths, report_date, shade
+    from .docx import _repeat_header, _widths, landscape_document, report_date, shade
 
     when = report_date()
-    doc = Document()
-    sec = doc.sections[0]
-    sec.orientation = WD_ORIENT.LANDSCAPE
-    sec.page_width, sec.page_height = Cm(29.7), Cm(21.0)
-    sec.left_margin = sec.right_margin = Cm(1.0)
-    sec.top_margin = sec.bottom_margin = Cm(1.2)
-    props = doc.core_properties
-    props.title = "studygap screening table"
-    props.author = props.last_modified_by = "studygap"
-    props.created = props.modified = when.replace(tzinfo=None)
-    props.revision = 1
+    doc = landscape_document("studygap screening table", when)
     style = doc.styles["Normal"]
     style.font.size = Pt(9)
 

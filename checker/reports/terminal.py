@@ -10,16 +10,18 @@ from rich.padding import Padding
 from rich.text import Text
 
 from ..report import CAUTIONS, STATUS_ORDER, Evidence, Report
+from .words import glyph, word
 
-#: status -> style; the word is always printed, so colour is never the only signal
+#: status -> style: one neutral scale, gaps in bold; the glyph and the word are always printed, so style is never
+#: the only signal
 STYLES = {
-    "reported": "bold dark_cyan",
-    "partial": "bold dark_orange3",
-    "missing": "bold deep_pink3",
+    "reported": "",
+    "partial": "bold",
+    "missing": "bold",
     "not-applicable": "grey50",
-    "waived": "slate_blue1",
+    "waived": "grey50",
 }
-WIDTH = 14  # the status column
+WIDTH = 17  # the status column: glyph, space, the longest word ("not applicable") and two spaces
 
 
 def _quote(ev: Evidence, limit: int = 320) -> Text:
@@ -54,7 +56,7 @@ def _header(r: Report) -> list[Text]:
     counts = Text()
     for s in STATUS_ORDER:
         n = r.summary[s]
-        counts.append(f"{n} {s}", style=STYLES[s] if n else "dim")
+        counts.append(f"{glyph(s)} {n} {word(s)}", style=STYLES[s] if n else "dim")
         counts.append("   ")
     return [doc, cl, counts]
 
@@ -71,7 +73,7 @@ def render_one(r: Report, console: Console, verbose: bool) -> None:  # noqa: C90
             console.print()
             console.print(Text(r.group_title(it.group), style="bold underline"))
         head = Text()
-        head.append(f"  {it.status:<{WIDTH}}", style=STYLES[it.status])
+        head.append(f"  {glyph(it.status) + ' ' + word(it.status):<{WIDTH - 2}}  ", style=STYLES[it.status])
         head.append(it.title, style="bold")
         head.append(f"  [{it.id}]", style="dim")
         console.print(head)
@@ -93,7 +95,7 @@ def render_one(r: Report, console: Console, verbose: bool) -> None:  # noqa: C90
         console.print(Text("Findings across items", style="bold underline"))
         for f in r.findings:
             line = Text()
-            line.append(f"  {f.severity:<{WIDTH}}", style="bold" if f.severity == "warning" else "")
+            line.append(f"  {f.severity:<{WIDTH - 2}}  ", style="bold" if f.severity == "warning" else "")
             line.append(f.title, style="bold")
             line.append(f"  [{f.id}]", style="dim")
             console.print(line)
