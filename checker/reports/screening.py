@@ -90,7 +90,8 @@ dialog::backdrop{background:rgba(20,25,35,.35)}
 dialog .ev{margin:0}
 dialog form{text-align:right;margin-top:.6rem}
 [hidden]{display:none!important}
-@media (max-width:40rem){main{padding:.5rem}.matrix th.doc{min-width:6rem;max-width:8.5rem}}
+@media (max-width:40rem){main{padding:.5rem}.matrix th.doc{min-width:6rem;max-width:8.5rem;white-space:normal;
+overflow-wrap:anywhere;font-size:12px}.bar{display:none}.matrix th.score,.matrix td.score{min-width:2.6rem}}
 @media print{
 @page{size:A4 landscape;margin:9mm}
 body{font-size:8.5pt;color:#000}main{padding:0}
@@ -395,6 +396,9 @@ def render_docx(screen: Screen) -> bytes:
         for cell in table.rows[0].cells + table.rows[1].cells:
             for run in cell.paragraphs[0].runs:
                 run.bold = True
+        for cell in table.rows[0].cells[1:]:  # file names: smaller, so that they break at their hyphens only
+            for run in cell.paragraphs[0].runs:
+                run.font.size = Pt(7.5)
     if not words_fit or any(r.error for r in screen.rows):
         doc.add_heading("Documents", level=1)
         for r in screen.rows:
