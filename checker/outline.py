@@ -19,6 +19,7 @@ class SectionNode:
     words: int = 0
     sentences: int = 0
     children: list["SectionNode"] = field(default_factory=list)
+    path: tuple[str, ...] = ()
 
     def to_dict(self) -> dict[str, Any]:
         return {
@@ -48,10 +49,12 @@ def section_tree(document: Document) -> tuple[list[SectionNode], int, int]:
         counts[s.block] = counts.get(s.block, 0) + 1
     for bi, b in enumerate(document.blocks):
         if b.kind == "heading":
-            level = b.level or 1
-            while stack and stack[-1].level >= level:
+            # the tree follows the section paths (a title or an abstract holds no sections, whatever its level)
+            path = b.section or (" ".join(b.text.split()),)
+            while stack and (len(stack) >= len(path) or stack[-1].path != path[:len(stack)]):
                 stack.pop()
-            node = SectionNode(" ".join(b.text.split()), level, b.role, b.location)
+            level = len(stack) + 1
+            node = SectionNode(" ".join(b.text.split()), level, b.role, b.location, path=path)
             (stack[-1].children if stack else roots).append(node)
             stack.append(node)
             continue

@@ -8,13 +8,18 @@ from functools import lru_cache
 
 from rapidfuzz import fuzz, process
 
-from .document import Block
+from .document import Block, Mark
 
 #: role -> heading variants as authors write them (compared after numbering and case are removed)
 ROLE_HEADINGS: dict[str, tuple[str, ...]] = {
     "abstract": ("abstract", "summary", "overview", "tl dr", "synopsis", "highlights", "key points"),
-    "introduction": ("introduction", "background", "motivation", "objective", "objectives", "aims", "purpose"),
-    "related-work": ("related work", "prior work", "previous work", "state of the art", "literature review"),
+    "introduction": ("introduction", "motivation", "objective", "objectives", "aims", "purpose"),
+    "related-work": (
+        "related work", "related works", "prior work", "previous work", "state of the art", "literature review",
+        "literature survey", "review of literature", "review of related literature", "related literature",
+        "background", "background and related work", "related work and background", "existing work",
+        "existing works", "existing system", "existing systems", "previous studies",
+    ),
     "data": (
         "data", "dataset", "datasets", "data description", "data collection", "study population", "patients",
         "materials", "image data", "data acquisition", "cohort", "participants and data", "challenge data",
@@ -46,7 +51,30 @@ ROLE_HEADINGS: dict[str, tuple[str, ...]] = {
                          "disclosures", "financial disclosure", "license", "licence", "citation", "how to cite"),
     "references": ("references", "bibliography", "literature cited", "works cited", "citations", "reference list"),
     "appendix": ("appendix", "appendices", "supplementary material", "supplementary materials", "supplement"),
+    # what a thesis or report puts before its first chapter, and a paper's keyword line: never evidence
+    "front-matter": (
+        "table of contents", "contents", "list of figures", "list of tables", "list of figures and tables",
+        "list of abbreviations", "abbreviations", "list of symbols", "nomenclature", "list of publications",
+        "certificate", "bonafide certificate", "certificate of approval", "approval sheet", "declaration",
+        "candidate s declaration", "declaration by the candidate", "student declaration",
+        "declaration of originality", "dedication", "title page", "cover page", "keywords",
+        "key words", "index terms", "peer review history",
+    ),
+    # the system requirements of a software report (not a challenge's requirements for submissions)
+    "requirements": (
+        "system requirements", "hardware requirements", "software requirements", "hardware and software requirements",
+        "software and hardware requirements", "requirement analysis", "requirements analysis",
+        "functional requirements", "non functional requirements", "requirements specification",
+        "requirement specification", "software requirements specification", "system requirements specification",
+    ),
 }
+#: roles a heading must name whole: "Reference annotation" is not the reference list, "Submission requirements"
+#: are not system requirements, "Contents of the dataset" is not a table of contents
+_WHOLE_ONLY = frozenset({"references", "requirements", "front-matter"})
+#: roles whose subsections keep them: a survey's paper titles are still about other work
+#: variants that name a role only as the whole heading: "Background subtraction" is a method
+_WHOLE_ONLY_VARIANTS = frozenset({"background", "contents", "summary"})
+_STICKY = frozenset({"related-work", "front-matter", "abstract"})
 
 _VARIANTS: list[tuple[str, str]] = [(v, role) for role, vs in ROLE_HEADINGS.items() for v in vs]
 _CHOICES = [v for v, _ in _VARIANTS]
@@ -81,24 +109,166 @@ def heading_role(text: str) -> str | None:
             text = " ".join(words[:n] if part == "head" else words[-n:])
             best = process.extractOne(text, _CHOICES, scorer=fuzz.ratio, score_cutoff=92)
             # "Reference annotation" is not the reference list: that role needs the whole heading
-            if best is not None and _VARIANTS[best[2]][1] != "references":
+            if best is not None and _VARIANTS[best[2]][1] not in _WHOLE_ONLY \
+                    and _VARIANTS[best[2]][0] not in _WHOLE_ONLY_VARIANTS:
                 return _VARIANTS[best[2]][1]
     return None
 
 
-def assign_sections(blocks: list[Block]) -> list[Block]:
-    """Fill in each block's section path and role from the headings before it."""
+#: headings of a structured abstract ("Background", "Methods", "Results", ...): the abstract's own parts
+_STRUCTURED_ABSTRACT = frozenset({
+    "background", "purpose", "objective", "objectives", "aim", "aims", "context", "introduction", "methods",
+    "method", "materials and methods", "design", "study design", "setting", "participants", "patients", "approach",
+    "results", "findings", "principal findings", "methods and findings", "conclusion", "conclusions",
+    "conclusions and relevance", "interpretation", "significance", "importance", "main outcome measures",
+    "measurements", "limitations", "availability and implementation", "contact",
+})
+#: front matter that marks a thesis or report: the text before its first chapter is its title page
+_THESIS_FRONT = frozenset({"table of contents", "contents", "list of figures", "list of tables",
+                           "list of figures and tables", "list of abbreviations", "abbreviations", "list of symbols",
+                           "nomenclature", "certificate", "bonafide certificate", "certificate of approval",
+                           "approval sheet", "declaration", "candidate s declaration", "declaration by the candidate",
+                           "student declaration", "declaration of originality", "dedication", "title page",
+                           "cover page"})
+#: sections of the body proper; the first of them ends the front matter
+_BODY_ROLES = frozenset({"introduction", "related-work", "data", "methods", "evaluation", "results", "discussion",
+                         "limitations", "requirements"})
+#: sections that stand beside the body at its top level (a title can share its level with them)
+_BACK_ROLES = frozenset({"references", "acknowledgements", "appendix", "front-matter"})
+#: sections no document is titled after
+_NEVER_TITLE = _BACK_ROLES | {"abstract", "introduction", "related-work", "discussion", "limitations"}
+
+_CHAPTER = re.compile(r"^\s*(?:chapter|part)\s+(?:[0-9]{1,2}|[ivxlc]{1,6}|one|two|three|four|five|six|seven|eight|nine|"
+                      r"ten|eleven|twelve)\s*[.:]?\s*$", re.IGNORECASE)
+#: a table-of-contents line: dot leaders, or a title and its page number
+_LEADERS = re.compile(r"(?:\.\s?){4,}\s*[0-9ivxlc]{0,4}\s*$|[…·]{2,}\s*[0-9ivxlc]{0,4}\s*$", re.IGNORECASE)
+_PAGE_NUMBER_END = re.compile(r"\S\s+(?:[0-9]{1,3}|[ivxlc]{1,6})\s*$", re.IGNORECASE)
+_SECTION_NUMBER = re.compile(r"^\s*(?:(?:section|chapter|part)\s+)?(?:[0-9]+(?:\.[0-9]+)*|[ivxlcdm]+\.|[A-Z](?:\.[0-9]+)+)"
+                             r"[.)]?\s+\S", re.IGNORECASE)
+#: a by-line on a title page: authors' addresses, affiliations, e-mail, dates of a journal's history
+BYLINE = re.compile(
+    r"[\w.+-]+@[\w-]+\.[\w.-]+|\b(?:universit(?:y|ies|[éàä]t?)\b|institute (?:of|for)|institut\b|department of|"
+    r"dept\.|hospital\b|school of|college of|faculty of|laborator(?:y|ies) (?:of|for)|(?:centre|center) (?:of|for)|"
+    r"corresponding author|orcid|received:|accepted:|published:)",
+    re.IGNORECASE,
+)
+
+
+def _words(block: Block) -> int:
+    return len(block.text.split())
+
+
+def _join_chapter_titles(blocks: list[Block]) -> list[Block]:
+    """"CHAPTER 2" and the title under it ("LITERATURE SURVEY") are one heading."""
     out: list[Block] = []
-    stack: list[tuple[int, str, str | None]] = []  # (level, title, role)
-    for block in blocks:
+    i = 0
+    while i < len(blocks):
+        b = blocks[i]
+        nxt = blocks[i + 1] if i + 1 < len(blocks) else None
+        if (b.kind == "heading" and _CHAPTER.match(b.text) and nxt is not None and nxt.text.strip()
+                and (nxt.kind == "heading" or nxt.kind == "paragraph" and _words(nxt) <= 12
+                     and not nxt.text.rstrip().endswith("."))):
+            head = b.text.strip()
+            marks = tuple(b.marks) or ((Mark(0, b.location.page, b.location.line),) if b.location.page else ())
+            tail_marks = tuple(Mark(len(head) + 1 + m.offset, m.page, m.line) for m in nxt.marks) or (
+                (Mark(len(head) + 1, nxt.location.page, nxt.location.line),) if nxt.location.page else ())
+            out.append(dataclasses.replace(b, text=f"{head} {nxt.text.strip()}", marks=marks + tail_marks))
+            i += 2
+            continue
+        out.append(b)
+        i += 1
+    return out
+
+
+def _caps_rank(headings: list[tuple[int, Block]]) -> dict[int, float]:
+    """Headings a reader ranked alike, where the body's main sections are set in capitals ("MATERIALS AND
+    METHODS") and the others in mixed case ("Image acquisition"): the mixed-case ones are their subsections.
+    Returns index -> effective level for the headings that move."""
+    by_level: dict[int, list[tuple[int, Block]]] = {}
+    for i, b in headings:
+        by_level.setdefault(b.level or 1, []).append((i, b))
+    moved: dict[int, float] = {}
+    for level, hs in by_level.items():
+        def caps(b: Block) -> bool:
+            letters = [c for c in b.text if c.isalpha()]
+            return len(letters) >= 3 and all(c.isupper() for c in letters)
+
+        main = [i for i, b in hs if caps(b) and not _SECTION_NUMBER.match(b.text)
+                and heading_role(b.text) in _BODY_ROLES]
+        if len(main) < 2:
+            continue
+        for i, b in hs:
+            if i > main[0] and not caps(b) and not _SECTION_NUMBER.match(b.text):
+                moved[i] = level + 0.5
+    return moved
+
+
+def _is_title(headings: list[tuple[int, Block]], blocks: list[Block]) -> bool:
+    """Whether the first heading is the document's title: first, at the top level, with little before it, and
+    either alone at that level or sharing it with sections while naming none itself."""
+    if len(headings) < 2:
+        return False
+    i0, first = headings[0]
+    top = min(b.level or 1 for _, b in headings)
+    if (first.level or 1) != top or sum(_words(b) for b in blocks[:i0]) > 100:
+        return False
+    if heading_role(first.text) in _NEVER_TITLE:
+        return False
+    peers = [b for _, b in headings[1:] if (b.level or 1) == top and heading_role(b.text) not in _BACK_ROLES]
+    if not peers:
+        return True
+    return heading_role(first.text) is None and not _SECTION_NUMBER.match(first.text)
+
+
+def assign_sections(blocks: list[Block]) -> list[Block]:
+    """Fill in each block's section path and role from the headings before it.
+
+    Levels come from the reader (numbering, styles, font sizes), refined where capitals mark the main sections.
+    A title gives no role to what it holds; an abstract (but for the parts of a structured abstract) and front
+    matter never hold the sections after them; the subsections of related work stay related work;
+    table-of-contents lines are not headings.
+    """
+    blocks = _join_chapter_titles(blocks)
+    headings = [(i, b) for i, b in enumerate(blocks) if b.kind == "heading"]
+    moved = _caps_rank(headings)
+    title_at = headings[0][0] if headings and _is_title(headings, blocks) else None
+    thesis = any(clean_heading(b.text) in _THESIS_FRONT for _, b in headings)
+    out: list[Block] = []
+    # (level, title, role, closed, words so far)
+    stack: list[list] = []
+    in_front = True  # before the first section of the body
+    for i, block in enumerate(blocks):
+        in_toc = bool(stack) and stack[-1][2] == "front-matter"
+        if block.kind == "heading" and (_LEADERS.search(block.text) or in_toc and _PAGE_NUMBER_END.search(block.text)
+                                        and heading_role(block.text) != "front-matter"):
+            block = dataclasses.replace(block, kind="paragraph", level=None)  # a line of a table of contents
         if block.kind == "heading":
-            level = block.level or 1
-            while stack and stack[-1][0] >= level:
-                stack.pop()
+            level = moved.get(i, float(block.level or 1))
             title = re.sub(r"\s+", " ", block.text).strip()
-            role = heading_role(title)
-            stack.append((level, title, role))
-        path = tuple(title for _, title, _ in stack)
-        role = next((r for _, _, r in reversed(stack) if r), "body")
+            role = None if i == title_at else heading_role(title)
+            cleaned = clean_heading(title)
+            while stack:
+                top_level, _, top_role, closed, words = stack[-1]
+                if top_level >= level:
+                    stack.pop()
+                elif closed:
+                    stack.pop()
+                elif top_role == "abstract" and (_SECTION_NUMBER.match(title) or cleaned not in _STRUCTURED_ABSTRACT
+                                                 or words > 400):
+                    stack.pop()  # the body after an abstract, not a part of a structured abstract
+                else:
+                    break
+            closed = role == "front-matter"
+            stack.append([level, title, role, closed, 0])
+            if role in _BODY_ROLES or _SECTION_NUMBER.match(title):
+                in_front = False
+        elif stack:
+            stack[-1][4] += _words(block)
+        path = tuple(entry[1] for entry in stack)
+        sticky = next((e[2] for e in stack if e[2] in _STICKY), None)
+        role = sticky or next((e[2] for e in reversed(stack) if e[2]), "body")
+        if in_front and role == "body" and block.kind != "heading" and (
+                thesis or _words(block) <= 40 and BYLINE.search(block.text)):
+            role = "front-matter"  # a title page, or the authors and their addresses under a paper's title
         out.append(dataclasses.replace(block, section=path, role=role))
     return out

@@ -27,6 +27,8 @@ from ..document import Block, Location, Mark
 from ..errors import InputError
 from ..limits import Limits
 from . import Parsed
+from ..sections import BYLINE
+from .text import numbering_depth
 
 FORMAT = "pdf"
 SUFFIXES = (".pdf",)
@@ -824,6 +826,29 @@ _LINE_END_HYPHEN = re.compile(r"([\w-]*)-$")
 _LEADING_LETTERS = re.compile(r"[^\W\d_]*")
 
 
+#: an author line: two or more names ("Ada B. Smith1,2*", "J. Jones") joined by commas or "and"
+_NAME = r"(?:[A-Z][\w'’-]*\.?\s+){1,3}[A-Z][\w'’-]+[\d,*†‡§¶\s]*?"
+_AUTHORS = re.compile(rf"^{_NAME}(?:(?:,|\band\b|&)\s*{_NAME}){{1,}}[\d*†‡§¶,\s]*$")
+
+
+def _plausible_heading(text: str) -> bool:
+    """Whether a short styled line can be a heading at all: never a figure's panel letter or axis label
+    ("(b)", "E13.5 P14"), a table row of numbers, a bullet, an author line or an affiliation."""
+    m = _NUMBERED.match(text)
+    rest = text[m.end():] if m else text
+    if not re.search(r"[^\W\d_]{3,}", rest):
+        return False  # no word of three letters: panel letters, sample names, units
+    tokens = rest.split()
+    if sum(1 for t in tokens if re.fullmatch(r"[-+±]?[\d.,:%]*\d[\d.,:%]*", t)) * 2 >= len(tokens) >= 3:
+        return False  # mostly numbers: a table row
+    if text[0] in "*•·–—-▪◦●○■□>":
+        return False
+    if not m and (BYLINE.search(text) or _AUTHORS.match(text)
+                  and (re.search(r"[\d*†‡§¶]", text) or len(re.findall(r",|\band\b|&", text)) >= 2)):
+        return False
+    return True
+
+
 def _caps_heading(text: str) -> bool:
     """"III. METHODS", "2 RELATED WORK": a numbered heading set in capitals of the body type."""
     m = _NUMBERED.match(text)
@@ -936,6 +961,8 @@ class _Assembler:
         if d.kind in ("table-row", "caption") or len(d.rows) > 3 or not words or len(words) > 16 or len(text) > 160:
             return False
         if not re.search(r"[^\W\d_]", text) or text[0].islower() or text.endswith((",", ";")):
+            return False
+        if not _plausible_heading(text):
             return False
         numbered = _NUMBERED.match(text)
         size = sum(r.size for r in d.rows) / len(d.rows)
@@ -1121,7 +1148,7 @@ class _Assembler:
             if not m:
                 continue
             if m.group("arabic"):
-                depth = m.group("arabic").count(".") + 1
+                depth = numbering_depth(m.group("arabic"))
             elif m.group("roman"):
                 depth = 1
             else:

@@ -265,6 +265,14 @@ _NUMBERED = re.compile(
 )
 
 
+def numbering_depth(number: str) -> int:
+    """'2.1' -> 2; '1.0' and '3.0.0' -> 1: a trailing zero marks the chapter itself, as some manuscripts number."""
+    parts = number.strip(".").split(".")
+    while len(parts) > 1 and parts[-1] == "0":
+        parts.pop()
+    return len(parts)
+
+
 def numbered_heading_level(text: str, max_words: int = 12) -> int | None:
     """The level a numbered heading announces ('2.1 Data' -> 2), or None when the text is not one."""
     if len(text) > 150:
@@ -276,7 +284,7 @@ def numbered_heading_level(text: str, max_words: int = 12) -> int | None:
     if len(title.split()) > max_words or title[-1] in ".;,!?" or not re.search(r"[A-Za-z]{2}", title):
         return None
     if m.group("num"):
-        return m.group("num").count(".") + 1
+        return numbering_depth(m.group("num"))
     if m.group("alpha"):
         return m.group("alpha").count(".") + 1
     return 1

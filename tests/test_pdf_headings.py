@@ -1,0 +1,45 @@
+"""Short bold or large lines of a PDF that are never headings: figure-panel letters and axis labels, rows of a
+table of numbers, bullets, author lines and affiliations; and the outline follows the section paths."""
+
+from __future__ import annotations
+
+import pytest
+
+from checker.document import Block, Document, Location
+from checker.outline import section_tree
+from checker.readers.pdf import _plausible_heading
+from checker.sections import assign_sections
+
+
+@pytest.mark.parametrize("text", [
+    "(b)", "A", "E13.5 P14", "P4",  # panel letters, sample names on a figure
+    "2 Epoch 0.0518 1.0 0.54", "Epoch 10 0.5 0.7",  # rows of a table of numbers
+    "* tracts", "• Dice",  # bullets
+    "Ada B. Smith1, Ben Jones2*", "Ada Smith, Ben Jones and Carl Wu",  # author lines
+    "Department of Radiology, Northbay University Hospital", "ada.smith@northbay.example",  # affiliations
+])
+def test_never_a_heading(text):
+    assert not _plausible_heading(text)
+
+
+@pytest.mark.parametrize("text", [
+    "2.1 Data", "Results", "III. METHODS", "CHAPTER 2", "Data, Methods and Results", "Precision, Recall and F1",
+    "4 Experiments on 3 sites", "2.1 AllenCCFv3 brain image mapping",
+])
+def test_still_a_heading(text):
+    assert _plausible_heading(text)
+
+
+def test_the_outline_follows_section_paths_not_raw_levels():
+    # the abstract is set larger than the numbered sections, but it does not hold them
+    blocks = assign_sections([
+        Block("Abstract", "heading", Location("f.pdf", page=1, line=1), level=1),
+        Block("We summarise.", "paragraph", Location("f.pdf", page=1, line=2)),
+        Block("1 Introduction", "heading", Location("f.pdf", page=1, line=3), level=2),
+        Block("Fractures are common.", "paragraph", Location("f.pdf", page=1, line=4)),
+        Block("1.1 Aims", "heading", Location("f.pdf", page=1, line=5), level=3),
+        Block("We aim high.", "paragraph", Location("f.pdf", page=1, line=6)),
+    ])
+    roots, _, _ = section_tree(Document("f.pdf", "pdf", tuple(blocks)))
+    assert [(r.title, r.role, [c.title for c in r.children]) for r in roots] == [
+        ("Abstract", "abstract", []), ("1 Introduction", "introduction", ["1.1 Aims"])]
