@@ -74,6 +74,8 @@ class Screen:
     rows: tuple[ScreenRow, ...]
     fact_names: tuple[str, ...]
     seconds: float = 0.0
+    #: (path, reason): files in the given folders that were not checked at all (not a readable kind, LaTeX parts)
+    skipped: tuple[tuple[str, str], ...] = ()
 
     @property
     def checklist_id(self) -> str:
@@ -124,7 +126,8 @@ class Screen:
             "items": [{"id": i, "title": t} for i, t in self.items],
             "documents": [r.to_dict(ids.get(r.checklist, [])) for r in self.rows],
             "item_shares": self.item_shares(),
-            "summary": {"documents": len(self.rows), "errors": len(self.errors)},
+            "summary": {"documents": len(self.rows), "errors": len(self.errors), "skipped": len(self.skipped)},
+            "skipped": [{"path": p, "reason": why} for p, why in self.skipped],
             "cautions": list(CAUTIONS),
         }
 
@@ -154,7 +157,8 @@ def _cell(it, rep) -> Cell:
     return Cell(it.status, it.reason, quotes, facts, tuple(f.title for f in it.facets if not f.found), it.question)
 
 
-def build_screen(results: Sequence[BatchResult], checklist_note: str = "", seconds: float = 0.0) -> Screen:
+def build_screen(results: Sequence[BatchResult], checklist_note: str = "", seconds: float = 0.0,
+                 skipped: Sequence[tuple[str, str]] = ()) -> Screen:
     """The Screen of batch results; documents checked against different checklists get a matrix each."""
     checklists: dict[str, ScreenChecklist] = {}
     for res in results:
@@ -187,7 +191,8 @@ def build_screen(results: Sequence[BatchResult], checklist_note: str = "", secon
         rows.append(ScreenRow(res.path, "", statuses, completeness(statuses),
                               tuple((s, statuses.count(s)) for s in STATUS_ORDER),
                               tuple(sorted((k, ", ".join(v)) for k, v in facts.items())), rep.checklist_id, cells))
-    return Screen(checklist_note, tuple(checklists.values()), tuple(rows), tuple(sorted(names)), seconds)
+    return Screen(checklist_note, tuple(checklists.values()), tuple(rows), tuple(sorted(names)), seconds,
+                  tuple(skipped))
 
 
 def short_names(paths: Sequence[str]) -> list[str]:
@@ -217,6 +222,9 @@ def _pct(x: float | None) -> str:
 def _summary_line(screen: Screen, timed: bool) -> str:
     n, e = len(screen.rows), len(screen.errors)
     text = f"{n} document{'s' if n != 1 else ''}, {n - e} checked, {e} could not be read"
+    if screen.skipped:
+        k = len(screen.skipped)
+        text += f", {k} other file{'s' if k != 1 else ''} in the folders skipped"
     return text + (f", {screen.seconds:.1f} s" if timed else "")
 
 
@@ -251,6 +259,10 @@ def render_terminal(screen: Screen) -> str:
             cells = " ".join(f"{glyph(r.statuses[k]):<4}" for r in rows)
             short = title if len(title) <= width else title[: width - 1] + "…"
             w(f"  {short:<{width}}  {cells}  {_pct(shares[k]['reported_share'])}\n")
+    if screen.skipped:
+        w("\nSkipped\n")
+        for path, why in screen.skipped:
+            w(f"  {path}: {why}\n")
     ok = [(n, r) for n, r in enumerate(screen.rows, start=1) if not r.error]
     if screen.fact_names and ok:
         w("\nFacts found\n")

@@ -30,8 +30,9 @@ say why)."""
 
 def add_batch_options(p: argparse.ArgumentParser) -> None:
     p.add_argument("inputs", nargs="+", metavar="DIR|FILE", help="folders to search and documents to check")
-    p.add_argument("--checklist", metavar="ID|PATH", default=None,
-                   help="checklist for every document (default: the one chosen for the first document)")
+    p.add_argument("--checklist", metavar="auto|ID|PATH", default=None,
+                   help="checklist for every document, or 'auto' to choose one for each document (default: the one "
+                        "chosen for the first document, used for all)")
     p.add_argument("--jobs", "-j", type=int, default=None, metavar="N",
                    help="documents checked in parallel on this machine (default: one per CPU)")
     p.add_argument("--engine", choices=["local", "dask"], default="local",
@@ -127,6 +128,9 @@ def resolve_checklist(paths: list[str], checklist: str | None, limits) -> tuple[
     """The checklist for the whole batch and a sentence saying where it came from."""
     from .batch import check_one
 
+    if checklist == "auto":
+        return "auto", ("chosen for each document from its words; documents checked against different checklists "
+                        "are shown apart")
     if checklist:
         from .checklist import load_checklist
 
@@ -204,8 +208,9 @@ def run(args) -> int:
             raise UsageError(f"{args.output}: is a folder; give a file name for the output")
         if args.format == "docx" and (not args.output or args.output == "-"):
             raise UsageError("the docx format is a file: give -o PATH.docx")
-        results, note, seconds, paths = run_inputs(args)
-        screen = build_screen(results, note, seconds)
+        skipped: list[tuple[str, str]] = []
+        results, note, seconds, paths = run_inputs(args, skipped=skipped)
+        screen = build_screen(results, note, seconds, skipped)
         if args.format == "csv":
             write_csv(render(screen, "csv"), sidecar(screen), args.output, paths)
         elif args.format == "docx":

@@ -340,7 +340,7 @@ def test_screen_matrix_scores_and_error_row(demo_inputs, tmp_path, capsys):
         by_hand = (statuses.count("reported") + statuses.count("partial") / 2) / len(applicable)
         assert d["completeness"] == pytest.approx(by_hand, abs=1e-4)
     assert docs[0]["facts"]["annotators"].startswith("2")
-    assert data["summary"] == {"documents": 3, "errors": 1}
+    assert data["summary"] == {"documents": 3, "errors": 1, "skipped": 0}
     assert "half of partial" in data["score"] and any("triage aid" in c for c in data["cautions"])
     # the same inputs give the same bytes (no timing in JSON), serially too
     again = tmp_path / "again.json"

@@ -72,7 +72,7 @@ def test_csv_has_one_header_row_and_one_row_per_document(screen):
     only_manuscripts = [i for i, _ in screen.checklists[0].items if i not in dict(screen.checklists[1].items)]
     assert only_manuscripts and pd.isna(by_path.loc[proposal.path, only_manuscripts[0]])
     notes = sidecar(screen)
-    assert notes["summary"] == {"documents": 9, "errors": 1, "checked": 8}
+    assert notes["summary"] == {"documents": 9, "errors": 1, "checked": 8, "skipped": 0}
     assert any("triage aid" in c for c in notes["cautions"]) and "half of partial" in notes["score"]
 
 
@@ -90,6 +90,7 @@ def test_screen_command_writes_the_csv_notes_beside_it(tmp_path, capsys):
     assert len(list(csv.reader(io.StringIO(out.read_text(encoding="utf-8"))))) == 2
     notes = json.loads((tmp_path / "screen.meta.json").read_text(encoding="utf-8"))
     assert notes["checklist"]["id"] == "validation-study"
+    assert notes["skipped"] == [{"path": str(folder / "slides.pptx"), "reason": "not a kind of file studygap reads (.pptx)"}]
     assert "slides.pptx: not a kind of file studygap reads (.pptx)" in capsys.readouterr().err
     assert screen_cmd.run(parse("screen", str(folder), "-f", "docx", "-q")) == 2
     assert "give -o PATH.docx" in capsys.readouterr().err
@@ -240,3 +241,20 @@ def test_screen_docx_opens_in_libreoffice_landscape(screen, tmp_path, monkeypatc
     assert float(box.width) > float(box.height)
     text = " ".join(" ".join(p.extract_text().split()) for p in reader.pages)
     assert "Screening table" in text and "Intended use" in text and "a/revised.md" in text
+
+
+def test_checklist_auto_chooses_per_document_and_shows_them_apart(tmp_path, capsys):
+    from checker import screen_cmd
+    from tests.test_screen_audit import parse
+
+    folder = tmp_path / "in"
+    folder.mkdir()
+    shutil.copy(DEMO / "wrist-fracture-manuscript.md", folder / "paper.md")
+    shutil.copy(DEMO / "kidney-stone-benchmark-proposal.md", folder / "proposal.md")
+    out = tmp_path / "screen.json"
+    assert screen_cmd.run(parse("screen", str(folder), "--checklist", "auto", "-f", "json", "-o", str(out), "-j", "1",
+                                "-q")) == 0
+    data = json.loads(out.read_text(encoding="utf-8"))
+    assert {c["id"]: c["documents"] for c in data["checklists"]} == {"validation-study": 1, "benchmark-proposal": 1}
+    assert [d["checklist"] for d in data["documents"]] == ["validation-study", "benchmark-proposal"]
+    assert "each document" in data["checklist"]["choice"]

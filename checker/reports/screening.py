@@ -302,6 +302,10 @@ def render_html(screen: Screen) -> str:
         body.append("<section><h2>Documents that could not be read</h2><ul>")
         body += [f'<li><span title="{e(r.path)}">{e(names[id(r)])}</span>: {e(_reason(r))}</li>' for r in errors]
         body.append("</ul></section>")
+    if screen.skipped:
+        body.append("<section><h2>Files in the folders that were not checked</h2><ul>")
+        body += [f"<li>{e(p)}: {e(why)}</li>" for p, why in screen.skipped]
+        body.append("</ul></section>")
     body.append('<section class="evidence"><h2>Behind each cell</h2>')
     for r in screen.rows:
         if r.error:
