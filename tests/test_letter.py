@@ -138,3 +138,17 @@ def test_docx_form_shows_the_same_words_and_puts_requests_in_their_own_column(mo
 
     # landscape A4 with 1 cm margins leaves 27.7 cm; the status column holds "– not applicable" at 9 pt on one line
     assert sum(WIDTHS) <= 27.7 + 1e-9 and WIDTHS[2] >= 2.8
+
+
+def test_terminal_status_column_never_runs_into_the_title():
+    # "not-applicable" filled the old 14-character column and ran into the title ("not-applicableComparators")
+    cl = load_checklist("validation-study")
+    items = tuple(ItemResult(i.id, i.group, i.title, i.question, i.ask, s, (), (), (), "because")
+                  for i, s in zip(cl.items, ["not-applicable", "waived", "partial", "missing", "reported"] * 10))
+    text = render("terminal", [_report("validation-study", items)], RenderOptions(color=False, width=100))
+    for it in items:
+        line = next(ln for ln in text.splitlines() if f"[{it.id}]" in ln)
+        status_part, title_part = line[:19], line[19:]
+        assert status_part.strip().endswith(WORDS[("reported", "partial", "missing", "not-applicable", "waived")
+                                                  .index(it.status)]), line
+        assert title_part.startswith(it.title), line

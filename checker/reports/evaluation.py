@@ -18,11 +18,11 @@ from ..evaluation import STATUSES, Evaluation, Pair, to_json
 
 FORMATS = ("terminal", "json")
 
-#: status -> style; the status word is always printed, so colour is never the only signal
+#: status -> style, as in the terminal report (words.py's one vocabulary); the word is always printed
 STYLES = {
-    "reported": "bold dark_cyan",
-    "partial": "bold dark_orange3",
-    "missing": "bold deep_pink3",
+    "reported": "",
+    "partial": "bold",
+    "missing": "bold",
     "not-applicable": "grey50",
 }
 KIND_WORDS = {
@@ -48,8 +48,10 @@ def _short(text: str, limit: int = QUOTE_LIMIT) -> str:
     return text if len(text) <= limit else text[: limit - 1] + "…"
 
 
-def _status(word: str) -> Text:
-    return Text(word, style=STYLES.get(word, ""))
+def _status(status: str) -> Text:
+    from .words import word
+
+    return Text(word(status), style=STYLES.get(status, ""))
 
 
 def _table(color: bool, title: str | None = None) -> Table:
@@ -101,8 +103,10 @@ def _items(ev: Evaluation, console: Console, color: bool) -> None:
 def _confusion(ev: Evaluation, console: Console, color: bool) -> None:
     t = _table(color, "Confusion (rows: your label, columns: studygap)")
     t.add_column("")
+    from .words import word
+
     for s in STATUSES:
-        t.add_column(s, justify="right")
+        t.add_column(word(s), justify="right")
     t.add_column("total", justify="right")
     for i, h in enumerate(STATUSES):
         row = ev.confusion.counts[i]
