@@ -148,7 +148,7 @@ def test_terminal_status_column_never_runs_into_the_title():
     text = render("terminal", [_report("validation-study", items)], RenderOptions(color=False, width=100))
     for it in items:
         line = next(ln for ln in text.splitlines() if f"[{it.id}]" in ln)
-        status_part, title_part = line[:19], line[19:]
+        status_part, title_part = line[:20], line[20:]
         assert status_part.strip().endswith(WORDS[("reported", "partial", "missing", "not-applicable", "waived")
                                                   .index(it.status)]), line
         assert title_part.startswith(it.title), line

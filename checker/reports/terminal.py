@@ -21,7 +21,7 @@ STYLES = {
     "not-applicable": "grey50",
     "waived": "grey50",
 }
-WIDTH = 17  # the status column: glyph, space, the longest word ("not applicable") and two spaces
+WIDTH = 18  # the status column: glyph, space, the longest word ("not applicable") and two spaces
 
 
 def _quote(ev: Evidence, limit: int = 320) -> Text:
