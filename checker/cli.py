@@ -24,7 +24,8 @@ A complete report does not show that a study is sound; a person must still read 
 EXAMPLES = {
     "check": ("studygap check paper.pdf\n"
               "  studygap check draft.tex --fail-on missing --format lines\n"
-              "  studygap check paper.pdf --format html -o report.html"),
+              "  studygap check paper.pdf --format html -o report.html\n"
+              "  studygap check submission.pdf --format letter -o requests.md"),
     "outline": "studygap outline paper.pdf\n  studygap outline draft.docx --format json -o outline.json",
     "screen": ("studygap screen proposals/ --checklist benchmark-proposal --format html -o screening.html\n"
                "  studygap screen proposals/ --format docx -o screening.docx"),
@@ -103,7 +104,8 @@ def build_parser() -> argparse.ArgumentParser:
     c.add_argument("--config", metavar="FILE", help="settings file (default: nearest studygap.yaml or pyproject.toml)")
     c.add_argument("--verbose", "-v", action="store_true", help="show every passage and facet")
     c.add_argument("--all", dest="all_requests", action="store_true",
-                   help="with --format markdown: every request to the authors, not only the ten most important")
+                   help="with --format markdown or letter: every request to the authors, not only the ten most "
+                        "important")
     c.add_argument("--quiet", "-q", action="store_true", help="no progress display")
     c.add_argument("--no-color", action="store_true", help="no colour (NO_COLOR is respected too)")
     c.add_argument("--no-cache", action="store_true",

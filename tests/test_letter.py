@@ -40,6 +40,9 @@ def every_request():
             for k in range(len(facets)):
                 found = tuple(dataclasses.replace(f, found=(i == k)) for i, f in enumerate(facets))
                 yield cid, dataclasses.replace(base, status="partial", facets=found, reason="found: x")
+                lacking = "; ".join(f.title for i, f in enumerate(facets) if i != k)
+                yield cid, dataclasses.replace(base, status="partial", facets=found,
+                                               reason=f"found: {facets[k].title} — not found: {lacking}")
 
 
 def test_every_request_template_reads_as_grammatical_sentences():
@@ -63,7 +66,7 @@ def test_partial_request_asks_only_for_what_is_missing():
                    for i, f in enumerate(it.facets))
     item = ItemResult(it.id, it.group, it.title, it.question, it.ask, "partial", facets, (), (), "found: software")
     text = request(item, _report("validation-study", (item,)))
-    assert f"not found: {it.facets[1].title}" in text
+    assert f"Could you also report {it.facets[1].title}?" in text
     assert " ".join(it.ask.split())[:40] not in text  # the item's whole request (every setting it lists) is not repeated
 
 
@@ -152,3 +155,16 @@ def test_terminal_status_column_never_runs_into_the_title():
         assert status_part.strip().endswith(WORDS[("reported", "partial", "missing", "not-applicable", "waived")
                                                   .index(it.status)]), line
         assert title_part.startswith(it.title), line
+
+
+def test_letter_format_holds_only_the_requests_by_section():
+    r = report_of(MANUSCRIPT)
+    text = render("letter", [r], RenderOptions(color=False))
+    gaps = ranked_gaps(r)
+    assert text.startswith(f"# Requests to the authors: {r.document_path}")
+    assert len(re.findall(r"^\d+\. \*\*", text, re.MULTILINE)) == min(len(gaps), MAX_REQUESTS)
+    heads = re.findall(r"^## (.+)$", text, re.MULTILINE)
+    assert heads == list(dict.fromkeys(r.group_title(it.group) for it in gaps[:MAX_REQUESTS]))
+    assert "> " not in text and "####" not in text  # no quoted passages or item blocks: a letter, not the report
+    assert "whether the study is sound" in text
+    assert len(text.split()) < 120 * min(len(gaps), MAX_REQUESTS) + 150

@@ -46,6 +46,8 @@ for _info in (
     RendererInfo("json", "checker.reports.json", "the JSON contract, for other tools", suffix=".json"),
     RendererInfo("markdown", "checker.reports.markdown", "review letters and pull-request comments, with requests",
                  suffix=".md"),
+    RendererInfo("letter", "checker.reports.letter", "a short review letter: the requests only, by importance",
+                 suffix=".md"),
     RendererInfo("html", "checker.reports.html", "one self-contained page with filters, for reading and printing",
                  suffix=".html"),
     RendererInfo("docx", "checker.reports.docx", "a reporting form to fill in, with a column for the authors",

@@ -95,19 +95,28 @@ def request(item: ItemResult, r: Report) -> str:
     """
     if item.status == "partial":
         found = [f for f in item.facets if f.found]
-        lacking = [f for f in item.facets if not f.found]
         bits = []
         for f in found:
             ev = _first_evidence_of(item, f)
             bits.append(f"{_label(f.title)} ({escape(place(ev, r))})" if ev else _label(f.title))
         head = "found: " + "; ".join(bits) if bits else "partly found"
+        lacking = lacking_parts(item)
         if lacking:
-            return (f"**{escape(item.title)}** — {head}; not found: {'; '.join(_label(f.title) for f in lacking)}. "
-                    "Could you add what is missing?")
+            return (f"**{escape(item.title)}** — {head}. Could you also report "
+                    f"{_join([_label(t) for t in lacking])}?")
         return f"**{escape(item.title)}** — {head}. {_sentence(item.ask) if item.ask else ''}".rstrip()
     ask = _sentence(item.ask) if item.ask else f"Could you add: {item.question}"
     where = f"; it is {escape(item.reason)}" if item.reason.startswith("only mentioned") else ""
     return f"**{escape(item.title)}** — not found in the document{where}. {ask}"
+
+
+def lacking_parts(item: ItemResult) -> list[str]:
+    """What a partial item still lacks: the parts its reason names after "not found:" (the verdict's best way to
+    complete the item, leaving out other ways it could have been met), else every facet not found."""
+    _, sep, tail = item.reason.partition("not found: ")
+    if sep and tail.strip():
+        return [t.strip() for t in tail.split(";") if t.strip()]
+    return [f.title for f in item.facets if not f.found]
 
 
 def _label(title: str) -> str:
