@@ -258,3 +258,14 @@ def test_checklist_auto_chooses_per_document_and_shows_them_apart(tmp_path, caps
     assert {c["id"]: c["documents"] for c in data["checklists"]} == {"validation-study": 1, "benchmark-proposal": 1}
     assert [d["checklist"] for d in data["documents"]] == ["validation-study", "benchmark-proposal"]
     assert "each document" in data["checklist"]["choice"]
+
+
+def test_report_page_status_colours_follow_the_same_neutral_scale():
+    """The single-document page marks statuses with the same kind of ink as the screening page: greys and slate
+    tints, no green, amber or red."""
+    from checker.reports import html
+
+    for status in ("reported", "partial", "missing", "not-applicable", "waived"):
+        value = re.search(rf"--{status}:(#[0-9a-fA-F]{{6}})", html.CSS).group(1)
+        r, g, b = (int(value[i:i + 2], 16) for i in (1, 3, 5))
+        assert max(r, g, b) - min(r, g, b) <= 40, (status, value)
