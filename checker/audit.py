@@ -283,20 +283,42 @@ def render_json(audit: Audit) -> str:
     return json.dumps(audit.to_dict(), ensure_ascii=False, indent=2, allow_nan=False) + "\n"
 
 
+def _bar(r: RateRow) -> str:
+    """The rate as a bar with its interval as a whisker, in percent of the cell's width (neutral ink)."""
+    if r.rate is None:
+        return ""
+    lo, hi, x = 100 * r.low, 100 * r.high, 100 * r.rate
+    return (f'<span class="rb" aria-hidden="true"><i class="r" style="width:{x:.1f}%"></i>'
+            f'<i class="w" style="left:{lo:.1f}%;width:{max(hi - lo, 0.3):.1f}%"></i></span>')
+
+
 def render_html(audit: Audit) -> str:
     from .screen import html_page
 
     e = html.escape
-    head = "".join(f"<th>{e(c)}</th>" for c in COLUMNS)
-    body_rows = "".join("<tr>" + "".join(f"<td>{e(c)}</td>" for c in _cells(r)) + "</tr>" for r in audit.rows)
+    by = audit.by is not None
+    head = (("<th>checklist</th>" if audit.mixed else "") + (f"<th>{e(audit.by or '')}</th>" if by else "")
+            + "<th>item</th><th title=\"documents where the item applies\">n</th><th>reported</th>"
+              "<th>rate and Wilson 95% interval</th><th>partial</th>")
+    body_rows = []
+    for r in audit.rows:
+        interval = "" if r.rate is None else f" ({_pct(r.low)} – {_pct(r.high)})"
+        body_rows.append(
+            "<tr>" + (f"<td>{e(r.checklist)}</td>" if audit.mixed else "") + (f"<td>{e(r.group)}</td>" if by else "")
+            + f'<td title="{e(r.item)}">{e(r.title)}</td><td class="n">{r.applicable}</td><td class="n">{r.reported}</td>'
+            + f'<td class="rate" data-key="{"" if r.rate is None else f"{r.rate:.4f}"}">{_bar(r)}'
+            + f"{_pct(r.rate)}{interval}</td>"
+            + f'<td class="n" data-key="{"" if r.partial_rate is None else f"{r.partial_rate:.4f}"}">'
+            + f"{_pct(r.partial_rate)}</td></tr>")
     problems = "".join(f"<li>{e(line)}</li>" for line in problem_lines(audit))
     notes = "".join(f"<p class=\"note\">{e(c)}</p>" for c in CAUTIONS)
     body = (f"<h1>Reporting rates: {e(audit.checklist_id)}</h1><p>Checklists: {e(_checklists_line(audit))}. "
-            f"{e(audit.checklist_note)}</p>"
-            f"<p><label>Filter rows: <input id=\"filter\" type=\"search\"></label> Click a column heading to sort.</p>"
-            f"<table class=\"sortable\"><thead><tr>{head}</tr></thead><tbody>{body_rows}</tbody></table>"
+            f"{e(audit.checklist_note)}</p><p>{e(_summary(audit, True))}.</p>"
+            f"<p><label>Filter rows: <input id=\"filter\" type=\"search\"></label> Click a column heading to sort; "
+            "point at an item for its id.</p>"
+            f"<table class=\"sortable\"><thead><tr>{head}</tr></thead><tbody>{''.join(body_rows)}</tbody></table>"
             + (f"<h2>Not counted</h2><ul>{problems}</ul>" if problems else "")
-            + f"<p class=\"note\">{e(RATE_NOTE)}.</p><p>{e(_summary(audit, True))}.</p>{notes}")
+            + f"<p class=\"note\">{e(RATE_NOTE)}.</p>{notes}")
     return html_page(f"studygap audit: {audit.checklist_id}", body)
 
 

@@ -353,7 +353,10 @@ if (box) box.addEventListener('input', function () {
 HTML_STYLE = """body{font:14px/1.45 system-ui,sans-serif;margin:1.2em;color:#1f2733}
 table{border-collapse:collapse;font-size:.9em}th,td{border:1px solid #d5dae2;padding:.25em .45em;text-align:left;
 vertical-align:top}th{cursor:pointer;background:#f2f4f7}td{font-variant-numeric:tabular-nums}
-.note{color:#5b6473;max-width:60em}[hidden]{display:none}"""
+.note{color:#5b6473;max-width:60em}[hidden]{display:none}td.n{text-align:right}
+td.rate{white-space:nowrap}.rb{display:inline-block;position:relative;width:8em;height:.7em;margin-right:.6em;
+background:#eef1f4;vertical-align:middle}.rb .r{position:absolute;left:0;top:0;bottom:0;background:#9aa5b4}
+.rb .w{position:absolute;top:45%;height:2px;background:#1f2733}"""
 
 
 def html_page(title: str, body: str) -> str:

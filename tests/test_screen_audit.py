@@ -93,10 +93,12 @@ def test_audit_rates_equal_the_rates_built_into_the_corpus(corpus, corpus_result
     assert rows["data.external-policy"].reported == with_training
     assert rows["results.missing"].reported == with_no_output
     assert rows["results.missing"].rate == pytest.approx(with_no_output / n)
-    # partial counts as not reported, and has its own rate: the split without the cohort paragraph is partial
-    assert rows["data.split"].partial == without_cohort
     assert rows["data.split"].reported == n - without_cohort
-    assert rows["data.split"].partial_rate == pytest.approx(without_cohort / n)
+    # partial counts as not reported, and has its own rate: without the training paragraph the compared methods
+    # are named but not how they were trained, so that item is partial
+    assert rows["methods.compared"].partial == n - with_training
+    assert rows["methods.compared"].reported == with_training
+    assert rows["methods.compared"].partial_rate == pytest.approx((n - with_training) / n)
 
 
 def test_wilson_intervals_equal_statsmodels(corpus_results):
@@ -309,6 +311,12 @@ def test_audit_names_unread_and_skipped_files_and_keeps_the_table_when_the_plot_
     text = term.read_text(encoding="utf-8")
     assert "could not be read: " + str(folder / "saved-page.pdf") in text
     assert "skipped: " + str(folder / "notes.odt") in text and "1 other file in the folders skipped" in text
+    page = tmp_path / "rates.html"
+    assert audit_cmd.run(parse("audit", str(folder), "--checklist", "validation-study", "-f", "html", "-o", str(page),
+                               "-j", "1", "-q")) == 3
+    html_text = page.read_text(encoding="utf-8")
+    assert "<h2>Not counted</h2>" in html_text and "notes.odt: not a kind of file studygap reads" in html_text
+    assert "saved-page.pdf" in html_text and "Wilson 95% interval" in html_text
 
 
 @pytest.fixture(scope="module")
