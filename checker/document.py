@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import bisect
+import dataclasses
 from dataclasses import dataclass, field
 from typing import Any, Literal
 
@@ -20,6 +21,8 @@ class Location:
     table: int | None = None  # 1-based table number (DOCX, Markdown, HTML)
     row: int | None = None  # 1-based row within that table
     section: tuple[str, ...] = ()
+    #: the line number printed in the margin of a review copy (PDF), which reviewers cite
+    printed_line: int | None = None
 
     def section_text(self) -> str:
         return " > ".join(self.section)
@@ -36,6 +39,8 @@ class Location:
             parts.append(os.path.relpath(self.file, os.path.dirname(main) or "."))
         if self.page is not None:
             parts.append(f"page {self.page}")
+            if self.printed_line is not None:
+                parts.append(f"line {self.printed_line}")
         if self.table is not None:
             parts.append(f"table {self.table}" + (f", row {self.row}" if self.row is not None else ""))
         elif self.paragraph is not None:
@@ -55,6 +60,7 @@ class Location:
             "table": self.table,
             "row": self.row,
             "section": self.section_text() or None,
+            **({"printed_line": self.printed_line} if self.printed_line is not None else {}),
         }
 
 
@@ -65,6 +71,7 @@ class Mark:
     offset: int
     page: int | None = None
     line: int | None = None
+    printed_line: int | None = None  # the line number printed in the margin, where the page has them
 
 
 @dataclass(frozen=True)
@@ -94,9 +101,10 @@ class Block:
                 paragraph=loc.paragraph,
                 table=loc.table,
                 row=loc.row,
+                printed_line=m.printed_line if m.printed_line is not None else loc.printed_line,
             )
         if loc.section != self.section:
-            loc = Location(loc.file, loc.page, loc.line, loc.paragraph, loc.table, loc.row, self.section)
+            loc = dataclasses.replace(loc, section=self.section)
         return loc
 
 

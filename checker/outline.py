@@ -35,8 +35,8 @@ class SectionNode:
 
 
 def _place(loc: Location) -> dict[str, Any]:
-    return {k: v for k, v in loc.to_dict().items() if k in ("file", "page", "line", "paragraph", "table", "row")
-            and v is not None}
+    return {k: v for k, v in loc.to_dict().items()
+            if k in ("file", "page", "line", "paragraph", "table", "row", "printed_line") and v is not None}
 
 
 def section_tree(document: Document) -> tuple[list[SectionNode], int, int]:
@@ -99,8 +99,9 @@ def _where(p: dict[str, Any], main: str = "") -> str:
 
         rel = os.path.relpath(p["file"], os.path.dirname(main) or ".")
         return f"{rel} " + _where({k: v for k, v in p.items() if k != "file"})
-    if "page" in p:
-        return f"p.{p['page']}" + (f" l.{p['line']}" if "line" in p else "")
+    if "page" in p:  # the line number printed in the margin, where the page has them
+        line = p.get("printed_line", p.get("line"))
+        return f"p.{p['page']}" + (f" l.{line}" if line is not None else "")
     if "table" in p:
         return f"table {p['table']}"
     if "paragraph" in p:

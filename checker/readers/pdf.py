@@ -130,6 +130,7 @@ class _Row:
     cells: tuple[str, ...] = ()
     left: float = 0.0  # left and right edge of the column this row sits in
     right: float = 0.0
+    printed: int | None = None  # the line number printed beside it in the margin (review copies)
 
 
 _CID = re.compile(r"\(cid:\d+\)")
@@ -377,9 +378,14 @@ def read(path: Path, data: bytes, limits: Limits) -> Parsed:
         what = "1 character was" if undecoded == 1 else f"{undecoded} characters were"
         warnings.append(f"{what} left out because the font has no character map for them")
     running = _running_lines(pages)
+    pages, printed = _printed_line_numbers(pages, running)
     rows: list[_Row] = []
     for page in pages:
-        rows.extend(_page_rows(page, running.get(page.number, set())))
+        skip, numbers = printed.get(page.number, (set(), []))
+        page_rows = _page_rows(page, running.get(page.number, set()) | skip)
+        if numbers:
+            page_rows = _with_printed_lines(page_rows, numbers)
+        rows.extend(page_rows)
     blocks = _Assembler(str(path), rows).blocks()
     return Parsed(blocks=blocks, pages=len(pages), warnings=warnings)
 
@@ -467,6 +473,137 @@ def _running_lines(pages: list[_Page]) -> dict[int, set[int]]:
         for (number, zone, c), (_score, k) in best_on_page.items():
             if len(seen[(zone, c)]) >= needed:
                 out[number].update(candidates[number][k][2])
+    return out
+
+
+# ---------------------------------------------------------------------------------------------- printed line numbers
+
+_LONE_NUMBER = re.compile(r"^\s*(\d{1,5})\s*$")
+_GLUED_END = re.compile(r"(?<=[^\d\s.,])(\d{1,5})$")  # "Results203": a margin number read into the line
+_GLUED_START = re.compile(r"^(\d{1,5})\s+(?=\S)")
+
+
+def _margin_columns(page: _Page, skip: set[int]) -> list[list[tuple[int, _Piece, int]]]:
+    """Columns of line numbers in the margins of the page: lists of (piece index, piece, number), top first.
+
+    Line numbers of a review copy are lone numbers, aligned on one edge, outside the text they number (left of
+    it, or right of it, or both in two columns), rising down the page by one step (1, or 5 where every fifth
+    line is numbered).
+    """
+    lone = [(i, p, int(m.group(1))) for i, p in enumerate(page.pieces)
+            if i not in skip and (m := _LONE_NUMBER.match(p.text))]
+    others = [p for i, p in enumerate(page.pieces) if i not in skip and not _LONE_NUMBER.match(p.text)]
+    if len(lone) < 4 or not others:
+        return []
+    rights = sorted(p.x1 for p in others)
+    body_left = _mode([p.x0 for p in others], [p.chars for p in others])
+    body_right = rights[int(0.95 * (len(rights) - 1))]
+    clusters: dict[tuple[str, int], list[tuple[int, _Piece, int]]] = defaultdict(list)
+    for item in lone:
+        p = item[1]
+        if p.x1 <= body_left + 1:
+            clusters[("left", round(p.x1 / 4))].append(item)  # right-aligned numbers in the left margin
+        elif p.x0 >= body_right - 1:
+            clusters[("right", round(p.x0 / 4))].append(item)
+    out = []
+    for members in clusters.values():
+        if len(members) < 4:
+            continue
+        members.sort(key=lambda t: -t[1].cy)
+        steps = [b[2] - a[2] for a, b in zip(members, members[1:])]
+        step = Counter(steps).most_common(1)[0][0]
+        if step in (1, 5) and sum(1 for d in steps if d == step) >= 0.6 * len(steps) \
+                and sum(1 for d in steps if d > 0) >= 0.9 * len(steps):
+            out.append(members)
+    return out
+
+
+def _printed_line_numbers(pages: list[_Page], running: dict[int, set[int]]
+                          ) -> tuple[list[_Page], dict[int, tuple[set[int], list[tuple[float, float, int]]]]]:
+    """Pages with the margin numbers that were read into a line of text taken out of it, and per page the
+    indexes of the pieces that are printed line numbers and each number as (baseline, size, number).
+
+    A document counts as line-numbered where at least a third of its pages with text carry such a column;
+    then every lone number at a column's place on any page is a line number too (a page that is mostly a
+    figure has few).
+    """
+    places: Counter[tuple[str, int]] = Counter()
+    numbered_pages = 0
+    for page in pages:
+        columns = _margin_columns(page, running.get(page.number, set()))
+        if columns:
+            numbered_pages += 1
+        for members in columns:
+            side = "left" if members[0][1].x1 < page.width / 2 else "right"
+            places[(side, round((members[0][1].x1 if side == "left" else members[0][1].x0) / 4))] += 1
+    with_text = sum(1 for p in pages if p.pieces)
+    if not numbered_pages or numbered_pages < max(1, math.ceil(with_text / 3)):
+        return pages, {}
+
+    def place_of(p: _Piece) -> tuple[str, int] | None:
+        for side, edge in (("left", p.x1), ("right", p.x0)):
+            for d in (0, -1, 1):
+                if (side, round(edge / 4) + d) in places:
+                    return (side, round(edge / 4) + d)
+        return None
+
+    out_pages: list[_Page] = []
+    printed: dict[int, tuple[set[int], list[tuple[float, float, int]]]] = {}
+    last_seen: dict[tuple[str, int], int] = {}  # the last number of each column so far, for the next page's top
+    for page in pages:
+        skip_running = running.get(page.number, set())
+        column: dict[tuple[str, int], list[tuple[float, int]]] = defaultdict(list)
+        skip: set[int] = set()
+        numbers: list[tuple[float, float, int]] = []
+        for i, p in enumerate(page.pieces):
+            m = _LONE_NUMBER.match(p.text)
+            if i in skip_running or not m:
+                continue
+            place = place_of(p)
+            if place is not None:
+                skip.add(i)
+                numbers.append((p.y0, p.size, int(m.group(1))))
+                column[place].append((p.cy, int(m.group(1))))
+        pieces = list(page.pieces)
+        for k, p in enumerate(pieces):
+            if k in skip or k in skip_running or any(abs(y0 - p.y0) <= 0.5 * max(size, p.size)
+                                                      for y0, size, _ in numbers):
+                continue  # a line with its own printed number keeps every number in its text
+            for pattern in (_GLUED_END, _GLUED_START):
+                m = pattern.search(p.text)
+                if not m:
+                    continue
+                n = int(m.group(1))
+                # the number lies between the printed numbers just above and below this line, in some column
+                fits = False
+                for place, ys in column.items():
+                    above = [v for y, v in ys if y > p.cy]
+                    below = [v for y, v in ys if y < p.cy]
+                    low = max(above) if above else last_seen.get(place, 0)
+                    high = min(below) if below else low + 200
+                    fits = fits or low < n < high
+                if fits:
+                    pieces[k] = replace(p, text=(p.text[:m.start()] + p.text[m.end():]).strip())
+                    numbers.append((p.y0, p.size, n))
+                    break
+        for place, ys in column.items():
+            last_seen[place] = max(v for _, v in ys)
+        out_pages.append(replace(page, pieces=tuple(pieces)) if pieces != list(page.pieces) else page)
+        if numbers:
+            printed[page.number] = (skip, numbers)
+    return out_pages, printed
+
+
+def _with_printed_lines(rows: list[_Row], numbers: list[tuple[float, float, int]]) -> list[_Row]:
+    """Each row with the printed line number on its baseline (the nearest within half a line)."""
+    out = []
+    for r in rows:
+        best, gap = None, math.inf
+        for y0, size, n in numbers:
+            d = abs(y0 - r.y0)
+            if d < gap and d <= 0.5 * max(r.size, size):
+                best, gap = n, d
+        out.append(replace(r, printed=best) if best is not None else r)
     return out
 
 
@@ -1039,7 +1176,7 @@ class _Assembler:
                 elif not end.endswith(("—", "/")):
                     parts.append(" ")
                     length += 1
-            marks.append(Mark(length, r.page, r.line))
+            marks.append(Mark(length, r.page, r.line, r.printed))
             if t:
                 parts.append(t)
                 length += len(t)
@@ -1064,7 +1201,7 @@ class _Assembler:
                 text = text.rstrip(".:").strip() if d.runin else text
             first = d.rows[0]
             out.append(Block(text=text, kind=d.kind, location=Location(file=self.file, page=first.page,
-                                                                       line=first.line),
+                                                                       line=first.line, printed_line=first.printed),
                              level=d.level, marks=marks))
         return out
 

@@ -1,5 +1,6 @@
 """One line per gap and per finding, ``path:line:column: status item-id: message``, the form editors and CI
-annotate from. For PDFs the page stands in place of the line, for DOCX the paragraph; the column is 1 (passages
+annotate from. For PDFs the page stands in place of the line (the printed line number where the PDF is a
+review copy with numbered lines), for DOCX the paragraph; the column is 1 (passages
 are located by line, not by character)."""
 
 from __future__ import annotations
@@ -16,6 +17,8 @@ def position(loc: Location | None) -> int:
     """The line number for editors: the source line, else the PDF page, else the DOCX paragraph, else 1."""
     if loc is None:
         return 1
+    if loc.printed_line is not None:  # the line number printed in a review copy's margin, as reviewers cite it
+        return loc.printed_line
     if loc.page is not None:
         return loc.page
     if loc.line is not None:
