@@ -168,3 +168,36 @@ def test_letter_format_holds_only_the_requests_by_section():
     assert "> " not in text and "####" not in text  # no quoted passages or item blocks: a letter, not the report
     assert "whether the study is sound" in text
     assert len(text.split()) < 120 * min(len(gaps), MAX_REQUESTS) + 150
+
+
+SOFFICE = __import__("shutil").which("libreoffice") or __import__("shutil").which("soffice")
+
+
+@pytest.mark.skipif(SOFFICE is None, reason="LibreOffice is not installed (apt-get install libreoffice-writer-nogui)")
+def test_docx_form_status_words_stay_whole_in_libreoffice(tmp_path, monkeypatch):
+    """The status column once broke its words ("reference.annotato" / "rs"); laid out by LibreOffice on landscape
+    A4, every status stays on one line beside its glyph, and no item id stands in the item column."""
+    import os
+    import subprocess
+
+    from pypdf import PdfReader
+
+    monkeypatch.setenv("SOURCE_DATE_EPOCH", "1767225600")
+    r = report_of(MANUSCRIPT)
+    form = tmp_path / "form.docx"
+    form.write_bytes(render("docx", [r], RenderOptions(color=False)))
+    env = dict(os.environ, HOME=str(tmp_path))
+    subprocess.run([SOFFICE, "--headless", f"-env:UserInstallation={(tmp_path / 'lo').as_uri()}", "--convert-to",
+                    "pdf", "--outdir", str(tmp_path), str(form)], check=False, capture_output=True, timeout=120,
+                   env=env)
+    reader = PdfReader(tmp_path / "form.pdf")
+    box = reader.pages[0].mediabox
+    assert float(box.width) > float(box.height)
+    lines = [ln.strip() for p in reader.pages for ln in p.extract_text().splitlines()]
+    text = "\n".join(lines)
+    for it in r.items:
+        assert it.id not in text, it.id
+    glyphs = {"reported": "●", "partial": "◐", "missing": "○", "not-applicable": "–", "waived": "◇"}
+    for status, n in r.summary.items():
+        if n:
+            assert text.count(f"{glyphs[status]} {WORDS[('reported', 'partial', 'missing', 'not-applicable', 'waived').index(status)]}") >= n, status
