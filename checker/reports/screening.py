@@ -193,7 +193,7 @@ def _key(cl: int, g: str) -> str:
 def _matrix(cl: int, c: ScreenChecklist, screen: Screen, names: dict[int, str], numbers: dict[int, int]) -> str:
     groups = _groups(c)
     rows = [r for r in screen.rows if not r.error and r.checklist == c.id]
-    out = [f'<section class="cl"><h2>{e(c.title)} <span class="meta">({e(c.id)}, version {e(c.version)}; '
+    out = [f'<section class="cl" id="m{cl}"><h2>{e(c.title)} <span class="meta">({e(c.id)}, version {e(c.version)}; '
            f'{len(rows)} document{"s" if len(rows) != 1 else ""})</span></h2>',
            '<div class="wrap"><table class="matrix">', "<thead>", '<tr class="bands">',
            '<th class="doc" rowspan="2" scope="col" data-sort="name" title="sort by name">Document</th>',
@@ -271,30 +271,41 @@ def render_html(screen: Screen) -> str:
     names_list = short_names([r.path for r in screen.rows])
     names = {id(r): n for r, n in zip(screen.rows, names_list)}
     numbers = {id(r): n for n, r in enumerate(screen.rows, start=1)}
-    title = "Screening: " + (screen.checklist_title or "no document could be read")
+    mixed = len(screen.checklists) > 1
+    if mixed:
+        title = f"Screening: {len(screen.rows)} documents against {len(screen.checklists)} checklists"
+    else:
+        title = "Screening: " + (screen.checklist_title or "no document could be read")
     legend = "".join(f'<li><span class="g" style="--t:var(--t-{s})">{GLYPHS[s]}</span> {e(WORDS[s])}: '
                      f"{e(MEANINGS[s])}</li>" for s in STATUSES)
-    groups: dict[str, str] = {}
-    for cl, c in enumerate(screen.checklists):
-        for g, gt, _ks in _groups(c):
-            groups.setdefault(_key(cl, g), gt + (f" ({c.id})" if len(screen.checklists) > 1 else ""))
     controls = ['<fieldset class="controls" id="controls" hidden><legend>Show</legend>',
                 '<div role="group" aria-label="by status"><strong>Status:</strong>']
     controls += [f'<label><input type="checkbox" checked data-status="{s}"> {GLYPHS[s]} {e(WORDS[s])}</label>'
                  for s in GAPS_FIRST]
     controls.append('<label>Documents: <input id="docfilter" type="search" placeholder="words in a file name">'
                     "</label></div>")
-    controls.append('<details class="groups" open><summary><strong>Groups</strong></summary>'
-                    '<div role="group" aria-label="by group">')
-    controls += [f'<label><input type="checkbox" checked data-group="{e(g)}"> {e(t)}</label>' for g, t in groups.items()]
-    controls.append('<button type="button" data-fold="1">fold all groups</button>'
+    n_groups = sum(len(_groups(c)) for c in screen.checklists)
+    controls.append(f'<details class="groups"{" open" if n_groups <= 12 else ""}><summary><strong>Groups</strong> '
+                    f"({n_groups})</summary>")
+    for cl, c in enumerate(screen.checklists):
+        controls.append(f'<div role="group" aria-label="groups of {e(c.title)}">'
+                        + (f"<em>{e(c.title)}:</em>" if mixed else ""))
+        controls += [f'<label><input type="checkbox" checked data-group="{e(_key(cl, g))}"> {e(gt)}</label>'
+                     for g, gt, _ks in _groups(c)]
+        controls.append("</div>")
+    controls.append('<div><button type="button" data-fold="1">fold all groups</button>'
                     '<button type="button" data-fold="0">unfold all</button></div></details></fieldset>')
     body = [f"<h1>{e(title)}</h1>",
             f'<p class="meta">{e(_summary_line(screen, True))}. Checklist: {e(screen.checklist_note)}</p>',
             f'<ul class="legend" aria-label="what the signs mean">{legend}</ul>',
-            f'<p class="note">Score: {e(SCORE_NOTE)}.</p><p class="note noprint">Each cell opens the passages behind it, or what was looked '
-            "for; a group's heading folds its columns into one. Point at a heading for the item's full title.</p>",
-            "\n".join(controls)]
+            f'<p class="note">Score: {e(SCORE_NOTE)}.</p><p class="note noprint">Each cell opens the passages behind '
+            "it, or what was looked for; a group's heading folds its columns into one. Point at a heading for the "
+            "item's full title.</p>"]
+    if mixed:
+        body.append('<ul class="toc noprint">' + "".join(
+            f'<li><a href="#m{cl}">{e(c.title)}</a> ({len(screen.rows_of(c.id))} documents)</li>'
+            for cl, c in enumerate(screen.checklists)) + "</ul>")
+    body.append("\n".join(controls))
     for cl, c in enumerate(screen.checklists):
         body.append(_matrix(cl, c, screen, names, numbers))
     errors = [r for r in screen.rows if r.error]
