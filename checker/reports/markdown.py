@@ -76,7 +76,7 @@ def _sentence(text: str) -> str:
 #: the order in which a letter raises the groups of each built-in checklist: what most changes how far readers can
 #: trust the results comes first (our judgement, common practice in reviewing; other checklists keep their order)
 GROUP_PRIORITY = {
-    "validation-study": ("reference", "data", "metrics", "ranking", "results", "methods", "purpose", "availability",
+    "validation-study": ("data", "reference", "metrics", "ranking", "results", "methods", "purpose", "availability",
                          "governance"),
     "benchmark-proposal": ("data", "reference", "metrics", "ranking", "results", "governance", "availability",
                            "purpose"),
