@@ -346,6 +346,7 @@ def render_docx(screen: Screen) -> bytes:
     """One landscape table per checklist: items as rows (with their group), documents as columns, a glyph and a
     word per cell where there is room; a key of the documents and the signs below."""
     from docx.enum.table import WD_TABLE_ALIGNMENT
+    from docx.enum.text import WD_ALIGN_PARAGRAPH
     from docx.shared import Pt
 
     from ..screen import CAUTIONS, SCORE_NOTE, _summary_line, short_names
@@ -397,6 +398,8 @@ def render_docx(screen: Screen) -> bytes:
                 for cell, r in zip(cells[1:], rows):
                     s = r.statuses[k]
                     cell.text = f"{glyph(s)} {word(s)}" if words_fit else glyph(s)
+                    if not words_fit:
+                        cell.paragraphs[0].alignment = WD_ALIGN_PARAGRAPH.CENTER
                     if s == "reported":
                         shade(cell, "DCE1E8")
                     elif s == "partial":
