@@ -50,7 +50,8 @@ ROLE_HEADINGS: dict[str, tuple[str, ...]] = {
                          "ethical approval", "ethics approval", "declaration of competing interest",
                          "disclosures", "financial disclosure", "license", "licence", "citation", "how to cite"),
     "references": ("references", "bibliography", "literature cited", "works cited", "citations", "reference list"),
-    "appendix": ("appendix", "appendices", "supplementary material", "supplementary materials", "supplement"),
+    "appendix": ("appendix", "appendices", "supplementary material", "supplementary materials", "supplement",
+                 "supporting information", "supplementary information", "supplementary data"),
     # what a thesis or report puts before its first chapter, and a paper's keyword line: never evidence
     "front-matter": (
         "table of contents", "contents", "list of figures", "list of tables", "list of figures and tables",
@@ -71,10 +72,11 @@ ROLE_HEADINGS: dict[str, tuple[str, ...]] = {
 #: roles a heading must name whole: "Reference annotation" is not the reference list, "Submission requirements"
 #: are not system requirements, "Contents of the dataset" is not a table of contents
 _WHOLE_ONLY = frozenset({"references", "requirements", "front-matter"})
-#: roles whose subsections keep them: a survey's paper titles are still about other work
+#: roles whose subsections keep them: a survey's paper titles are still about other work, and "Data curation"
+#: under "Author contributions" is a person's credit, not the data section
 #: variants that name a role only as the whole heading: "Background subtraction" is a method
 _WHOLE_ONLY_VARIANTS = frozenset({"background", "contents", "summary"})
-_STICKY = frozenset({"related-work", "front-matter", "abstract"})
+_STICKY = frozenset({"related-work", "front-matter", "abstract", "acknowledgements"})
 
 _VARIANTS: list[tuple[str, str]] = [(v, role) for role, vs in ROLE_HEADINGS.items() for v in vs]
 _CHOICES = [v for v, _ in _VARIANTS]
@@ -236,7 +238,8 @@ def assign_sections(blocks: list[Block]) -> list[Block]:
     out: list[Block] = []
     # (level, title, role, closed, words so far)
     stack: list[list] = []
-    in_front = True  # before the first section of the body
+    # before the first section of the body; a text without any heading has no front matter to tell apart
+    in_front = bool(headings)
     for i, block in enumerate(blocks):
         in_toc = bool(stack) and stack[-1][2] == "front-matter"
         if block.kind == "heading" and (_LEADERS.search(block.text) or in_toc and _PAGE_NUMBER_END.search(block.text)
@@ -258,7 +261,7 @@ def assign_sections(blocks: list[Block]) -> list[Block]:
                     stack.pop()  # the body after an abstract, not a part of a structured abstract
                 else:
                     break
-            closed = role == "front-matter"
+            closed = role in ("front-matter", "references")  # a reference list has no sections of its own
             stack.append([level, title, role, closed, 0])
             if role in _BODY_ROLES or _SECTION_NUMBER.match(title):
                 in_front = False
