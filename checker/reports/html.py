@@ -167,7 +167,8 @@ def _document(r: Report, verbose: bool, filters: str = "") -> str:
             f"{e(r.checklist_version)})</p>"),
            '<ul class="counts">']
     for s in LIST_ORDER:
-        out.append(f'<li class="s-{s}"><b>{counts[s]}</b> {e(LABELS[s][0].lower())}</li>')
+        out.append(f'<li class="s-{s}"><span aria-hidden="true">{LABELS[s][1]}</span> <b>{counts[s]}</b> '
+                   f"{e(LABELS[s][0].lower())}</li>")
     out.append("</ul>")
     for w in r.warnings:
         out.append(f'<p class="notes">Note: {e(w)}</p>')
