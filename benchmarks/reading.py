@@ -59,10 +59,10 @@ HAND_ROLES: dict[str, dict] = {
         "methods", "methods", "methods", "evaluation|methods", "results", "results", "results", "results", "results",
         "results", "results", "results", "discussion", "acknowledgements", "references"]},
     "64": {"pre": "body|front-matter", "roles": [
-        "body|front-matter", "abstract", "front-matter", "front-matter", "front-matter", "introduction",
-        "body|methods", "related-work|introduction|body", "body|methods", "data", "data", "methods", "evaluation",
-        "body|methods", "body|methods", "methods|body", "body|methods", "acknowledgements", "body|acknowledgements",
-        "methods|body", "discussion", "references"]},
+        "body|front-matter", "abstract", "front-matter", "front-matter", "front-matter", "front-matter",
+        "introduction", "body|methods", "related-work|introduction|body", "body|methods", "data", "data", "methods",
+        "evaluation", "body|methods", "body|methods", "methods|body", "body|methods", "acknowledgements",
+        "body|acknowledgements", "methods|body", "discussion", "references"]},
     "76": {"pre": "body|abstract|front-matter", "roles": [
         "introduction", "methods", "methods", "methods", "methods|related-work", "methods", "methods", "methods",
         "methods", "methods", "results", "results", "results", "discussion", "acknowledgements", "references",
@@ -81,11 +81,10 @@ HAND_ROLES: dict[str, dict] = {
         "body|abstract|front-matter", "introduction", "data", "methods", "methods", "results"]},
     "92": {"pre": "body|front-matter", "roles": [
         "front-matter|acknowledgements", "front-matter", "front-matter|body", "abstract", "acknowledgements",
-        "introduction", "related-work", "data", "data|methods", "data|methods", "data", "data", "methods", "methods",
-        "methods", "methods", "data|methods", "methods|evaluation", "methods|evaluation", "methods", "results",
-        "results", "results", "discussion", "discussion", "discussion", "appendix", "appendix", "acknowledgements",
-        "acknowledgements", "acknowledgements", "acknowledgements", "acknowledgements", "acknowledgements",
-        "acknowledgements", "acknowledgements", "acknowledgements", "acknowledgements", "references"]},
+        "introduction", "related-work", "data|body", "data", "data|methods", "data|methods", "data", "data",
+        "methods", "methods", "methods", "methods", "data|methods", "methods|evaluation", "methods|evaluation",
+        "methods", "results", "results", "results", "results", "discussion", "discussion", "discussion",
+        "discussion", "appendix", "appendix"] + ["acknowledgements"] * 10 + ["references"]},
     "93": {"pre": "body|front-matter", "roles": [
         "body|data", "body|data", "body|data", "body|data", "body|data", "body|data", "body|data"]},
 }

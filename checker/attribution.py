@@ -36,7 +36,8 @@ _SELF = re.compile(
     r"benchmark|dataset|data\s*set|corpus|database|task|track|edition|evaluation|analysis)|the\s+present\s+"
     r"(?:study|work)|the\s+(?:test|training|validation|development|hold-?out)\s+(?:set|data|cohort|split)|"
     r"participants?|participating|teams?|submissions?|organi[sz]ers?|the\s+(?:challenge|"
-    r"competition|benchmark|leaderboard|organi[sz]ing\s+committee)|proposed\s+(?:method|model|approach|network))\b",
+    r"competition|benchmark|leaderboard|organi[sz]ing\s+committee)|proposed\s+(?:method|model|approach|network)|"
+    r"(?:is|are)\s+intended\s+(?:as|for|to)|(?:is|are)\s+designed\s+(?:to|for|as))\b",
     re.IGNORECASE,
 )
 
@@ -88,6 +89,8 @@ _GENERAL = re.compile(
 #: section roles whose sentences speak of others or in general unless they say otherwise
 _OTHER_ROLES = frozenset({"related-work"})
 _BACKGROUND_ROLES = frozenset({"introduction", "requirements"})
+#: sections that frame a study: a sentence there speaks of this study only when it says so ("we", "our data")
+_FRAMING_ROLES = frozenset({"introduction", "discussion", "limitations", "requirements"})
 
 
 @dataclass(frozen=True)
@@ -125,4 +128,6 @@ def attribute(text: str, role: str = "body", kind: str = "paragraph") -> Attribu
             else Attribution(OTHER_WORK, "in a section about other work"))
     if _GENERAL.search(text) and not own:
         return Attribution(BACKGROUND, "a general statement")
+    if role in _FRAMING_ROLES and not own:
+        return Attribution(BACKGROUND, "framing in the introduction or discussion, not about this study")
     return Attribution(THIS_STUDY, "speaks of this study" if own else "stands in a section about this study")

@@ -23,7 +23,9 @@ MAX_ALIAS_USES = 500
 MAX_NODES = 200_000
 MAX_FILE_BYTES = 5 * 1024 * 1024
 
-NOT_CHECKLISTS = frozenset({"rules.yaml"})
+#: files beside the checklists that are not checklists: the cross-item rules and the concept library
+NOT_CHECKLISTS = frozenset({"rules.yaml", "concepts.yaml"})
+CONCEPTS_FILE = "concepts.yaml"
 SLUG = re.compile(r"^[a-z0-9][a-z0-9-]*$")
 ITEM_ID = re.compile(r"^[a-z0-9][a-z0-9-]*(\.[a-z0-9][a-z0-9-]*)+$")
 FACET_ID = re.compile(r"^[a-z0-9][a-z0-9_-]*$")
@@ -83,6 +85,17 @@ class Item:
     applies_when: AppliesWhen | None = None
     examples_reported: tuple[str, ...] = ()
     examples_missing: tuple[str, ...] = ()
+
+
+@dataclass(frozen=True)
+class Concept:
+    """A study-design concept shared by checklists: its facets with their cues, and which facets make it
+    reported. An item names it with `concept:` and adds its own words (question, why, ask, sources)."""
+
+    id: str
+    facets: tuple[Facet, ...]
+    needs: tuple[tuple[str, ...], ...]
+    applies_when: AppliesWhen | None = None
 
 
 @dataclass(frozen=True)
@@ -420,23 +433,7 @@ def _needs(p: _Problems, node: _Node | None, path: str, facet_ids: list[str]) ->
     return (tuple(facet_ids),)
 
 
-def _item(p: _Problems, node: _Node, path: str, groups: set[str]) -> Item | None:
-    if isinstance(node.value, dict) and isinstance(node.value.get("id", (None, _Node(None, 0, 0)))[1].value, str):
-        path = f'item "{node.value["id"][1].value.strip()}"'
-    fields = _keys(
-        p, node, path,
-        {"id", "group", "title", "question", "why", "ask", "facets"},
-        {"sources", "needs", "applies_when", "examples"},
-    )
-    if not fields:
-        return None
-    iid = _text(p, fields.get("id"), _join(path, "id"))
-    if iid:
-        if not ITEM_ID.match(iid):
-            p.add(fields["id"], _join(path, "id"), "an item id is a dotted lower-case slug such as 'data.source'")
-    group = _text(p, fields.get("group"), _join(path, "group"))
-    if group and groups and group not in groups:
-        p.add(fields["group"], _join(path, "group"), f"names group {group!r}, which the checklist does not define")
+def _facets(p: _Problems, fields: dict[str, _Node], path: str) -> list[Facet]:
     facets: list[Facet] = []
     if "facets" in fields and _expect(p, fields["facets"], _join(path, "facets"), list):
         if not fields["facets"].value:
@@ -450,12 +447,68 @@ def _item(p: _Problems, node: _Node, path: str, groups: set[str]) -> Item | None
                 p.add(fnode, f"{_join(path, 'facets')}[{i}] -> id", f"duplicate facet id {f.id!r}")
             seen.add(f.id)
             facets.append(f)
-    needs = _needs(p, fields.get("needs"), _join(path, "needs"), [f.id for f in facets])
-    applies = None
-    if "applies_when" in fields:
-        cues, afields = _cue_block(p, fields["applies_when"], _join(path, "applies_when"), {"reason"})
-        reason = _text(p, afields.get("reason"), _join(path, "applies_when -> reason"), required=False)
-        applies = AppliesWhen(cues, reason or "nothing in the document calls for it")
+    return facets
+
+
+def _applies(p: _Problems, fields: dict[str, _Node], path: str) -> AppliesWhen | None:
+    if "applies_when" not in fields:
+        return None
+    cues, afields = _cue_block(p, fields["applies_when"], _join(path, "applies_when"), {"reason"})
+    reason = _text(p, afields.get("reason"), _join(path, "applies_when -> reason"), required=False)
+    return AppliesWhen(cues, reason or "nothing in the document calls for it")
+
+
+def _item(p: _Problems, node: _Node, path: str, groups: set[str],
+          concepts: dict[str, Concept] | None = None) -> Item | None:
+    if isinstance(node.value, dict) and isinstance(node.value.get("id", (None, _Node(None, 0, 0)))[1].value, str):
+        path = f'item "{node.value["id"][1].value.strip()}"'
+    has_concept = isinstance(node.value, dict) and "concept" in node.value
+    fields = _keys(
+        p, node, path,
+        {"id", "group", "title", "question", "why", "ask"} | (set() if has_concept else {"facets"}),
+        {"sources", "needs", "applies_when", "examples", "concept", "facets", "uses"},
+    )
+    if not fields:
+        return None
+    iid = _text(p, fields.get("id"), _join(path, "id"))
+    if iid:
+        if not ITEM_ID.match(iid):
+            p.add(fields["id"], _join(path, "id"), "an item id is a dotted lower-case slug such as 'data.source'")
+    group = _text(p, fields.get("group"), _join(path, "group"))
+    if group and groups and group not in groups:
+        p.add(fields["group"], _join(path, "group"), f"names group {group!r}, which the checklist does not define")
+    concept = None
+    if "concept" in fields:
+        cid = _text(p, fields["concept"], _join(path, "concept"))
+        if "facets" in fields:
+            p.add(fields["facets"], _join(path, "facets"),
+                  "an item takes its facets from its concept or lists its own, not both")
+        concept = (concepts or {}).get(cid)
+        if cid and concept is None:
+            hint = _closest(cid, set(concepts or ()))
+            p.add(fields["concept"], _join(path, "concept"), f"no concept {cid!r} in the concept library"
+                  + (f" (did you mean {hint!r}?)" if hint else ""))
+    if "uses" in fields and concept is None and "concept" not in fields:
+        p.add(fields["uses"], _join(path, "uses"), "only an item with a concept can choose which of its facets it uses")
+    if concept is not None:
+        facets = list(concept.facets)
+        if "uses" in fields:
+            wanted = _texts(p, fields["uses"], _join(path, "uses"))
+            for w in wanted:
+                if w not in {f.id for f in facets}:
+                    p.add(fields["uses"], _join(path, "uses"), f"names facet {w!r}, which concept {concept.id!r} "
+                          f"does not have (it has {', '.join(f.id for f in facets)})")
+            facets = [f for f in facets if f.id in wanted]
+        ids = {f.id for f in facets}
+        if "needs" in fields:
+            needs = _needs(p, fields["needs"], _join(path, "needs"), [f.id for f in facets])
+        else:  # the concept's alternatives that the chosen facets can meet
+            needs = tuple(n for n in concept.needs if set(n) <= ids) or (tuple(sorted(ids)),)
+        applies = _applies(p, fields, path) if "applies_when" in fields else concept.applies_when
+    else:
+        facets = _facets(p, fields, path)
+        needs = _needs(p, fields.get("needs"), _join(path, "needs"), [f.id for f in facets])
+        applies = _applies(p, fields, path)
     ex_rep: tuple[str, ...] = ()
     ex_mis: tuple[str, ...] = ()
     if "examples" in fields:
@@ -478,9 +531,8 @@ def _item(p: _Problems, node: _Node, path: str, groups: set[str]) -> Item | None
     )
 
 
-def parse_checklist(text: str, file: str, *, compile_regexes: bool = True) -> Checklist:
-    """Validate and build a checklist from YAML text; raise ChecklistError with every problem located."""
-    p = _Problems(file, compile_regexes)
+def _compose(text: str, file: str) -> _Node:
+    """The YAML text as marked nodes, or ChecklistError with the place of the problem."""
     try:
         root_node = yaml.compose(text, Loader=getattr(yaml, "CSafeLoader", yaml.SafeLoader))  # libyaml when built
     except yaml.MarkedYAMLError as exc:
@@ -502,6 +554,60 @@ def parse_checklist(text: str, file: str, *, compile_regexes: bool = True) -> Ch
         ]) from None
     except (yaml.YAMLError, ValueError, TypeError) as exc:
         raise ChecklistError([f"{file}:1:1: not valid YAML: {exc}"]) from None
+    return root
+
+
+def parse_concepts(text: str, file: str, *, compile_regexes: bool = True) -> dict[str, Concept]:
+    """The concept library: every concept by id, validated like a checklist (all problems at once)."""
+    p = _Problems(file, compile_regexes)
+    root = _compose(text, file)
+    top = _keys(p, root, "", {"id", "version", "concepts"}, {"description"})
+    out: dict[str, Concept] = {}
+    if "concepts" in top and _expect(p, top["concepts"], "concepts", list):
+        for i, cnode in enumerate(top["concepts"].value):
+            path = f"concepts[{i}]"
+            if isinstance(cnode.value, dict) and isinstance(cnode.value.get("id", (None, _Node(None, 0, 0)))[1].value,
+                                                            str):
+                path = f'concept "{cnode.value["id"][1].value.strip()}"'
+            fields = _keys(p, cnode, path, {"id", "facets"}, {"needs", "applies_when", "note"})
+            if not fields:
+                continue
+            cid = _text(p, fields.get("id"), _join(path, "id"))
+            if cid and not ITEM_ID.match(cid):
+                p.add(fields["id"], _join(path, "id"), "a concept id is a dotted lower-case slug such as 'data.source'")
+            if cid in out:
+                p.add(fields["id"], _join(path, "id"), f"duplicate concept id {cid!r}")
+            facets = _facets(p, fields, path)
+            needs = _needs(p, fields.get("needs"), _join(path, "needs"), [f.id for f in facets])
+            out[cid] = Concept(cid, tuple(facets), needs, _applies(p, fields, path))
+    if p.items:
+        raise ChecklistError(p.lines())
+    return out
+
+
+def builtin_concepts(*, strict: bool = False) -> dict[str, Concept]:
+    """The concept library shipped with studygap (checklists/concepts.yaml)."""
+    res = resources.files("checker.checklists") / CONCEPTS_FILE
+    text = res.read_text(encoding="utf-8")
+    key = ("concepts", text, not strict)
+    if key not in _CACHE:
+        from .resultcache import parsed
+
+        _CACHE[key] = parsed("dict", text, f"checklists/{CONCEPTS_FILE}", f"builtin={not strict}",
+                             lambda: parse_concepts(text, f"checklists/{CONCEPTS_FILE}", compile_regexes=strict))
+    return _CACHE[key]
+
+
+def parse_checklist(text: str, file: str, *, compile_regexes: bool = True,
+                    concepts: dict[str, Concept] | None = None) -> Checklist:
+    """Validate and build a checklist from YAML text; raise ChecklistError with every problem located.
+
+    Items may name a concept of the library (`concept: data.source`); `concepts` defaults to the built-in one.
+    """
+    p = _Problems(file, compile_regexes)
+    root = _compose(text, file)
+    if concepts is None and "concept:" in text:
+        concepts = builtin_concepts(strict=compile_regexes)
 
     top = _keys(p, root, "", {"id", "title", "version", "items"},
                 {"document_kinds", "groups", "description", "choose_when"})
@@ -532,7 +638,7 @@ def parse_checklist(text: str, file: str, *, compile_regexes: bool = True) -> Ch
     if "items" in top and _expect(p, top["items"], "items", list):
         seen: dict[str, _Node] = {}
         for i, inode in enumerate(top["items"].value):
-            it = _item(p, inode, f"items[{i}]", {g.id for g in groups})
+            it = _item(p, inode, f"items[{i}]", {g.id for g in groups}, concepts)
             if it is None:
                 continue
             if it.id in seen:

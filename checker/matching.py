@@ -35,7 +35,10 @@ ROLE_WEIGHTS = {
     "discussion": 0.6,
     "limitations": 0.6,
     "related-work": 0.3,
+    "requirements": 0.3,
     "references": 0.0,
+    # title page, declarations, table of contents, lists of figures: never evidence
+    "front-matter": 0.0,
 }
 #: a heading names a topic but states nothing about it: alone it never makes a facet found
 HEADING_FACTOR = 0.4

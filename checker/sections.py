@@ -33,6 +33,11 @@ ROLE_HEADINGS: dict[str, tuple[str, ...]] = {
         "study design", "network architecture", "model", "training", "statistical analysis", "statistics",
         "how the challenge works", "challenge design", "task", "tasks", "rules", "challenge rules", "submission",
         "submission instructions", "participation", "terms", "timeline", "organization", "organisation",
+        # how engineering papers and student reports name the description of their own method
+        "architecture", "model architecture", "system architecture", "proposed system", "proposed model",
+        "proposed approach", "proposed framework", "proposed methodology", "system design", "block diagram",
+        "preprocessing", "pre processing", "postprocessing", "post processing", "models", "feature extraction",
+        "hardware and software", "training procedure", "training details",
     ),
     "evaluation": (
         "evaluation", "evaluation metrics", "metrics", "evaluation protocol", "assessment", "performance metrics",
@@ -95,14 +100,15 @@ def clean_heading(text: str) -> str:
 
 
 @lru_cache(maxsize=4096)
-def heading_role(text: str) -> str | None:
-    """The role a heading announces, or None where it names no known kind of section."""
+def role_match(text: str) -> tuple[str | None, bool]:
+    """The role a heading announces, and whether the whole heading names it ("Data") rather than its first
+    or last words ("Data preprocessing", "Models with CNN versus those without CNN")."""
     t = clean_heading(text)
     if not t or len(t) > 80:
-        return None
+        return None, False
     best = process.extractOne(t, _CHOICES, scorer=fuzz.ratio, score_cutoff=88)
     if best is not None:
-        return _VARIANTS[best[2]][1]
+        return _VARIANTS[best[2]][1], True
     # "Evaluation metrics and ranking", "Datasets used in this study": the first words decide,
     # ... or the last ones: "Reference annotation", "Ground-truth labelling"
     words = t.split()
@@ -113,8 +119,13 @@ def heading_role(text: str) -> str | None:
             # "Reference annotation" is not the reference list: that role needs the whole heading
             if best is not None and _VARIANTS[best[2]][1] not in _WHOLE_ONLY \
                     and _VARIANTS[best[2]][0] not in _WHOLE_ONLY_VARIANTS:
-                return _VARIANTS[best[2]][1]
-    return None
+                return _VARIANTS[best[2]][1], False
+    return None, False
+
+
+def heading_role(text: str) -> str | None:
+    """The role a heading announces, or None where it names no known kind of section."""
+    return role_match(text)[0]
 
 
 #: headings of a structured abstract ("Background", "Methods", "Results", ...): the abstract's own parts
@@ -205,6 +216,42 @@ def _caps_rank(headings: list[tuple[int, Block]]) -> dict[int, float]:
     return moved
 
 
+#: sections that stand at the top of a document's tree, whatever headings come before them
+_TOP_ROLES = frozenset({"abstract", "introduction", "related-work", "discussion", "limitations", "references",
+                        "acknowledgements", "appendix", "front-matter"})
+
+
+def _stacked_parents(headings: list[tuple[int, Block]], levels: dict[int, float]) -> dict[int, float]:
+    """Where a document sets its sections and subsections alike, a heading set directly above another
+    ("Results" over "LSTM versus GRU models") opens a section, and the headings after it, set alike and
+    unnumbered, are its subsections until the next such pair or a top-level section ("Discussion").
+    Only where the document does this at least twice. Returns index -> effective level for those that move."""
+    def plain(b: Block) -> bool:
+        return not _SECTION_NUMBER.match(b.text) and not _CHAPTER.match(b.text)
+
+    parents = set()
+    for (i, b), (j, c) in zip(headings, headings[1:]):
+        if j == i + 1 and levels[i] == levels[j] and plain(b) and plain(c) \
+                and heading_role(b.text) not in _BACK_ROLES | {"abstract"}:
+            parents.add(i)
+    if len(parents) < 2:
+        return {}
+    out: dict[int, float] = {}
+    current: float | None = None
+    for i, b in headings:
+        if i in parents:
+            current = levels[i]
+            continue
+        if current is None or levels[i] != current or not plain(b):
+            continue
+        role, whole = role_match(b.text)
+        if whole and role in _TOP_ROLES:
+            current = None  # "Conclusions", "Acknowledgments", "References" stand at the top again
+            continue
+        out[i] = current + 0.5
+    return out
+
+
 def _is_title(headings: list[tuple[int, Block]], blocks: list[Block]) -> bool:
     """Whether the first heading is the document's title: first, at the top level, with little before it, and
     either alone at that level or sharing it with sections while naming none itself."""
@@ -233,6 +280,8 @@ def assign_sections(blocks: list[Block]) -> list[Block]:
     blocks = _join_chapter_titles(blocks)
     headings = [(i, b) for i, b in enumerate(blocks) if b.kind == "heading"]
     moved = _caps_rank(headings)
+    levels = {i: moved.get(i, float(b.level or 1)) for i, b in headings}
+    moved = {**moved, **_stacked_parents(headings, levels)}
     title_at = headings[0][0] if headings and _is_title(headings, blocks) else None
     thesis = any(clean_heading(b.text) in _THESIS_FRONT for _, b in headings)
     out: list[Block] = []
@@ -248,7 +297,7 @@ def assign_sections(blocks: list[Block]) -> list[Block]:
         if block.kind == "heading":
             level = moved.get(i, float(block.level or 1))
             title = re.sub(r"\s+", " ", block.text).strip()
-            role = None if i == title_at else heading_role(title)
+            role, whole = (None, False) if i == title_at else role_match(title)
             cleaned = clean_heading(title)
             while stack:
                 top_level, _, top_role, closed, words = stack[-1]
@@ -261,6 +310,8 @@ def assign_sections(blocks: list[Block]) -> list[Block]:
                     stack.pop()  # the body after an abstract, not a part of a structured abstract
                 else:
                     break
+            if role is not None and not whole and any(e[2] for e in stack):
+                role = None  # a few words of the title yield to the parent's role ("Results > Models with CNN")
             closed = role in ("front-matter", "references")  # a reference list has no sections of its own
             stack.append([level, title, role, closed, 0])
             if role in _BODY_ROLES or _SECTION_NUMBER.match(title):

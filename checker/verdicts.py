@@ -155,7 +155,16 @@ def _trim(text: str, spans: tuple[tuple[int, int], ...]) -> tuple[str, tuple[tup
     """Strip the sentence's outer white space, moving the spans with it."""
     lead = len(text) - len(text.lstrip())
     t = text.strip()
-    return t, tuple((max(0, s - lead), min(len(t), e - lead)) for s, e in spans if e - lead > 0 and s - lead < len(t))
+    out = []
+    for s, e in spans:
+        s, e = max(0, s - lead), min(len(t), e - lead)
+        while s < e and t[s].isspace():  # a regex may take the space after its last word: show words only
+            s += 1
+        while e > s and t[e - 1].isspace():
+            e -= 1
+        if e > s:
+            out.append((s, e))
+    return t, tuple(out)
 
 
 def evaluate(compiled: CompiledChecklist, scan: Scan, waivers: dict[str, str] | None = None) -> tuple[ItemResult, ...]:

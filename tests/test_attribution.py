@@ -26,6 +26,8 @@ from checker.engine import check_text
     ("Bootstrap intervals could be explored in future editions.", "discussion", PLAN),
     ("Dice is widely used to compare segmentations.", "methods", BACKGROUND),
     ("Chronic kidney disease affects over 800 million people worldwide.", "introduction", BACKGROUND),
+    ("Such systems could reduce inter-observer variability in routine reading.", "discussion", BACKGROUND),
+    ("The proposed detector is intended as a second reader in emergency care.", "introduction", THIS_STUDY),
 ])
 def test_attribution_of_typical_sentences(text, role, kind):
     assert attribute(text, role).kind == kind
@@ -33,7 +35,7 @@ def test_attribution_of_typical_sentences(text, role, kind):
 
 def test_units_with_superscripts_are_not_citations():
     # "mm²" is a unit, not reference 2
-    assert attribute("Each lesion larger than 5 mm² was outlined.", "introduction").kind == THIS_STUDY
+    assert attribute("Each lesion larger than 5 mm² was outlined.", "methods").kind == THIS_STUDY
 
 
 def test_other_work_never_makes_an_item_reported():

@@ -43,3 +43,34 @@ def test_the_outline_follows_section_paths_not_raw_levels():
     roots, _, _ = section_tree(Document("f.pdf", "pdf", tuple(blocks)))
     assert [(r.title, r.role, [c.title for c in r.children]) for r in roots] == [
         ("Abstract", "abstract", []), ("1 Introduction", "introduction", ["1.1 Aims"])]
+
+
+def test_two_headings_set_one_above_the_other_are_two_headings(tmp_path):
+    pytest.importorskip("reportlab")
+    from reportlab.lib.pagesizes import A4
+    from reportlab.pdfgen import canvas
+
+    from checker.readers import read_document
+
+    path = tmp_path / "stacked.pdf"
+    c = canvas.Canvas(str(path), pagesize=A4, invariant=1)
+    y = 760
+    body = ("The fictional readers of the Lakeside study segmented every scan by hand and agreed on a consensus "
+            "for each case before the methods were compared on the held-out test set of the benchmark.")
+    for heading in ("Results", "Accuracy of the readers", None, "Wrapped heading that runs over the whole width of",
+                    "the column and on", None):
+        if heading is None:
+            c.setFont("Helvetica", 10)
+            for k in range(0, len(body), 95):
+                c.drawString(72, y, body[k:k + 95])
+                y -= 13
+            y -= 10
+            continue
+        c.setFont("Helvetica-Bold", 12)
+        c.drawString(72, y, heading)
+        y -= 16
+    c.showPage()
+    c.save()
+    headings = [b.text for b in read_document(path).blocks if b.kind == "heading"]
+    assert headings[:2] == ["Results", "Accuracy of the readers"]
+    assert "Wrapped heading that runs over the whole width of the column and on" in headings

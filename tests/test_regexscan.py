@@ -68,7 +68,7 @@ def test_every_builtin_regex_finds_what_a_sentence_by_sentence_search_finds():
     # scikit-learn's bundled descriptions (real text by other people) plus the demo documents
     texts = corpus_sentences() + EDGES
     sources = all_sources()
-    assert len(sources) > 200
+    assert len(sources) > 150  # every regex of the checklists, the concept library and the rules
     for src in sources:
         rx = compile_regex(src)
         assert fast(rx, src, texts) == naive(rx, texts), src

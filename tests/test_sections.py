@@ -83,7 +83,7 @@ def test_an_abstract_heading_never_holds_the_numbered_body():
                                (H, "3.1 Data", 3), (P, "Forty scans.", None)))
     assert out[1].role == "abstract"
     assert out[3].section == ("1.0 INTRODUCTION",) and out[3].role == "introduction"
-    assert out[5].section == ("3.0 PROPOSED SYSTEM",) and out[5].role == "body"
+    assert out[5].section == ("3.0 PROPOSED SYSTEM",) and out[5].role == "methods"
     assert out[7].section == ("3.0 PROPOSED SYSTEM", "3.1 Data") and out[7].role == "data"
 
 
@@ -157,3 +157,24 @@ def test_capitals_mark_the_main_sections_of_headings_ranked_alike():
                                (H, "RESULTS", 1), (H, "Segmentation accuracy", 1), (P, "Dice 0.9.", None)))
     assert out[4].section == ("MATERIALS AND METHODS", "Image acquisition") and out[4].role == "methods"
     assert out[7].section == ("RESULTS", "Segmentation accuracy") and out[7].role == "results"
+
+
+def test_headings_set_alike_nest_under_a_heading_stacked_above_another():
+    # sections and subsections in the same type: "Results" directly over its first subsection, twice
+    out = assign_sections(_doc((H, "Introduction", 1), (P, "Why.", None),
+                               (H, "Results", 1), (H, "Accuracy of the readers", 1), (P, "Dice 0.9.", None),
+                               (H, "Models with and without pretraining", 1), (P, "Pretraining helped.", None),
+                               (H, "Discussion", 1), (H, "Benchmark results", 1), (P, "It works.", None),
+                               (H, "Conclusions", 1), (P, "Done.", None)))
+    by_text = {b.text: b for b in out}
+    assert by_text["Pretraining helped."].section == ("Results", "Models with and without pretraining")
+    # a few words of a subsection's title ("Models ...") yield to the section it stands in
+    assert by_text["Pretraining helped."].role == "results"
+    assert by_text["It works."].role == "discussion"
+    assert by_text["Done."].section == ("Conclusions",)
+
+
+def test_a_reference_list_holds_no_sections():
+    out = assign_sections(_doc((H, "References", 1), (P, "[1] A paper.", None), (H, "Figure captions", 2),
+                               (P, "Figure 1. The pipeline.", None)))
+    assert out[3].section == ("Figure captions",) and out[3].role == "body"

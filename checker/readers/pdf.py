@@ -958,6 +958,9 @@ _KEEP_HYPHEN_HEADS = frozenset(
 )
 
 
+#: words a wrapped heading line can end with; a line ending otherwise, and short, ends the heading
+_JOINING_WORDS = frozenset("a an the of and or for in on at to with from by via as into versus vs vs. its their "
+                           "under over between using based towards toward".split())
 _PASTED_HYPHEN = re.compile(r"(?<![\w-])([^\W\d_]+)- ([a-z]+)\b")
 _LINE_END_HYPHEN = re.compile(r"([\w-]*)-$")
 _LEADING_LETTERS = re.compile(r"[^\W\d_]*")
@@ -1192,7 +1195,7 @@ class _Assembler:
             elif d.kind in ("paragraph", "list-item") and self._footnote(d):
                 d.kind = "footnote"
         self._front_matter(drafts)
-        drafts = self._join_continuations(self._split_runins(drafts))
+        drafts = self._join_continuations(self._split_runins(self._split_stacked(drafts)))
         self._levels(drafts)
         out: list[Block] = []
         for d in drafts:
@@ -1222,6 +1225,29 @@ class _Assembler:
             for d in front:
                 if max(r.size for r in d.rows) < top - 0.5:
                     d.kind = "paragraph"
+
+    def _split_stacked(self, drafts: list[_Draft]) -> list[_Draft]:
+        """"Results" over "LSTM versus GRU models": two headings set alike, one above the other, are two
+        headings. A heading wraps only where its line is full, so a short line that ends without a joining word
+        ends its heading (a centred title block is left whole)."""
+        out: list[_Draft] = []
+        for d in drafts:
+            if d.kind != "heading" or len(d.rows) < 2:
+                out.append(d)
+                continue
+            start = 0
+            for k in range(1, len(d.rows)):
+                prev, row = d.rows[k - 1], d.rows[k]
+                width = prev.right - prev.left
+                middle = (prev.left + prev.right) / 2
+                centred = abs((prev.x0 + prev.x1) / 2 - middle) < prev.size and prev.x0 - prev.left > prev.size
+                last = prev.text.split()[-1].lower() if prev.text.split() else ""
+                if (width > 0 and prev.x1 < prev.right - 0.3 * width and not centred and row.text[:1].isupper()
+                        and last not in _JOINING_WORDS and not prev.text.endswith(("-", ",", ":", "–", "—"))):
+                    out.append(_Draft(d.rows[start:k], "heading"))
+                    start = k
+            out.append(_Draft(d.rows[start:], "heading") if start else d)
+        return out
 
     def _split_runins(self, drafts: list[_Draft]) -> list[_Draft]:
         """"Abstract. Tumour segmentation is ..." with a bold lead: a heading, then the paragraph."""
