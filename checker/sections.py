@@ -162,9 +162,19 @@ _SECTION_NUMBER = re.compile(r"^\s*(?:(?:section|chapter|part)\s+)?(?:[0-9]+(?:\
 BYLINE = re.compile(
     r"[\w.+-]+@[\w-]+\.[\w.-]+|\b(?:universit(?:y|ies|[éàä]t?)\b|institute (?:of|for)|institut\b|department of|"
     r"dept\.|hospital\b|school of|college of|faculty of|laborator(?:y|ies) (?:of|for)|(?:centre|center) (?:of|for)|"
-    r"corresponding author|orcid|received:|accepted:|published:)",
+    r"corresponding author|orcid|received:|accepted:|published:|"
+    r"anonymous(?:\s+[\w@&-]+){0,2}\s+(?:submission|authors?)\b)",  # the by-line of a double-blind review copy
     re.IGNORECASE,
 )
+
+
+_LEADER_RUN = re.compile(r"(?:\.\s?){4,}\s*(?:[0-9]{1,3}|[ivxlc]{1,6})\b|…{2,}\s*[0-9]{1,3}\b", re.IGNORECASE)
+
+
+def _is_contents_lines(text: str) -> bool:
+    """Text made of table-of-contents lines: a dot leader and a page number for every few words."""
+    leaders = len(_LEADER_RUN.findall(text))
+    return leaders > 0 and leaders * 25 >= len(text.split())
 
 
 def _words(block: Block) -> int:
@@ -321,7 +331,9 @@ def assign_sections(blocks: list[Block]) -> list[Block]:
         path = tuple(entry[1] for entry in stack)
         sticky = next((e[2] for e in stack if e[2] in _STICKY), None)
         role = sticky or next((e[2] for e in reversed(stack) if e[2]), "body")
-        if in_front and role == "body" and block.kind != "heading" and (
+        if block.kind != "heading" and _is_contents_lines(block.text):
+            role = "front-matter"  # lines of a table of contents or a list of figures, wherever they stand
+        elif in_front and role == "body" and block.kind != "heading" and (
                 thesis or _words(block) <= 40 and BYLINE.search(block.text)):
             role = "front-matter"  # a title page, or the authors and their addresses under a paper's title
         out.append(dataclasses.replace(block, section=path, role=role))

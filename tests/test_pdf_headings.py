@@ -17,6 +17,7 @@ from checker.sections import assign_sections
     "* tracts", "• Dice",  # bullets
     "Ada B. Smith1, Ben Jones2*", "Ada Smith, Ben Jones and Carl Wu",  # author lines
     "Department of Radiology, Northbay University Hospital", "ada.smith@northbay.example",  # affiliations
+    "Anonymous LAKE-2031 submission", "Anonymous Authors",  # the by-line of a double-blind review copy
 ])
 def test_never_a_heading(text):
     assert not _plausible_heading(text)

@@ -178,3 +178,11 @@ def test_a_reference_list_holds_no_sections():
     out = assign_sections(_doc((H, "References", 1), (P, "[1] A paper.", None), (H, "Figure captions", 2),
                                (P, "Figure 1. The pipeline.", None)))
     assert out[3].section == ("Figure captions",) and out[3].role == "body"
+
+
+def test_contents_lines_are_front_matter_wherever_they_stand():
+    out = assign_sections(_doc((H, "1 Introduction", 1),
+                               (P, "1 Introduction .......... 1 2 Data sets and annotation .......... 4", None),
+                               (P, "The dataset holds forty scans. See the table below .... for details.", None)))
+    assert out[1].role == "front-matter"
+    assert out[2].role == "introduction"
