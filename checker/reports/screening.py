@@ -98,9 +98,9 @@ body{font-size:8.5pt;color:#000}main{padding:0}
 .controls,.evidence,dialog,.noprint{display:none!important}
 .wrap{overflow:visible;max-height:none;border:0}
 table.matrix{font-size:7.5pt}
-.matrix thead th{position:static}.matrix th.doc{position:static;max-width:4.2cm;min-width:0}
-.matrix tr.items th.it{height:3.9cm;width:.62cm;min-width:.62cm}.matrix th.it span{max-height:3.8cm}
-.matrix td.c{width:.62cm;height:.5cm}.matrix td.c a{line-height:.5cm;font-size:9pt}
+.matrix thead th{position:static}.matrix th.doc{position:static;max-width:5.4cm;min-width:0}
+.matrix tr.items th.it{height:5.4cm;width:.72cm;min-width:.72cm}.matrix th.it span{max-height:5.3cm}
+.matrix td.c{width:.72cm;height:.5cm}.matrix td.c a{line-height:.5cm;font-size:9pt}.bar{display:none}
 .matrix td,.matrix th{-webkit-print-color-adjust:exact;print-color-adjust:exact}
 tr{break-inside:avoid}section.cl+section.cl{break-before:page}
 }
