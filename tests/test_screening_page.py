@@ -269,3 +269,19 @@ def test_report_page_status_colours_follow_the_same_neutral_scale():
         value = re.search(rf"--{status}:(#[0-9a-fA-F]{{6}})", html.CSS).group(1)
         r, g, b = (int(value[i:i + 2], 16) for i in (1, 3, 5))
         assert max(r, g, b) - min(r, g, b) <= 40, (status, value)
+
+
+@pytest.mark.skipif(CHROMIUM is None, reason="chromium is not installed (apt-get install chromium)")
+def test_hostile_text_in_a_cell_does_not_run_in_a_real_browser(tmp_path):
+    doc = tmp_path / "<img src=x onerror=alert(2)>.md"
+    doc.write_text("# A study\n\n## Methods\n\nTwo radiologists independently annotated each image "
+                   "`<script>alert(1)</script>` and `<img src=x onerror=alert(1)>` with \"quotes\" & ampersands.\n",
+                   encoding="utf-8")
+    screen = build_screen(run_batch([str(doc)], "validation-study", jobs=1), "validation-study, named by the user")
+    assert any("<script>" in text for row in screen.rows for c in row.cells for text, _ in c.quotes)
+    page = render(screen, "html")
+    assert page.count("<script>") == 1 and "<img" not in page
+    target = tmp_path / "screen.html"
+    target.write_text(page, encoding="utf-8")
+    dom = _chromium(["--dump-dom", target.as_uri()], tmp_path).stdout
+    assert "<img" not in dom and dom.count("<script>") == 1 and 'data-controls="ready"' in dom
