@@ -134,3 +134,46 @@ def read_document(path: str | Path, limits: Limits = DEFAULT_LIMITS, *, fmt: str
         sha256=hashlib.sha256(data).hexdigest(),
         warnings=tuple(parsed.warnings) + tuple(hygiene_warnings),
     )
+
+
+def files_in_order(folder: str | Path) -> list[Path]:
+    """The documents of a folder in the order people number them: natural order of names ("page2" before
+    "page10"), so a website's pages or a paper and its supplement are read as their names order them."""
+    import re
+
+    def key(p: Path) -> list:
+        return [int(t) if t.isdigit() else t.lower() for t in re.split(r"(\d+)", p.name)]
+
+    folder = Path(folder)
+    return sorted((p for p in folder.iterdir() if p.is_file() and p.suffix.lower() in _SUFFIXES), key=key)
+
+
+def read_together(paths: list[str | Path], limits: Limits = DEFAULT_LIMITS) -> Document:
+    """Several files read as one document, in the order given: a website's pages, a paper and its supplement.
+
+    Every block keeps its own file in its location, and each file's sections start afresh (a heading of one
+    page never holds the next page). The document is named after the first file and has its format; its pages
+    are the sum when every file has pages; warnings name their file. A file that cannot be read stops with its
+    own error.
+    """
+    if not paths:
+        raise ValueError("read_together needs at least one file")
+    docs = [read_document(p, limits) for p in paths]
+    if len(docs) == 1:
+        return docs[0]
+    blocks: list[Block] = [b for d in docs for b in d.blocks]
+    if len(blocks) > limits.max_blocks:
+        raise InputError(Path(paths[0]), f"more than {limits.max_blocks} blocks of text in the files together",
+                         "raise --max-blocks if genuine")
+    pages = [d.pages for d in docs]
+    digest = hashlib.sha256()
+    for d in docs:
+        digest.update(d.path.encode("utf-8", "surrogateescape") + b"\0" + d.sha256.encode("ascii") + b"\0")
+    return Document(
+        path=docs[0].path,
+        format=docs[0].format,  # the first file's: a report names one format
+        blocks=tuple(blocks),
+        pages=sum(pages) if all(p is not None for p in pages) else None,
+        sha256=digest.hexdigest(),
+        warnings=tuple(f"{Path(d.path).name}: {w}" for d in docs for w in d.warnings),
+    )

@@ -823,3 +823,66 @@ def read(path: Path, data: bytes, limits: Limits) -> Parsed:
     with _quiet_parser("pylatexenc.latex2text"):  # its complaints about odd macros are not the user's business
         reader.read_main(text)
     return Parsed(blocks=reader.finish(), warnings=reader.warnings)
+
+
+# ---------------------------------------------------------------------------------------------- projects
+
+_INCLUDE_TARGET = re.compile(r"(?<!\\)\\(?:input|include|subfile)\s*\{\s*([^{}]+?)\s*\}")
+_COMMENT_LINE = re.compile(r"(?<!\\)%[^\n]*")
+_MAX_PROJECT_FILES = 500
+
+
+def main_files_for(part: Path, levels: int = 2) -> list[Path]:
+    """The main files of a LaTeX project that read ``part`` through \\input, \\include or \\subfile, directly or
+    through other parts: files with \\documentclass in the part's folder or up to ``levels`` folders above it
+    (a main file reads its parts from its own folder down). Empty when ``part`` is itself a main file or no
+    main file reads it. Paths are resolved; reading stops at 500 .tex files."""
+    part = part.resolve()
+    try:
+        if b"\\documentclass" in part.read_bytes()[:65536]:
+            return []
+    except OSError:
+        return []
+    folders = [part.parent, *list(part.parents)[1:levels + 1]]
+    found: list[Path] = []
+    for folder in folders:
+        try:
+            candidates = sorted(folder.glob("*.tex"))
+        except OSError:
+            continue
+        for main in candidates:
+            try:
+                head = main.read_bytes()[:65536]
+            except OSError:
+                continue
+            if b"\\documentclass" in head and main not in found and part in _reached(main, folder):
+                found.append(main)
+        if found:
+            break  # the nearest project wins
+    return found
+
+
+def _reached(main: Path, root: Path) -> set[Path]:
+    """Every .tex file ``main`` reads, directly or through its parts, inside ``root``."""
+    seen: set[Path] = set()
+    todo = [main.resolve()]
+    while todo and len(seen) < _MAX_PROJECT_FILES:
+        current = todo.pop()
+        if current in seen:
+            continue
+        seen.add(current)
+        try:
+            text = _COMMENT_LINE.sub("", current.read_text(encoding="utf-8", errors="replace"))
+        except OSError:
+            continue
+        for m in _INCLUDE_TARGET.finditer(text):
+            target = (root / m.group(1).strip())
+            for option in ([target] if target.suffix == ".tex" else [Path(f"{target}.tex"), target]):
+                try:
+                    resolved = option.resolve()
+                except (OSError, RuntimeError, ValueError):
+                    continue
+                if resolved.is_relative_to(root.resolve()) and resolved.is_file():
+                    todo.append(resolved)
+                    break
+    return seen
