@@ -139,13 +139,18 @@ def test_audit_plot_svg_is_deterministic_and_png_is_png(corpus_results, tmp_path
     assert plot(audit, tmp_path / "rates.png").startswith(b"\x89PNG")
 
 
+def folder_of(docs, n: int, folder: Path) -> Path:
+    """A folder holding copies of the first n documents of the corpus."""
+    folder.mkdir()
+    for path, _, _ in docs[:n]:
+        shutil.copy(path, folder)
+    return folder
+
+
 def test_audit_command_writes_table_and_plot(corpus, tmp_path, capsys):
     pytest.importorskip("matplotlib", reason="matplotlib is not installed (pip install 'studygap[plot]')")
     docs, meta = corpus
-    folder = tmp_path / "some"
-    folder.mkdir()
-    for path, _, _ in docs[:8]:
-        shutil.copy(path, folder)
+    folder = folder_of(docs, 8, tmp_path / "some")
     out, chart = tmp_path / "rates.csv", tmp_path / "rates.svg"
     args = parse("audit", str(folder), "--checklist", "validation-study", "--meta", str(meta), "--by", "year",
                  "--format", "csv", "-o", str(out), "--plot", str(chart), "--jobs", "2", "--quiet")
@@ -279,10 +284,7 @@ def test_audit_names_unread_and_skipped_files_and_keeps_the_table_when_the_plot_
                                                                                       monkeypatch):
     pytest.importorskip("matplotlib", reason="matplotlib is not installed (pip install 'studygap[plot]')")
     docs, _ = corpus
-    folder = tmp_path / "in"
-    folder.mkdir()
-    for path, _, _ in docs[:3]:
-        shutil.copy(path, folder)
+    folder = folder_of(docs, 3, tmp_path / "in")
     (folder / "saved-page.pdf").write_text("<html><body>Sign in to read</body></html>", encoding="utf-8")
     (folder / "notes.odt").write_bytes(b"PK\x03\x04 not read")
     out, chart = tmp_path / "rates.json", tmp_path / "rates.png"

@@ -9,7 +9,7 @@ from collections.abc import Sequence
 from html import escape
 
 from ..report import CAUTIONS, Evidence, ItemResult, Report
-from .words import GAPS_FIRST, GLYPHS, heading
+from .words import GAPS_FIRST, GLYPHS, heading, status_checkboxes
 
 #: status -> (heading word, glyph shown beside the word): the one vocabulary of words.py
 LABELS = {s: (heading(s), GLYPHS[s]) for s in GAPS_FIRST}
@@ -200,11 +200,9 @@ def _filters(reports: Sequence[Report]) -> str:
     for r in reports:
         for it in r.items:
             groups.setdefault(it.group, r.group_title(it.group))
-    statuses = list(LIST_ORDER)  # all five, so that the filter reads the same on every page
     out = ['<fieldset class="filters" id="filters" hidden><legend>Show items</legend>',
            '<div role="group" aria-label="by status"><strong>Status:</strong>']
-    out += [f'<label><input type="checkbox" checked data-status="{s}"> {LABELS[s][1]} {e(LABELS[s][0])}</label>'
-            for s in statuses]
+    out += status_checkboxes()  # all five, so that the filter reads the same on every page
     out.append('<button type="button" class="all" data-set="status" data-value="1">all</button>'
                '<button type="button" class="all" data-set="status" data-value="0">none</button></div>')
     out.append(f'<details><summary>Groups ({len(groups)})</summary><div role="group" aria-label="by group">')

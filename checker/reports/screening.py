@@ -14,7 +14,7 @@ import io
 from html import escape
 from typing import TYPE_CHECKING
 
-from .words import GAPS_FIRST, GLYPHS, MEANINGS, WORDS, glyph, heading, word
+from .words import GAPS_FIRST, GLYPHS, MEANINGS, WORDS, glyph, status_checkboxes, word
 
 if TYPE_CHECKING:
     from ..screen import Screen, ScreenChecklist, ScreenRow
@@ -280,8 +280,7 @@ def render_html(screen: Screen) -> str:
                      f"{e(MEANINGS[s])}</li>" for s in STATUSES)
     controls = ['<fieldset class="controls" id="controls" hidden><legend>Show</legend>',
                 '<div role="group" aria-label="by status"><strong>Status:</strong>']
-    controls += [f'<label><input type="checkbox" checked data-status="{s}"> {GLYPHS[s]} {e(WORDS[s])}</label>'
-                 for s in GAPS_FIRST]
+    controls += status_checkboxes()
     controls.append('<label>Documents: <input id="docfilter" type="search" placeholder="words in a file name">'
                     "</label></div>")
     n_groups = sum(len(_groups(c)) for c in screen.checklists)
@@ -430,4 +429,4 @@ def render_docx(screen: Screen) -> bytes:
     return buf.getvalue()
 
 
-__all__ = ["render_html", "render_docx", "heading"]
+__all__ = ["render_html", "render_docx"]

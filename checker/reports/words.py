@@ -50,3 +50,9 @@ def heading(status: str) -> str:
 
 def glyph(status: str) -> str:
     return GLYPHS.get(status, "?")
+
+
+def status_checkboxes() -> list[str]:
+    """The status filter of both pages: one ticked box per status, gaps first, glyph and heading word."""
+    return [f'<label><input type="checkbox" checked data-status="{s}"> {GLYPHS[s]} {heading(s)}</label>'
+            for s in GAPS_FIRST]
