@@ -67,9 +67,30 @@ def _choice_matcher(cid: str):
     return lambda doc: [hit for m in matchers for hit in m(doc)]
 
 
-def choose_checklist(docs: list, nlp=None) -> tuple[str, str]:  # noqa: ARG001 - nlp kept for callers
-    """The built-in checklist whose `choose_when` cues the document uses most, and a sentence saying why."""
+#: a paper's skeleton: an abstract or introduction, a reference list or related work, and methods, results or a
+#: discussion; it weighs as this many cue
+#: words for the validation-study checklist (benchmark pages and dataset cards seldom have all three)
+PAPER_SKELETON_WEIGHT = 4
+
+
+def paper_skeleton(document: Document | None) -> bool:
+    """Whether the document is built like a paper: abstract or introduction, references or related work, and
+    methods, results or discussion."""
+    if document is None:
+        return False
+    roles = {b.role for b in document.blocks if b.kind == "heading"}
+    return bool(roles & {"abstract", "introduction"} and roles & {"references", "related-work"}
+                and roles & {"methods", "results", "discussion"})
+
+
+def choose_checklist(docs: list, nlp=None, document: Document | None = None) -> tuple[str, str]:  # noqa: ARG001
+    """The built-in checklist whose `choose_when` cues the document uses most, and a sentence saying why.
+
+    Each distinct cue counts up to three times; a document built like a paper (see `paper_skeleton`) adds to the
+    validation-study checklist, since benchmark participants' papers mention organisers and leaderboards too.
+    """
     scores = []
+    skeleton = paper_skeleton(document)
     for cid in builtin_ids():
         matcher = _choice_matcher(cid)
         if matcher is None:
@@ -79,7 +100,10 @@ def choose_checklist(docs: list, nlp=None) -> tuple[str, str]:  # noqa: ARG001 -
             for _mid, s, e in matcher(doc):
                 word = doc[s:e].text.lower()
                 found[word] = found.get(word, 0) + 1
-        scores.append((sum(min(n, 3) for n in found.values()), len(found), cid, found))
+        score = sum(min(n, 3) for n in found.values())
+        if skeleton and cid == "validation-study":
+            score += PAPER_SKELETON_WEIGHT
+        scores.append((score, len(found), cid, found))
     if not scores:
         return "validation-study", "validation-study: the default checklist"
     scores.sort(key=lambda t: (-t[0], -t[1], t[2]))
@@ -87,7 +111,10 @@ def choose_checklist(docs: list, nlp=None) -> tuple[str, str]:  # noqa: ARG001 -
     if score == 0:
         return "validation-study", "validation-study: nothing pointed to another kind of document, so the default"
     top = sorted(found, key=lambda w: (-found[w], w))[:4]
-    return cid, f"{cid}: mentions " + ", ".join(top)
+    why = "mentions " + ", ".join(top) if top else ""
+    if skeleton and cid == "validation-study":
+        why = "built like a paper (introduction, methods or results, references)" + ("; " + why if why else "")
+    return cid, f"{cid}: {why}"
 
 
 def check_document(
@@ -134,7 +161,7 @@ def _check(path, checklist, config, limits, read_document, parse_blocks) -> Repo
     document = ignore_sections(document, config.ignore_sections)
     docs = list(parse_blocks(b.text for b in document.blocks))
     if checklist == AUTO:
-        ref, choice = choose_checklist(docs)
+        ref, choice = choose_checklist(docs, document=document)
     else:
         ref, choice = checklist, f"{Path(checklist).stem if checklist.endswith(('.yaml', '.yml')) else checklist}: " \
                                  "named by the user"
