@@ -55,6 +55,13 @@ def test_every_request_template_reads_as_grammatical_sentences():
         assert "  " not in plain and not re.search(r"\s[,.;]", plain), plain
         assert plain.endswith((".", "?")), plain
         assert "((" not in plain and "))" not in plain, plain
+        # whole sentences: after the title, each sentence opens with a capital and holds a verb
+        body = plain[len(item.title) + 1:].strip()
+        for sentence in re.split(r"(?<=[.?])\s+", body):
+            assert sentence[:1].isupper(), (sentence, plain)
+            assert re.search(r"\b(?:found|find|could|please|state|report|give|describe|explain|name|add|is|are|"
+                             r"say|list|provide|define|indicate|mention|specify|clarify)\b", sentence, re.I), sentence
+        assert not re.search(r"\b(?:found|report) (?:described|given|named|mentioned)\b", plain), plain
         checked += 1
     assert checked > 150
 
@@ -66,7 +73,7 @@ def test_partial_request_asks_only_for_what_is_missing():
                    for i, f in enumerate(it.facets))
     item = ItemResult(it.id, it.group, it.title, it.question, it.ask, "partial", facets, (), (), "found: software")
     text = request(item, _report("validation-study", (item,)))
-    assert f"Could you also report {it.facets[1].title}?" in text
+    assert f"could you also report {it.facets[1].title}?" in text
     assert " ".join(it.ask.split())[:40] not in text  # the item's whole request (every setting it lists) is not repeated
 
 

@@ -87,27 +87,35 @@ GROUP_PRIORITY = {
 MAX_REQUESTS = 10
 
 def request(item: ItemResult, r: Report) -> str:
-    """A polite, specific request for one missing or partial item (plain text, document words escaped).
+    """A polite, specific request for one missing or partial item, in whole sentences (document words escaped).
 
-    A partial item names what was found (with its place) and what was not, as lists after "found:" and "not
-    found:", so that any facet title reads correctly there, and asks only for what is missing; a missing item
-    gives the item's own request.
+    A partial item says what was found, with its place, and asks only for what its best way to completion still
+    lacks; a missing item gives the item's own request.
     """
+    title = f"**{escape(item.title)}.**"
     if item.status == "partial":
-        found = [f for f in item.facets if f.found]
         bits = []
-        for f in found:
+        for f in (f for f in item.facets if f.found):
             ev = _first_evidence_of(item, f)
-            bits.append(f"{_label(f.title)} ({escape(place(ev, r))})" if ev else _label(f.title))
-        head = "found: " + "; ".join(bits) if bits else "partly found"
+            bits.append(f"{_object(f.title)} ({escape(place(ev, r))})" if ev else _object(f.title))
+        head = "We found " + _join(bits) if bits else "Part of this is reported"
         lacking = lacking_parts(item)
         if lacking:
-            return (f"**{escape(item.title)}** — {head}. Could you also report "
-                    f"{_join([_label(t) for t in lacking])}?")
-        return f"**{escape(item.title)}** — {head}. {_sentence(item.ask) if item.ask else ''}".rstrip()
+            return f"{title} {head}; could you also report {_join([_object(t) for t in lacking])}?"
+        return f"{title} {head}. {_sentence(item.ask) if item.ask else ''}".rstrip()
     ask = _sentence(item.ask) if item.ask else f"Could you add: {item.question}"
     where = f"; it is {escape(item.reason)}" if item.reason.startswith("only mentioned") else ""
-    return f"**{escape(item.title)}** — not found in the document{where}. {ask}"
+    return f"{title} We could not find this in the document{where}. {ask}"
+
+
+_PARTICIPLE_START = re.compile(r"(?:[a-z]+ed|given|shown|written|known|made|kept|held)\b")
+
+
+def _object(title: str) -> str:
+    """A facet title as the object of "we found" or "could you report": a title that opens with a participle
+    ("described elsewhere only") becomes a clause ("that this is described elsewhere only")."""
+    text = escape(" ".join(title.split()))
+    return f"that this is {text}" if _PARTICIPLE_START.match(text) else text
 
 
 def lacking_parts(item: ItemResult) -> list[str]:
@@ -117,10 +125,6 @@ def lacking_parts(item: ItemResult) -> list[str]:
     if sep and tail.strip():
         return [t.strip() for t in tail.split(";") if t.strip()]
     return [f.title for f in item.facets if not f.found]
-
-
-def _label(title: str) -> str:
-    return escape(" ".join(title.split()))
 
 
 def ranked_gaps(r: Report) -> list[ItemResult]:
