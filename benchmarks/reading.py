@@ -78,7 +78,9 @@ HAND_ROLES: dict[str, dict] = {
         "methods", "data", "methods", "methods", "methods", "methods", "methods", "methods", "methods", "results",
         "discussion", "references"]},
     "81": {"pre": "body|front-matter", "roles": [
-        "body|abstract|front-matter", "introduction", "data", "methods", "methods", "results"]},
+        "body|abstract|front-matter", "introduction", "data", "data", "data|methods", "data", "methods", "methods",
+        "methods", "methods", "methods", "methods", "methods", "methods", "results", "evaluation|results", "results",
+        "results|discussion"]},
     "92": {"pre": "body|front-matter", "roles": [
         "front-matter|acknowledgements", "front-matter", "front-matter|body", "abstract", "acknowledgements",
         "introduction", "related-work", "data|body", "data", "data|methods", "data|methods", "data", "data",

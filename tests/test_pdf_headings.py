@@ -75,3 +75,39 @@ def test_two_headings_set_one_above_the_other_are_two_headings(tmp_path):
     headings = [b.text for b in read_document(path).blocks if b.kind == "heading"]
     assert headings[:2] == ["Results", "Accuracy of the readers"]
     assert "Wrapped heading that runs over the whole width of the column and on" in headings
+
+
+def test_lettered_subsections_under_roman_sections_are_headings(tmp_path):
+    pytest.importorskip("reportlab")
+    from reportlab.lib.pagesizes import A4
+    from reportlab.pdfgen import canvas
+
+    from checker.readers import read_document
+
+    path = tmp_path / "ieee.pdf"
+    c = canvas.Canvas(str(path), pagesize=A4, invariant=1)
+    y = 760
+    body = ("The fictional Lakeside readers segmented every scan by hand and agreed on one consensus mask for "
+            "each case before the methods were compared on the test set. ") * 3
+    for heading, font in (("I. INTRODUCTION", "Helvetica"), (None, None), ("II. DATASET", "Helvetica"),
+                          ("A. Data Collection", "Helvetica-Oblique"), (None, None),
+                          ("B. Reference Annotation", "Helvetica-Oblique"), (None, None),
+                          ("A. short line of a paragraph.", "Helvetica"), (None, None)):
+        if heading is None:
+            c.setFont("Helvetica", 10)
+            for k in range(0, len(body), 90):
+                c.drawString(72, y, body[k:k + 90])
+                y -= 13
+            y -= 8
+            continue
+        c.setFont(font, 10)
+        c.drawString(72, y, heading)
+        y -= 20  # set apart from the text below, as the style sets subsection headings
+    c.showPage()
+    c.save()
+    doc = read_document(path)
+    headings = [b.text for b in doc.blocks if b.kind == "heading"]
+    assert "A. Data Collection" in headings and "B. Reference Annotation" in headings
+    assert "A. short line of a paragraph." not in headings
+    data = next(b for b in doc.blocks if b.text == "B. Reference Annotation")
+    assert data.section == ("II. DATASET", "B. Reference Annotation") and data.role == "data"

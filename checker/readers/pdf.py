@@ -948,6 +948,8 @@ _LIST_START = re.compile(r"^(?:[•◦▪▫●○■□‣⁃∙·*–—-]\s+|
                          r"|\(?[ivx]{1,4}\)\s+)\S")
 _NUMBERED = re.compile(r"^(?:(?P<arabic>\d{1,2}(?:\.\d{1,2}){0,3})\.?|(?P<roman>[IVX]{1,5})\.|"
                        r"(?P<letter>[A-Z])(?:\.(?P<sub>\d{1,2}(?:\.\d{1,2}){0,2}))?\.)\s+(?=\S)")
+_ROMAN_CAPS = re.compile(r"^[IVX]{1,5}\.\s+[^a-z]{3,}$")
+_LETTERED = re.compile(r"^[A-H]\.\s+[A-Z]\S*(?:\s+\S+){0,8}$")
 _SENTENCE_END = re.compile(r"[.!?:;][\"'”’)\]]*$")
 _REFERENCE_START = re.compile(r"^(?:\[\d{1,3}\]|\d{1,3}\.)\s")
 _FOOTNOTE_START = re.compile(r"^(?:\d{1,2}|[*†‡§¶])\s*\S")
@@ -1029,6 +1031,7 @@ class _Assembler:
                 self.lowest_body[key] = min(self.lowest_body.get(key, math.inf), r.y0)
         self.words: set[str] = set()
         self.hyphenated: set[str] = set()
+        self.roman_sections = False
         # the document's own vocabulary, without the halves of words broken at line ends
         broken = False
         for r in rows:
@@ -1107,6 +1110,9 @@ class _Assembler:
         numbered = _NUMBERED.match(text)
         size = sum(r.size for r in d.rows) / len(d.rows)
         styled = all(self._bold(r) for r in d.rows) or size >= self.body + 0.9 or _caps_heading(text)
+        if not styled and self.roman_sections and len(d.rows) == 1 and _LETTERED.match(text) \
+                and len(words) <= 9 and not _SENTENCE_END.search(text):
+            return True  # "A. Data Preprocessing": a subsection in italics under "II. DATASET" (IEEE style)
         if not styled:
             return False
         return not (text.endswith(".") and not numbered and len(words) > 6)
@@ -1189,6 +1195,8 @@ class _Assembler:
 
     def blocks(self) -> list[Block]:
         drafts = self._drafts()
+        # sections numbered "II. DATASET" in capitals: then "A. Description" on a line of its own is a subsection
+        self.roman_sections = sum(1 for d in drafts if len(d.rows) == 1 and _ROMAN_CAPS.match(d.rows[0].text)) >= 2
         for d in drafts:
             if d.kind in ("paragraph", "list-item") and self._heading_like(d):
                 d.kind = "heading"
