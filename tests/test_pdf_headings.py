@@ -46,65 +46,57 @@ def test_the_outline_follows_section_paths_not_raw_levels():
         ("Abstract", "abstract", []), ("1 Introduction", "introduction", ["1.1 Aims"])]
 
 
-def test_two_headings_set_one_above_the_other_are_two_headings(tmp_path):
+BODY = ("The fictional Lakeside readers segmented every scan by hand and agreed on one consensus mask for each "
+        "case before the methods were compared on the held-out test set of the benchmark. ")
+
+
+def _pdf(path, lines: list[tuple[str | None, str, int, int]], body: str) -> None:
+    """A one-page PDF: per entry a heading (text, font, size, space below it), or None for a paragraph of body."""
     pytest.importorskip("reportlab")
     from reportlab.lib.pagesizes import A4
     from reportlab.pdfgen import canvas
 
+    c = canvas.Canvas(str(path), pagesize=A4, invariant=1)
+    y = 760
+    for text, font, size, below in lines:
+        if text is None:
+            c.setFont("Helvetica", 10)
+            for k in range(0, len(body), 90):
+                c.drawString(72, y, body[k:k + 90])
+                y -= 13
+            y -= 9
+            continue
+        c.setFont(font, size)
+        c.drawString(72, y, text)
+        y -= below
+    c.showPage()
+    c.save()
+
+
+PARAGRAPH = (None, "", 0, 0)
+
+
+def test_two_headings_set_one_above_the_other_are_two_headings(tmp_path):
     from checker.readers import read_document
 
     path = tmp_path / "stacked.pdf"
-    c = canvas.Canvas(str(path), pagesize=A4, invariant=1)
-    y = 760
-    body = ("The fictional readers of the Lakeside study segmented every scan by hand and agreed on a consensus "
-            "for each case before the methods were compared on the held-out test set of the benchmark.")
-    for heading in ("Results", "Accuracy of the readers", None, "Wrapped heading that runs over the whole width of",
-                    "the column and on", None):
-        if heading is None:
-            c.setFont("Helvetica", 10)
-            for k in range(0, len(body), 95):
-                c.drawString(72, y, body[k:k + 95])
-                y -= 13
-            y -= 10
-            continue
-        c.setFont("Helvetica-Bold", 12)
-        c.drawString(72, y, heading)
-        y -= 16
-    c.showPage()
-    c.save()
+    bold = ("Helvetica-Bold", 12, 16)
+    _pdf(path, [("Results", *bold), ("Accuracy of the readers", *bold), PARAGRAPH,
+                ("Wrapped heading that runs over the whole width of", *bold), ("the column and on", *bold), PARAGRAPH],
+         BODY)
     headings = [b.text for b in read_document(path).blocks if b.kind == "heading"]
     assert headings[:2] == ["Results", "Accuracy of the readers"]
     assert "Wrapped heading that runs over the whole width of the column and on" in headings
 
 
 def test_lettered_subsections_under_roman_sections_are_headings(tmp_path):
-    pytest.importorskip("reportlab")
-    from reportlab.lib.pagesizes import A4
-    from reportlab.pdfgen import canvas
-
     from checker.readers import read_document
 
     path = tmp_path / "ieee.pdf"
-    c = canvas.Canvas(str(path), pagesize=A4, invariant=1)
-    y = 760
-    body = ("The fictional Lakeside readers segmented every scan by hand and agreed on one consensus mask for "
-            "each case before the methods were compared on the test set. ") * 3
-    for heading, font in (("I. INTRODUCTION", "Helvetica"), (None, None), ("II. DATASET", "Helvetica"),
-                          ("A. Data Collection", "Helvetica-Oblique"), (None, None),
-                          ("B. Reference Annotation", "Helvetica-Oblique"), (None, None),
-                          ("A. short line of a paragraph.", "Helvetica"), (None, None)):
-        if heading is None:
-            c.setFont("Helvetica", 10)
-            for k in range(0, len(body), 90):
-                c.drawString(72, y, body[k:k + 90])
-                y -= 13
-            y -= 8
-            continue
-        c.setFont(font, 10)
-        c.drawString(72, y, heading)
-        y -= 20  # set apart from the text below, as the style sets subsection headings
-    c.showPage()
-    c.save()
+    caps, italic = ("Helvetica", 10, 14), ("Helvetica-Oblique", 10, 20)  # subsections set apart from the text
+    _pdf(path, [("I. INTRODUCTION", *caps), PARAGRAPH, ("II. DATASET", *caps), ("A. Data Collection", *italic),
+                PARAGRAPH, ("B. Reference Annotation", *italic), PARAGRAPH,
+                ("A. short line of a paragraph.", "Helvetica", 10, 20), PARAGRAPH], BODY * 3)
     doc = read_document(path)
     headings = [b.text for b in doc.blocks if b.kind == "heading"]
     assert "A. Data Collection" in headings and "B. Reference Annotation" in headings
