@@ -213,3 +213,26 @@ def test_damaged_xml_inside_is_an_input_error(manuscript, tmp_path):
     with pytest.raises(InputError, match="damaged"):
         read_document(bad)
 
+
+
+def test_an_abstract_first_does_not_hold_the_numbered_chapters(tmp_path):
+    # a Word manuscript whose headings are bold paragraphs: ABSTRACT first, then "1.0 INTRODUCTION" ... "4.3"
+    d = docx.Document()
+    for text, bold in (("A fictional lung nodule detector", True), ("ABSTRACT", True),
+                       ("We describe a detector for the fictional Lakeside clinic.", False),
+                       ("1.0 INTRODUCTION", True), ("Nodules are common in screening.", False),
+                       ("3.0 PROPOSED SYSTEM", True), ("The system segments the lungs first.", False),
+                       ("4.3 Reference annotation", True), ("Two readers outlined every nodule.", False)):
+        run = d.add_paragraph().add_run(text)
+        run.bold = bold
+    path = tmp_path / "abstract-first.docx"
+    d.save(path)
+    doc = read_document(path)
+    by_text = {b.text: b for b in doc.blocks}
+    assert by_text["We describe a detector for the fictional Lakeside clinic."].role == "abstract"
+    assert by_text["Nodules are common in screening."].role == "introduction"
+    system = by_text["The system segments the lungs first."]
+    assert system.role == "methods" and "ABSTRACT" not in system.section
+    annotation = by_text["Two readers outlined every nodule."]
+    assert annotation.section[-2:] == ("3.0 PROPOSED SYSTEM", "4.3 Reference annotation")
+    assert annotation.role == "methods"  # the last word of its title yields to the section it stands in
