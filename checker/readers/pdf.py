@@ -425,9 +425,15 @@ def _running_lines(pages: list[_Page]) -> dict[int, set[int]]:
     replaced by #, compared with rapidfuzz) is running. Clusters are bounded, so this stays linear in pages.
     """
     candidates: dict[int, list[tuple[str, str, list[int]]]] = {}
+    sizes: Counter[float] = Counter()
+    for page in pages:
+        for p in page.pieces:
+            sizes[round(p.size)] += p.chars
+    body = max(sizes.items(), key=lambda kv: (kv[1], -kv[0]))[0] if sizes else 10.0
     for page in pages:
         index = {id(p): i for i, p in enumerate(page.pieces)}
-        groups = _baseline_groups(list(page.pieces))
+        # running lines are set in the body's size or smaller; "CHAPTER 3" opening a chapter is set larger
+        groups = [g for g in _baseline_groups(list(page.pieces)) if max(p.size for p in g) <= body + 1.5]
         picked = groups[:3] + [g for g in groups[-3:] if g not in groups[:3]]
         entries = []
         for g in picked:
