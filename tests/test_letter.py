@@ -209,3 +209,14 @@ def test_docx_form_status_words_stay_whole_in_libreoffice(tmp_path, monkeypatch)
     for status, n in r.summary.items():
         if n:
             assert text.count(f"{glyphs[status]} {WORDS[('reported', 'partial', 'missing', 'not-applicable', 'waived').index(status)]}") >= n, status
+
+
+def test_docx_files_are_the_same_bytes_for_the_same_inputs(monkeypatch):
+    # python-docx stamps zip entries with the clock's second; the renderers stamp them with SOURCE_DATE_EPOCH
+    import time
+
+    monkeypatch.setenv("SOURCE_DATE_EPOCH", "1767225600")
+    r = report_of(MANUSCRIPT)
+    first = render("docx", [r], RenderOptions(color=False))
+    time.sleep(1.05)
+    assert render("docx", [r], RenderOptions(color=False)) == first

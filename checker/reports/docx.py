@@ -216,6 +216,25 @@ def landscape_document(title: str, when: datetime):
     return doc
 
 
+def save(doc, when: datetime) -> bytes:
+    """The document's bytes, with every zip entry stamped with ``when`` instead of the clock, so that the same
+    inputs and SOURCE_DATE_EPOCH give the same file (python-docx stamps entries with the current second)."""
+    import zipfile
+
+    raw = io.BytesIO()
+    doc.save(raw)
+    stamp = max(when, datetime(1980, 1, 1, tzinfo=timezone.utc)).timetuple()[:6]
+    out = io.BytesIO()
+    with zipfile.ZipFile(io.BytesIO(raw.getvalue())) as src, \
+            zipfile.ZipFile(out, "w", compression=zipfile.ZIP_DEFLATED) as dst:
+        for info in src.infolist():
+            entry = zipfile.ZipInfo(info.filename, date_time=stamp)
+            entry.compress_type = zipfile.ZIP_DEFLATED
+            entry.external_attr = info.external_attr
+            dst.writestr(entry, src.read(info.filename))
+    return out.getvalue()
+
+
 def render(reports: Sequence[Report], options) -> bytes:
     from docx.enum.text import WD_BREAK
 
@@ -225,6 +244,4 @@ def render(reports: Sequence[Report], options) -> bytes:
         if i:
             doc.add_paragraph().add_run().add_break(WD_BREAK.PAGE)
         _document(doc, r, options.verbose, when)
-    buf = io.BytesIO()
-    doc.save(buf)
-    return buf.getvalue()
+    return save(doc, when)

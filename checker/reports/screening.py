@@ -10,7 +10,6 @@ from __future__ import annotations
 
 import base64
 import hashlib
-import io
 from html import escape
 from typing import TYPE_CHECKING
 
@@ -349,7 +348,7 @@ def render_docx(screen: Screen) -> bytes:
     from docx.shared import Pt
 
     from ..screen import CAUTIONS, SCORE_NOTE, _summary_line, short_names
-    from .docx import _repeat_header, _widths, landscape_document, report_date, shade
+    from .docx import _repeat_header, _widths, landscape_document, report_date, save, shade
 
     when = report_date()
     doc = landscape_document("studygap screening table", when)
@@ -424,9 +423,7 @@ def render_docx(screen: Screen) -> bytes:
     doc.add_heading("Please keep in mind", level=1)
     for x in CAUTIONS:
         doc.add_paragraph(x, style="List Bullet")
-    buf = io.BytesIO()
-    doc.save(buf)
-    return buf.getvalue()
+    return save(doc, when)
 
 
 __all__ = ["render_html", "render_docx"]
