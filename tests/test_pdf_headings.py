@@ -53,24 +53,10 @@ BODY = ("The fictional Lakeside readers segmented every scan by hand and agreed 
 def _pdf(path, lines: list[tuple[str | None, str, int, int]], body: str) -> None:
     """A one-page PDF: per entry a heading (text, font, size, space below it), or None for a paragraph of body."""
     pytest.importorskip("reportlab")
-    from reportlab.lib.pagesizes import A4
-    from reportlab.pdfgen import canvas
+    from tests.pdf_drawing import draw
 
-    c = canvas.Canvas(str(path), pagesize=A4, invariant=1)
-    y = 760
-    for text, font, size, below in lines:
-        if text is None:
-            c.setFont("Helvetica", 10)
-            for k in range(0, len(body), 90):
-                c.drawString(72, y, body[k:k + 90])
-                y -= 13
-            y -= 9
-            continue
-        c.setFont(font, size)
-        c.drawString(72, y, text)
-        y -= below
-    c.showPage()
-    c.save()
+    draw(path, [[(body, "body", 10, 9) if text is None else (text, font, size, below)
+                 for text, font, size, below in lines]], wrap=90)
 
 
 PARAGRAPH = (None, "", 0, 0)

@@ -10,8 +10,7 @@ from checker.engine import check_document
 from checker.readers import read_document
 
 reportlab = pytest.importorskip("reportlab")
-from reportlab.lib.pagesizes import A4  # noqa: E402
-from reportlab.pdfgen import canvas  # noqa: E402
+from tests.pdf_drawing import draw  # noqa: E402
 
 BODY = {
     "intro": "Lung cancer is a common cause of death, and early detection of nodules on CT saves lives. ",
@@ -21,51 +20,37 @@ BODY = {
 }
 
 
-def _page(c, lines: list[tuple[str, str, int]]) -> None:
-    """One page: (text, font, size) lines, where the font "body" sets a wrapped paragraph of 11-point text."""
-    y = 770
-    for text, font, size in lines:
-        if font == "body":
-            c.setFont("Helvetica", 11)
-            for k in range(0, len(text), 88):
-                c.drawString(72, y, text[k:k + 88])
-                y -= 15
-            y -= 8
-            continue
-        c.setFont(font, size)
-        c.drawString(72, y, text)
-        y -= size + 10
-    c.showPage()
-
-
 @pytest.fixture(scope="module")
 def thesis(tmp_path_factory):
     path = tmp_path_factory.mktemp("thesis") / "thesis.pdf"
-    c = canvas.Canvas(str(path), pagesize=A4, invariant=1)
     bold = "Helvetica-Bold"
-    _page(c, [("A FICTIONAL LUNG NODULE DETECTOR", bold, 18), ("A PROJECT REPORT", bold, 14),
-              ("submitted in partial fulfilment of the requirements for the degree", "Helvetica", 11),
-              ("Lakeside Institute of Technology, 2031", "Helvetica", 11)])
-    _page(c, [("CERTIFICATE", bold, 16),
-              ("This is to certify that the project on 120 scans annotated by two readers was carried out by the "
-               "students under our guidance at the Lakeside clinic.", "body", 0)])
-    _page(c, [("TABLE OF CONTENTS", bold, 16),
-              ("1 Introduction ........................................ 1", "Helvetica", 11),
-              ("2 Literature survey ................................... 3", "Helvetica", 11),
-              ("3 Methodology: 120 scans annotated by two readers ..... 6", "Helvetica", 11),
-              ("4 Results ............................................. 9", "Helvetica", 11),
-              ("LIST OF FIGURES", bold, 16),
-              ("Figure 1 Dice score on the 30 held-out test scans ..... 10", "Helvetica", 11)])
+
+    def h(text: str, size: int, font: str = bold) -> tuple[str, str, int, int]:
+        return (text, font, size, size + 10)
+
+    pages = [
+        [h("A FICTIONAL LUNG NODULE DETECTOR", 18), h("A PROJECT REPORT", 14),
+         h("submitted in partial fulfilment of the requirements for the degree", 11, "Helvetica"),
+         h("Lakeside Institute of Technology, 2031", 11, "Helvetica")],
+        [h("CERTIFICATE", 16), ("This is to certify that the project on 120 scans annotated by two readers was "
+                                "carried out by the students under our guidance at the Lakeside clinic.",
+                                "body", 11, 8)],
+        [h("TABLE OF CONTENTS", 16), h("1 Introduction ........................................ 1", 11, "Helvetica"),
+         h("2 Literature survey ................................... 3", 11, "Helvetica"),
+         h("3 Methodology: 120 scans annotated by two readers ..... 6", 11, "Helvetica"),
+         h("4 Results ............................................. 9", 11, "Helvetica"),
+         h("LIST OF FIGURES", 16), h("Figure 1 Dice score on the 30 held-out test scans ..... 10", 11, "Helvetica")],
+    ]
     for number, title, key, subs in ((1, "INTRODUCTION", "intro", ()),
                                      (2, "LITERATURE SURVEY", "survey", ("2.1 Deep learning for nodule detection",
                                                                          "2.2 Nodule classification with CNNs")),
                                      (3, "METHODOLOGY", "method", ("3.1 Data and annotation",)),
                                      (4, "RESULTS", "results", ())):
-        lines = [(f"CHAPTER {number}", bold, 16), (title, bold, 16), (BODY[key] * 3, "body", 0)]
+        lines = [h(f"CHAPTER {number}", 16), h(title, 16), (BODY[key] * 3, "body", 11, 8)]
         for sub in subs:
-            lines += [(sub, bold, 13), (BODY[key] * 2, "body", 0)]
-        _page(c, lines)
-    c.save()
+            lines += [h(sub, 13), (BODY[key] * 2, "body", 11, 8)]
+        pages.append(lines)
+    draw(path, pages)
     return path, read_document(path)
 
 
