@@ -24,7 +24,7 @@ MAX_NODES = 200_000
 MAX_FILE_BYTES = 5 * 1024 * 1024
 
 #: files beside the checklists that are not checklists: the cross-item rules and the concept library
-NOT_CHECKLISTS = frozenset({"rules.yaml", "concepts.yaml"})
+NOT_CHECKLISTS = frozenset({"rules.yaml", "concepts.yaml", "fitted.yaml"})
 CONCEPTS_FILE = "concepts.yaml"
 SLUG = re.compile(r"^[a-z0-9][a-z0-9-]*$")
 ITEM_ID = re.compile(r"^[a-z0-9][a-z0-9-]*(\.[a-z0-9][a-z0-9-]*)+$")
@@ -85,6 +85,8 @@ class Item:
     applies_when: AppliesWhen | None = None
     examples_reported: tuple[str, ...] = ()
     examples_missing: tuple[str, ...] = ()
+    #: the concept of the library the item's facets come from ("" for an item with facets of its own)
+    concept: str = ""
 
 
 @dataclass(frozen=True)
@@ -528,6 +530,7 @@ def _item(p: _Problems, node: _Node, path: str, groups: set[str],
         applies_when=applies,
         examples_reported=ex_rep,
         examples_missing=ex_mis,
+        concept=concept.id if concept is not None else "",
     )
 
 

@@ -17,16 +17,18 @@ class FacetHits:
     facet: Facet
     hits: tuple[Hit, ...]  # valid cue hits (near satisfied, not cancelled by unless)
     score: float
+    #: how strong the best hit must be for the facet to count as found (fitted per concept, see fitted.py)
+    threshold: float = FOUND_AT
 
     @property
     def found(self) -> bool:
-        return self.score >= FOUND_AT
+        return self.score >= self.threshold
 
 
-def facet_hits(scan: Scan, ii: int, fi: int, facet: Facet) -> FacetHits:
+def facet_hits(scan: Scan, ii: int, fi: int, facet: Facet, threshold: float = FOUND_AT) -> FacetHits:
     cue_hits = scan.hits.get(key(ii, fi, CUE), [])
     if not cue_hits:
-        return FacetHits(facet, (), 0.0)
+        return FacetHits(facet, (), 0.0, threshold)
     unless = {h.sentence for h in scan.hits.get(key(ii, fi, UNLESS), [])}
     near_sents: set[int] | None = None
     if facet.near is not None:
@@ -39,7 +41,7 @@ def facet_hits(scan: Scan, ii: int, fi: int, facet: Facet) -> FacetHits:
             continue
         valid.append(h)
     score = max((facet.weight * scan.weight(h.sentence) for h in valid), default=0.0)
-    return FacetHits(facet, tuple(valid), score)
+    return FacetHits(facet, tuple(valid), score, threshold)
 
 
 def _near(scan: Scan, s: int, others: set[int], within: int) -> bool:
@@ -58,8 +60,10 @@ def needs_met(item: Item, found: set[str]) -> bool:
 
 def evaluate_item(compiled: CompiledChecklist, scan: Scan, ii: int, item: Item, waivers: dict[str, str]) -> ItemResult:
     from .facts import parse_value
+    from .fitted import threshold
 
-    per_facet = [facet_hits(scan, ii, fi, f) for fi, f in enumerate(item.facets)]
+    found_at = threshold(item.concept)
+    per_facet = [facet_hits(scan, ii, fi, f, found_at) for fi, f in enumerate(item.facets)]
     found = {fh.facet.id for fh in per_facet if fh.found}
     facets = tuple(
         FacetResult(fh.facet.id, fh.facet.title, fh.found, fh.score, len({h.sentence for h in fh.hits}))
@@ -79,7 +83,7 @@ def evaluate_item(compiled: CompiledChecklist, scan: Scan, ii: int, item: Item, 
     evidence = []
     for si, fhits in ranked:
         score = min(1.0, scan.weight(si) * sum(weights[f] for f in fhits) / max(1, len(item.facets)))
-        if scan.weight(si) * max(weights[f] for f in fhits) < FOUND_AT:
+        if scan.weight(si) * max(weights[f] for f in fhits) < found_at:
             continue
         sent = scan.sentences[si]
         spans = _merge_spans([(h.start, h.end) for hs in fhits.values() for h in hs])
@@ -93,7 +97,7 @@ def evaluate_item(compiled: CompiledChecklist, scan: Scan, ii: int, item: Item, 
     seen: set[tuple[str, int, str]] = set()
     for fh in per_facet:
         for h in fh.hits:
-            if scan.weight(h.sentence) * fh.facet.weight < FOUND_AT:
+            if scan.weight(h.sentence) * fh.facet.weight < found_at:
                 continue
             for name, text, _s, _e in h.groups:
                 k = (name, h.sentence, text)
@@ -135,10 +139,19 @@ def _status(compiled, scan, ii, item, per_facet, found, waivers) -> tuple[str, s
         lacking = [titles[f] for f in best if f not in found]
         return "partial", ("found: " + "; ".join(titles[f] for f in titles if f in found)
                            + " — not found: " + "; ".join(lacking))
-    weak = [fh for fh in per_facet if fh.hits]
+    weak = [h.sentence for fh in per_facet for h in fh.hits]
     if weak:
-        return "missing", "only mentioned in sections that count little (introduction, related work, headings)"
+        kinds = {scan.attribution(si).kind for si in weak} - {"this-study"}
+        where = [_WEAK_WORDS[k] for k in ("other-work", "background", "plan", "template") if k in kinds]
+        if any(scan.attribution(si).kind == "this-study" for si in weak):
+            where.append("sections that count little (introduction, discussion, headings)")
+        return "missing", "only mentioned in " + " and ".join(where)
     return "missing", "nothing found for: " + "; ".join(titles.values())
+
+
+#: where a cue was found that did not count, in words for the reason
+_WEAK_WORDS = {"other-work": "text about other work", "background": "general statements",
+               "plan": "plans or future work", "template": "a template's prompts"}
 
 
 def _merge_spans(spans: list[tuple[int, int]]) -> tuple[tuple[int, int], ...]:

@@ -1,0 +1,58 @@
+"""Fitted evidence thresholds: the reduction to facet scores gives the verdicts' own statuses, and the fit and
+its cross-validation choose what agrees with the labels."""
+
+import pytest
+
+from checker.errors import ChecklistError
+from checker.fitted import parse_thresholds, threshold
+from checker.fitting import ItemScores, cross_validate, fit, scores_of
+from checker.matching import FOUND_AT
+
+from .conftest import DEMO  # noqa: F401  (fixtures/demo)
+
+
+@pytest.mark.parametrize("name, checklist", [("wrist-fracture-manuscript.md", "validation-study"),
+                                             ("kidney-stone-benchmark-proposal.md", "benchmark-proposal")])
+def test_status_from_facet_scores_equals_the_report(name, checklist):
+    from checker.engine import check_document
+
+    path = DEMO / name
+    report = check_document(path, checklist)
+    labels = {it.id: "missing" for it in report.items}
+    rows = scores_of(str(path), checklist, labels)
+    assert len(rows) == len(report.items)
+    by_id = {it.id: it for it in report.items}
+    for r in rows:
+        assert r.status_at(threshold(r.concept)) == by_id[r.item_id].status, r.item_id
+
+
+def _row(doc, human, score, concept="data.source"):
+    return ItemScores(doc, concept, concept, human, (("a", score),), (("a",),), False)
+
+
+def test_fit_moves_a_threshold_only_for_a_clear_gain():
+    # evidence of 0.4 is right in six documents out of six: a lower threshold agrees with them all
+    rows = [_row(f"d{i}", "reported", 0.4) for i in range(6)]
+    assert fit(rows)["data.source"] < 0.4
+    # one document is not enough to leave the default
+    assert fit(rows[:1])["data.source"] == FOUND_AT
+
+
+def test_cross_validation_judges_each_document_with_the_others_fit():
+    rows = [_row(f"d{i}", "reported", 0.4) for i in range(6)] + [_row("odd", "missing", 0.4)]
+    judged = dict((r.document, status) for r, status in cross_validate(rows))
+    # the odd document is judged by thresholds fitted on the six others, which call its evidence reported
+    assert judged["odd"] == "reported"
+    assert all(judged[f"d{i}"] == "reported" for i in range(6))
+
+
+def test_fitted_file_values_are_checked():
+    assert parse_thresholds("thresholds:\n  data.source: 0.65\n", "f.yaml") == {"data.source": 0.65}
+    with pytest.raises(ChecklistError, match="above 0 and at most 1"):
+        parse_thresholds("thresholds:\n  data.source: 1.5\n", "f.yaml")
+    with pytest.raises(ChecklistError, match="mapping"):
+        parse_thresholds("thresholds: [1, 2]\n", "f.yaml")
+
+
+def test_an_item_without_a_concept_keeps_the_default():
+    assert threshold("") == FOUND_AT
