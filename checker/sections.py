@@ -299,6 +299,7 @@ def assign_sections(blocks: list[Block]) -> list[Block]:
     stack: list[list] = []
     # before the first section of the body; a text without any heading has no front matter to tell apart
     in_front = bool(headings)
+    under_title = True  # before any heading but the title: where a paper's authors and addresses stand
     for i, block in enumerate(blocks):
         in_toc = bool(stack) and stack[-1][2] == "front-matter"
         if block.kind == "heading" and (_LEADERS.search(block.text) or in_toc and _PAGE_NUMBER_END.search(block.text)
@@ -326,6 +327,8 @@ def assign_sections(blocks: list[Block]) -> list[Block]:
             stack.append([level, title, role, closed, 0])
             if role in _BODY_ROLES or _SECTION_NUMBER.match(title):
                 in_front = False
+            if i != title_at:
+                under_title = False
         elif stack:
             stack[-1][4] += _words(block)
         path = tuple(entry[1] for entry in stack)
@@ -333,8 +336,8 @@ def assign_sections(blocks: list[Block]) -> list[Block]:
         role = sticky or next((e[2] for e in reversed(stack) if e[2]), "body")
         if block.kind != "heading" and _is_contents_lines(block.text):
             role = "front-matter"  # lines of a table of contents or a list of figures, wherever they stand
-        elif in_front and role == "body" and block.kind != "heading" and (
-                thesis or _words(block) <= 40 and BYLINE.search(block.text)):
+        elif role == "body" and block.kind != "heading" and (
+                thesis and in_front or under_title and _words(block) <= 40 and BYLINE.search(block.text)):
             role = "front-matter"  # a title page, or the authors and their addresses under a paper's title
         out.append(dataclasses.replace(block, section=path, role=role))
     return out
