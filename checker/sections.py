@@ -299,7 +299,8 @@ def assign_sections(blocks: list[Block]) -> list[Block]:
     stack: list[list] = []
     # before the first section of the body; a text without any heading has no front matter to tell apart
     in_front = bool(headings)
-    under_title = True  # before any heading but the title: where a paper's authors and addresses stand
+    # before any heading but the title: where a paper's authors and addresses stand (a text without headings has none)
+    under_title = bool(headings)
     for i, block in enumerate(blocks):
         in_toc = bool(stack) and stack[-1][2] == "front-matter"
         if block.kind == "heading" and (_LEADERS.search(block.text) or in_toc and _PAGE_NUMBER_END.search(block.text)
