@@ -1,9 +1,14 @@
 """Accuracy on the development set: agreement of studygap with careful human labels, against our targets.
 
-    python benchmarks/accuracy.py [--dev DIR] [--jobs N] [--disagreements]
+    python benchmarks/accuracy.py [--dev DIR] [--extra DIR ...] [--jobs N] [--disagreements] [--false-positives]
 
 The labelled documents stay where they are (default ../shared/eval/dev from the repository root); only the
-JSON result is written, to benchmarks/out/accuracy.json.
+JSON result is written, to benchmarks/out/accuracy.json. Besides the figures over all documents it prints them
+for each part of the set (documents numbered below 60 are the first set, the ones the cues were first written
+from; 60 and above were added later), for each kind of document, and for each `--extra` folder of labelled
+documents (for example a set you labelled yourself and never tuned on). It also prints how often the tool's
+quotes cover the labelled passage where both sides found an item, and whose statements the tool's false
+"reported" verdicts quote.
 """
 
 from __future__ import annotations
@@ -34,6 +39,10 @@ def main(argv: list[str] | None = None) -> int:
     ap.add_argument("--resamples", type=int, default=2000)
     ap.add_argument("--disagreements", action="store_true", help="also list every disagreement with its passages")
     ap.add_argument("--out", type=Path, default=ROOT / "benchmarks" / "out" / "accuracy.json")
+    ap.add_argument("--extra", type=Path, action="append", default=[],
+                    help="another folder of labelled documents (labels/ and the documents), reported apart")
+    ap.add_argument("--false-positives", action="store_true",
+                    help="list every item the tool calls reported that the labels call missing, with its quote")
     args = ap.parse_args(argv)
 
     labels_dir = args.dev / "labels"
@@ -86,6 +95,20 @@ def main(argv: list[str] | None = None) -> int:
         print(f"{f.title:<48} {_fmt(f.value):>6}   {ivs:<34} {verdict}")
     print()
     print("not-applicable counts as missing in these figures; the confusion table in the JSON keeps it apart.")
+    kinds = {lf.path: lf.kind or "?" for lf in labels}
+    _breakdown(ev, kinds, args)
+    for extra in args.extra:
+        if not (extra / "labels").is_dir():
+            print(f"\n--extra {extra}: no labels/ folder there, left out")
+            continue
+        xl = load_labels(extra / "labels")
+        xev = evaluate(xl, jobs=args.jobs, seed=args.seed, resamples=args.resamples, source=str(extra))
+        print(f"\n=== {extra}: {xev.compared_documents} documents, {xev.pairs} item pairs "
+              f"({len(xev.errors)} could not be checked)")
+        for d in xev.errors:
+            print(f"  not checked: {Path(d.label_file).name}: {d.error}")
+        _figures_table(xev)
+        _breakdown(xev, {lf.path: lf.kind or "?" for lf in xl}, args, parts=False)
 
     args.out.parent.mkdir(parents=True, exist_ok=True)
     write_atomic(args.out, to_json(ev))
@@ -95,6 +118,71 @@ def main(argv: list[str] | None = None) -> int:
         return 1
     print("all targets met")
     return 0
+
+
+def _figures_table(ev, indent: str = "") -> None:
+    for name in ("macro_f1", "binary_kappa", "three_class_agreement"):
+        f = ev.figure(name)
+        iv = f.interval
+        ivs = f"[{iv.low:.3f} to {iv.high:.3f}]" if iv and iv.low is not None else ""
+        print(f"{indent}{f.title:<46} {_fmt(f.value):>6}  {ivs}")
+
+
+def _subset(ev, keep, resamples: int, seed: int):
+    from checker.evaluation import summarize
+
+    units = [u for u in ev.pairs_by_document if u and keep(u[0])]
+    outcomes = [d for d in ev.documents if any(u[0].label_file == d.label_file for u in units)]
+    return summarize(outcomes, units, resamples=resamples, seed=seed), len(units)
+
+
+def _coverage(pairs) -> tuple[int, int]:
+    """Agreed positives whose labelled passage the tool's quotes cover (a fragment of the labelled quote found
+    in one of the quotes, allowing small differences of extraction), and how many had a labelled quote."""
+    from rapidfuzz import fuzz
+
+    covered = total = 0
+    for p in pairs:
+        if not (p.human_positive and p.tool_positive and p.human_quote.strip()):
+            continue
+        total += 1
+        fragments = [f.strip() for f in p.human_quote.replace("…", "...").split("...") if len(f.split()) >= 3]
+        fragments = fragments or [p.human_quote]
+        if any(fuzz.partial_ratio(f.lower(), q.lower()) >= 85 for f in fragments for q in p.tool_quotes):
+            covered += 1
+    return covered, total
+
+
+def _breakdown(ev, kinds: dict[str, str], args, parts: bool = True) -> None:
+    groups = []
+    if parts:
+        def number(p) -> int:
+            head = Path(p.label_file).name.split("-")[0]
+            return int(head) if head.isdigit() else -1
+        groups += [("first set (numbered below 60)", lambda p: 0 <= number(p) < 60),
+                   ("added set (60 and above)", lambda p: number(p) >= 60)]
+    groups += [(f"kind {k}", lambda p, k=k: kinds.get(p.label_file) == k) for k in sorted(set(kinds.values()))]
+    print()
+    for title, keep in groups:
+        sub, n = _subset(ev, keep, args.resamples, args.seed)
+        if not n:
+            continue
+        print(f"{title}: {n} documents, {sub.pairs} item pairs")
+        _figures_table(sub, "  ")
+    pairs = [p for u in ev.pairs_by_document for p in u]
+    covered, total = _coverage(pairs)
+    if total:
+        print(f"\nquotes covering the labelled passage, where both sides found the item: {covered}/{total} "
+              f"= {covered / total:.3f}")
+    false_rep = [p for p in pairs if p.tool == "reported" and p.human in ("missing", "not-applicable")]
+    by_attr: dict[str, int] = {}
+    for p in false_rep:
+        by_attr[p.tool_attribution or "?"] = by_attr.get(p.tool_attribution or "?", 0) + 1
+    print(f"false 'reported' (labels say missing or not applicable): {len(false_rep)}; whose statement the tool "
+          "quoted: " + (", ".join(f"{k} {v}" for k, v in sorted(by_attr.items())) or "none"))
+    if args.false_positives:
+        for p in false_rep:
+            print(f"  {Path(p.document).name[:40]} {p.item_id}: \"{p.tool_evidence[:220]}\" ({p.tool_location})")
 
 
 if __name__ == "__main__":

@@ -352,6 +352,9 @@ class Pair:
     tool_evidence: str = ""
     tool_location: str = ""
     tool_reason: str = ""
+    #: every passage the tool quoted for the item, and whose statement the first one is (see attribution.py)
+    tool_quotes: tuple[str, ...] = ()
+    tool_attribution: str = ""
 
     @property
     def human_positive(self) -> bool:
@@ -469,6 +472,8 @@ class Evaluation:
     level: float
     notes: tuple[str, ...] = ()
     cautions: tuple[str, ...] = CAUTIONS
+    #: every compared pair, grouped by document (for figures on parts of the sample; not in the JSON)
+    pairs_by_document: tuple[tuple[Pair, ...], ...] = ()
 
     def figure(self, name: str) -> Figure:
         for f in self.figures:
@@ -518,7 +523,8 @@ def pairs_for(label: LabelFile, report: Any) -> tuple[list[Pair], list[str]]:
             document=label.document, label_file=label.path, item_id=it.id, title=it.title,
             human=lab.status, tool=tool, human_quote=lab.quote, human_location=lab.location, human_note=lab.note,
             tool_evidence=ev.text if ev else "", tool_location=ev.location.describe() if ev else "",
-            tool_reason=it.reason,
+            tool_reason=it.reason, tool_quotes=tuple(e.text for e in it.evidence),
+            tool_attribution=getattr(ev, "attribution", "") if ev else "",
         ))
     return pairs, sorted(wanted)
 
@@ -637,6 +643,7 @@ def summarize(
         resamples=resamples,
         level=level,
         notes=tuple(notes),
+        pairs_by_document=tuple(units),
     )
 
 
