@@ -47,7 +47,7 @@ _OTHERS = re.compile(
     r"numerous|various)\s+(?:\w+\s+){0,2}?(?:studies|works?|papers|methods|approaches|authors|researchers|"
     r"investigators|groups|challenges|competitions|benchmarks|datasets|efforts|reports|publications|"
     r"reviews|surveys)|(?:in|by)\s+(?:a\s+)?(?:previous|prior|earlier|recent|related|their|another|other)\b|"
-    r"(?:they|their|these\s+authors|the\s+authors\s+of|[A-Z][\w'’-]+\s+et\s+al))\b"
+    r"(?:these\s+authors|the\s+authors\s+of|[A-Z][\w'’-]+\s+et\s+al))\b"
     r"|\b(?:has|have|had)\s+been\s+(?:proposed|reported|shown|introduced|developed|suggested|used|"
     r"demonstrated|investigated|studied|described)\s+(?:by|in)\b"
     r"|\b(?:was|were)\s+(?:proposed|introduced|developed|reported)\s+(?:by|in)\s+(?!this\b|the\s+present\b)",

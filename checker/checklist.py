@@ -185,6 +185,8 @@ class _Problems:
         #: compiled by the test-suite, so at run time theirs are compiled when first needed
         self.compile_regexes = compile_regexes
         self.items: list[tuple[int, int, str]] = []
+        #: word lists of the concept library, written {NAME} inside a regex (see expand_vocabulary)
+        self.vocabulary: dict[str, str] = {}
 
     def add(self, node: _Node | None, path: str, message: str) -> None:
         line, col = (node.line, node.column) if node is not None else (1, 1)
@@ -357,6 +359,7 @@ def _cues(p: _Problems, fields: dict[str, _Node], path: str) -> Cues:
     regexes = []
     for i, r in enumerate(_texts(p, fields.get("regex"), _join(path, "regex"))):
         rnode = fields["regex"].value[i] if isinstance(fields["regex"].value, list) else fields["regex"]
+        r = expand_vocabulary(r, p.vocabulary)
         ok = _check_regex(p, rnode, f"{_join(path, 'regex')}[{i}]", r)
         if ok:
             regexes.append(ok)
@@ -560,11 +563,43 @@ def _compose(text: str, file: str) -> _Node:
     return root
 
 
+_VOCAB_NAME = re.compile(r"^[A-Z][A-Z0-9_]*$")
+
+
+def expand_vocabulary(pattern: str, vocabulary: dict[str, str]) -> str:
+    """The regex with each {NAME} of the vocabulary replaced by its words as one group; other braces stay."""
+    if not vocabulary or "{" not in pattern:
+        return pattern
+    return re.sub(r"\{([A-Z][A-Z0-9_]*)\}", lambda m: vocabulary.get(m.group(1), m.group(0)), pattern)
+
+
+def _vocabulary(p: _Problems, node: _Node | None) -> dict[str, str]:
+    """Named word lists as regex groups, longest words first (so "scans" is tried before "scan")."""
+    out: dict[str, str] = {}
+    if node is None or not _expect(p, node, "vocabulary", dict):
+        return out
+    from .facts import MACROS
+
+    for name, (knode, vnode) in node.value.items():
+        if not _VOCAB_NAME.match(name) or name in MACROS:
+            p.add(knode, f"vocabulary -> {name}", "a word list's name is upper-case letters, digits and '_', "
+                                                    f"and not one of {', '.join(sorted(MACROS))}")
+            continue
+        words = _texts(p, vnode, f"vocabulary -> {name}")
+        if not words:
+            p.add(vnode, f"vocabulary -> {name}", "a word list needs at least one word")
+            continue
+        alts = sorted({re.escape(w).replace("\\ ", r"\s+") for w in words}, key=lambda w: (-len(w), w))
+        out[name] = "(?:" + "|".join(alts) + ")"
+    return out
+
+
 def parse_concepts(text: str, file: str, *, compile_regexes: bool = True) -> dict[str, Concept]:
     """The concept library: every concept by id, validated like a checklist (all problems at once)."""
     p = _Problems(file, compile_regexes)
     root = _compose(text, file)
-    top = _keys(p, root, "", {"id", "version", "concepts"}, {"description"})
+    top = _keys(p, root, "", {"id", "version", "concepts"}, {"description", "vocabulary"})
+    p.vocabulary = _vocabulary(p, top.get("vocabulary"))
     out: dict[str, Concept] = {}
     if "concepts" in top and _expect(p, top["concepts"], "concepts", list):
         for i, cnode in enumerate(top["concepts"].value):
