@@ -89,8 +89,9 @@ _GENERAL = re.compile(
 #: section roles whose sentences speak of others or in general unless they say otherwise
 _OTHER_ROLES = frozenset({"related-work"})
 _BACKGROUND_ROLES = frozenset({"introduction", "requirements"})
-#: sections that frame a study: a sentence there speaks of this study only when it says so ("we", "our data")
-_FRAMING_ROLES = frozenset({"introduction", "discussion", "limitations", "requirements"})
+#: sections that frame a study: a sentence there speaks of this study only when it says so ("we", "our data");
+#: a limitations section speaks of the study itself
+_FRAMING_ROLES = frozenset({"introduction", "discussion", "requirements"})
 
 
 @dataclass(frozen=True)

@@ -1,0 +1,83 @@
+"""The concept library: concepts defined once and shared by the checklists, validated like a checklist."""
+
+import pytest
+
+from checker.checklist import builtin_concepts, load_checklist, parse_checklist, parse_concepts
+from checker.engine import check_text
+from checker.errors import ChecklistError
+
+SHARED = ["data.source", "data.counts", "data.split", "data.external-policy", "reference.annotators",
+          "reference.expertise", "reference.protocol", "reference.fusion", "reference.agreement",
+          "reference.blinding", "results.missing", "metrics.definition", "metrics.aggregation", "ranking.method",
+          "ranking.uncertainty", "availability.data-code", "governance.organizer-participation"]
+
+
+@pytest.mark.parametrize("cid", ["validation-study", "benchmark-proposal", "dataset-description"])
+def test_every_shared_item_takes_its_cues_from_the_library(cid):
+    checklist = load_checklist(cid)
+    concepts = builtin_concepts()
+    for item in checklist.items:
+        if item.id in SHARED:
+            assert item.concept == item.id
+            library = {f.id for f in concepts[item.id].facets}
+            assert {f.id for f in item.facets} <= library
+
+
+def test_a_cue_added_to_a_concept_reaches_every_checklist():
+    # the same sentence, one concept: all three checklists find the single-reader design
+    sentence = "Each image was labelled by a single radiologist."
+    for cid in ("validation-study", "benchmark-proposal", "dataset-description"):
+        item = next(it for it in check_text(sentence, cid).items if it.id == "reference.fusion")
+        assert item.status == "reported", cid
+
+
+LIB = """id: concepts
+version: "1"
+vocabulary:
+  PET: [cats, dogs, guinea pigs]
+concepts:
+  - id: demo.pets
+    facets:
+      - id: count
+        regex: ['\\b{NUMBER}\\s+{PET}\\b']
+      - id: word
+        phrases: [pets]
+    needs: [[count]]
+"""
+
+
+def test_vocabulary_words_become_one_regex_group():
+    lib = parse_concepts(LIB, "lib.yaml")
+    rx = lib["demo.pets"].facets[0].cues.regex[0]
+    assert "guinea\\s+pigs" in rx and "{PET}" not in rx
+
+
+def _checklist(item_yaml: str) -> str:
+    return ("id: demo\ntitle: Demo\nversion: 1\nitems:\n  - id: demo.pets\n    group: g\n    title: Pets\n"
+            "    question: q?\n    why: w\n    ask: a\n" + item_yaml)
+
+
+def test_an_item_may_choose_facets_and_needs_of_its_concept():
+    lib = parse_concepts(LIB, "lib.yaml")
+    cl = parse_checklist(_checklist("    concept: demo.pets\n    uses: [word]\n"), "c.yaml", concepts=lib)
+    item = cl.items[0]
+    assert [f.id for f in item.facets] == ["word"] and item.needs == (("word",),)
+
+
+@pytest.mark.parametrize("item_yaml, message", [
+    ("    concept: demo.pet\n", "no concept 'demo.pet' in the concept library (did you mean 'demo.pets'?)"),
+    ("    concept: demo.pets\n    uses: [colour]\n", "names facet 'colour', which concept 'demo.pets' does not have"),
+    ("    concept: demo.pets\n    facets:\n      - id: x\n        phrases: [x]\n",
+     "takes its facets from its concept or lists its own, not both"),
+])
+def test_concept_mistakes_are_located(item_yaml, message):
+    lib = parse_concepts(LIB, "lib.yaml")
+    with pytest.raises(ChecklistError) as exc:
+        parse_checklist(_checklist(item_yaml), "c.yaml", concepts=lib)
+    text = str(exc.value)
+    assert message in text and "c.yaml:" in text
+
+
+def test_a_bad_vocabulary_name_is_located():
+    with pytest.raises(ChecklistError, match=r"lib.yaml:4:\d+: vocabulary -> pets: a word list's name"):
+        parse_concepts(LIB.replace("PET:", "pets:"), "lib.yaml")
