@@ -94,7 +94,11 @@ def build_parser() -> argparse.ArgumentParser:
 
     c = sub.add_parser("check", help="the gap report for each document", description=CHECK_DESCRIPTION,
                        epilog=_with_example("check", EPILOG), formatter_class=argparse.RawDescriptionHelpFormatter)
-    c.add_argument("files", nargs="+", metavar="FILE", help="PDF, DOCX, LaTeX, Markdown, HTML or text files")
+    c.add_argument("files", nargs="+", metavar="FILE", help="PDF, DOCX, LaTeX, Markdown, HTML or text files "
+                   "(a LaTeX section file is checked as part of the main file that reads it)")
+    c.add_argument("--together", action="store_true",
+                   help="read all the files (or a folder's files, in the order of their names) as one document: "
+                        "a website's pages, a paper and its supplement")
     c.add_argument("--checklist", default=None, metavar="ID|PATH",
                    help="built-in checklist id, a YAML file, or 'auto' (default: chosen from the document's words)")
     c.add_argument("--format", "-f", default="terminal", choices=names(), help="output format (default terminal)")
@@ -189,8 +193,23 @@ def cmd_check(args) -> int:
         raise UsageError(f"the {args.format} format is a file: give -o PATH")
     reports = []
     errors = []
+    from .engine import check_together, main_documents
     from .progress import progress_bar
 
+    if args.together:
+        from .readers import files_in_order
+
+        paths = [str(q) for f in args.files for q in (files_in_order(f) if Path(f).is_dir() else [Path(f)])]
+        if not paths:
+            raise UsageError(f"{args.files[0]}: no documents to read there")
+        report = check_together(paths, checklist, config, limits)
+        out = render(args.format, [report], RenderOptions(verbose=args.verbose, color=_color(args), many=False,
+                                                         all_requests=args.all_requests))
+        _write(out, args.output, paths)
+        return _fail_code([report], fail_on)
+    args.files, notes = main_documents(args.files)
+    for note in notes:
+        print(f"studygap: {note}", file=sys.stderr)
     try:
         with progress_bar("checking documents", len(args.files), args.quiet) as progress:
             for f in args.files:
@@ -214,6 +233,10 @@ def cmd_check(args) -> int:
         _write(out, args.output, args.files)
     if errors:
         return ExitCode.SOME_INPUTS_FAILED
+    return _fail_code(reports, fail_on)
+
+
+def _fail_code(reports, fail_on: str | None) -> int:
     if fail_on:
         bad = {"missing"} if fail_on == "missing" else {"missing", "partial"}
         if any(it.status in bad for r in reports for it in r.items):

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import dataclasses
+import os
 from functools import lru_cache
 from pathlib import Path
 
@@ -154,6 +155,48 @@ def check_document(
     if k is not None and report.sha256 == hashlib.sha256(data).hexdigest():  # not changed while being read
         resultcache.put(k, report)
     return report
+
+
+def check_together(
+    paths: list[str | Path],
+    checklist: str = AUTO,
+    config: Config | None = None,
+    limits: Limits = DEFAULT_LIMITS,
+) -> Report:
+    """One report for several files read as one document in the order given (a website's pages, a paper and
+    its supplement); every passage names its own file. Not cached: the result depends on all the files."""
+    from . import regexcache
+    from .limits import time_limit
+    from .nlp import parse_blocks
+    from .readers import read_together
+
+    if not paths:
+        raise ValueError("check_together needs at least one file")
+    with time_limit(paths[0], limits.seconds):
+        report = _check([str(p) for p in paths], checklist, config or Config(), limits, read_together, parse_blocks)
+    regexcache.save()
+    return report
+
+
+def main_documents(paths: list[str]) -> tuple[list[str], list[str]]:
+    """The files to check for these paths: a LaTeX section file is replaced by the main files that read it
+    (each checked once, in the order first named), and a sentence for each replacement."""
+    from .readers.latex import main_files_for
+
+    out: list[str] = []
+    notes: list[str] = []
+    for p in paths:
+        mains = main_files_for(Path(p)) if str(p).lower().endswith(".tex") else []
+        if not mains:
+            targets = [p]
+        else:
+            targets = [os.path.relpath(m) if not Path(p).is_absolute() else str(m) for m in mains]
+            notes.append(f"{p} is part of {', '.join(targets)}; checked {'that' if len(targets) == 1 else 'those'}"
+                         " instead")
+        for t in targets:
+            if t not in out:
+                out.append(t)
+    return out, notes
 
 
 def _check(path, checklist, config, limits, read_document, parse_blocks) -> Report:
