@@ -8,10 +8,13 @@ from __future__ import annotations
 import dataclasses
 import os
 import shutil
+import signal
 import tempfile
+import threading
+from contextlib import contextmanager
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Any, Callable, Sequence
+from typing import Any, Callable, Iterator, Sequence
 
 from .config import Config
 from .errors import StudygapError, UsageError
@@ -38,12 +41,62 @@ class BatchResult:
         return self.report is not None
 
 
+class Terminated(KeyboardInterrupt):
+    """SIGTERM, turned into an interruption so that a batch ends as after Ctrl-C: workers stopped, nothing written."""
+
+
+@contextmanager
+def stop_on_terminate() -> Iterator[None]:
+    """Inside, SIGTERM raises Terminated (a KeyboardInterrupt) in the main thread instead of ending the process
+    on the spot, so that the clean-up of an interrupted batch runs. Elsewhere (another thread, no SIGTERM, a
+    SIGTERM that the caller ignores) it does nothing."""
+    if (not hasattr(signal, "SIGTERM") or threading.current_thread() is not threading.main_thread()
+            or signal.getsignal(signal.SIGTERM) is signal.SIG_IGN):
+        yield
+        return
+
+    def terminated(signum, frame):  # noqa: ARG001
+        raise Terminated
+
+    previous = signal.signal(signal.SIGTERM, terminated)
+    try:
+        yield
+    finally:
+        signal.signal(signal.SIGTERM, previous)
+
+
+def _die_with_parent(parent: int) -> None:
+    """Linux: this worker gets SIGKILL when its parent dies, even by SIGKILL, so no worker outlives a killed run."""
+    try:
+        import ctypes
+
+        libc = ctypes.CDLL(None, use_errno=True)
+        pr_set_pdeathsig = 1
+        libc.prctl(pr_set_pdeathsig, int(signal.SIGKILL), 0, 0, 0)
+    except (OSError, AttributeError, ValueError):  # not Linux: the parent's clean-up still ends its workers
+        return
+    if os.getppid() != parent:  # the parent died before the request was made
+        os._exit(1)
+
+
+def _start_worker(checklist: str, parent: int) -> None:
+    """A pool worker: Ctrl-C at a terminal reaches the whole process group, but only the parent decides (it
+    ends the workers), so workers ignore SIGINT and print no tracebacks; SIGTERM ends a worker at once (a
+    forked worker would otherwise inherit the parent's handler)."""
+    signal.signal(signal.SIGINT, signal.SIG_IGN)
+    signal.signal(signal.SIGTERM, signal.SIG_DFL)
+    _die_with_parent(parent)
+    warm(checklist)
+
+
 def warm(checklist: str = "auto") -> None:
     """Build this process's spaCy pipeline and compiled checklists once, before the first document arrives."""
     from .checklist import builtin_ids
     from .engine import AUTO, check_text, compiled_for
+    from .limits import start_helper_threads
     from .nlp import pipeline
 
+    start_helper_threads()  # Ctrl-C and the time limit must reach the main thread, not a library's helper
     pipeline()
     # a broken checklist is reported per document by check_one; warming must not kill the worker
     try:
@@ -155,17 +208,18 @@ def run_batch(
     config = config or Config()
     if not names:
         return []
-    if engine == "dask":
-        return _run_dask(names, checklist, config, limits, scheduler, client, send, progress, cache)
-    jobs = jobs or os.cpu_count() or 1
-    if jobs == 1 or len(names) == 1:
-        out = []
-        for i, p in enumerate(names, start=1):
-            out.append(check_one(p, checklist, config, limits, cache=cache))
-            if progress is not None:
-                progress(i, len(names), p)
-        return out
-    return _run_pool(names, checklist, config, limits, min(jobs, len(names)), progress, cache)
+    with stop_on_terminate():  # SIGTERM ends the batch like Ctrl-C: workers stopped, KeyboardInterrupt raised
+        if engine == "dask":
+            return _run_dask(names, checklist, config, limits, scheduler, client, send, progress, cache)
+        jobs = jobs or os.cpu_count() or 1
+        if jobs == 1 or len(names) == 1:
+            out = []
+            for i, p in enumerate(names, start=1):
+                out.append(check_one(p, checklist, config, limits, cache=cache))
+                if progress is not None:
+                    progress(i, len(names), p)
+            return out
+        return _run_pool(names, checklist, config, limits, min(jobs, len(names)), progress, cache)
 
 
 def _run_pool(names: list[str], checklist: str, config: Config, limits: Limits, jobs: int,
@@ -178,7 +232,8 @@ def _run_pool(names: list[str], checklist: str, config: Config, limits: Limits, 
     if multiprocessing.get_start_method() == "fork":
         # forked workers share what this process has built (copy-on-write), so build it once here
         warm(checklist)
-    with ProcessPoolExecutor(max_workers=jobs, initializer=warm, initargs=(checklist,)) as pool:
+    pool = ProcessPoolExecutor(max_workers=jobs, initializer=_start_worker, initargs=(checklist, os.getpid()))
+    try:
         futures = {pool.submit(check_one, p, checklist, config, limits, None, cache): i for i, p in enumerate(names)}
         for done, fut in enumerate(as_completed(futures), start=1):
             i = futures[fut]
@@ -189,7 +244,34 @@ def _run_pool(names: list[str], checklist: str, config: Config, limits: Limits, 
                                                          "unexpectedly (out of memory?)")
             if progress is not None:
                 progress(done, len(names), names[i])
+    except BaseException:  # Ctrl-C, SIGTERM, a failing progress display: the workers stop now, not at the end
+        _stop_pool(pool)
+        raise
+    pool.shutdown(wait=True)
     return [r for r in results if r is not None]
+
+
+def _stop_pool(pool: Any, grace: float = 2.0) -> None:
+    """End a process pool at once: queued documents are dropped and running workers terminated (then killed
+    if they have not gone within `grace` seconds)."""
+    import time
+
+    processes = list((getattr(pool, "_processes", None) or {}).values())
+    for proc in processes:
+        try:
+            proc.terminate()
+        except (OSError, AttributeError, ValueError):
+            pass
+    pool.shutdown(wait=False, cancel_futures=True)
+    deadline = time.monotonic() + grace
+    for proc in processes:
+        try:
+            proc.join(max(0.0, deadline - time.monotonic()))
+            if proc.is_alive():
+                proc.kill()
+                proc.join(1.0)
+        except (OSError, AttributeError, ValueError, AssertionError):
+            pass
 
 
 def _run_dask(names: list[str], checklist: str, config: Config, limits: Limits, scheduler: str | None, client: Any,

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import signal
+import sys
 import threading
 from collections.abc import Iterator
 from contextlib import contextmanager
@@ -32,6 +33,52 @@ class _Expired(BaseException):
     """Raised by the alarm; a BaseException so that readers' broad ``except Exception`` cannot swallow it."""
 
 
+#: the signals that must interrupt the main thread: Ctrl-C, kill, a closed terminal, the time limit's alarm
+_MAIN_THREAD_SIGNALS = tuple(getattr(signal, n) for n in ("SIGINT", "SIGTERM", "SIGHUP", "SIGQUIT", "SIGALRM")
+                             if hasattr(signal, n))
+
+
+@contextmanager
+def signals_stay_with_main_thread() -> Iterator[None]:
+    """Threads started inside, by Python or by a C library, are born with Ctrl-C, SIGTERM and the time limit's
+    alarm blocked, so that the kernel always hands those signals to the main thread.
+
+    A signal sent to a process goes to any one thread that does not block it. When a library's helper thread
+    gets it (OpenBLAS starts one per extra CPU when numpy is imported), Python notes it but the main thread,
+    waiting in a read (a named pipe, a stalled network file), is never woken: Ctrl-C and --seconds then do
+    nothing. A thread inherits the signal mask of the thread that starts it, so the main thread blocks these
+    signals while the threads are started and unblocks them afterwards (one that arrives meanwhile is
+    delivered then). Outside the main thread, or without pthread_sigmask, it does nothing.
+    """
+    if not hasattr(signal, "pthread_sigmask") or threading.current_thread() is not threading.main_thread():
+        yield
+        return
+    previous = signal.pthread_sigmask(signal.SIG_BLOCK, _MAIN_THREAD_SIGNALS)
+    try:
+        yield
+    finally:
+        signal.pthread_sigmask(signal.SIG_SETMASK, previous)
+
+
+_helpers_started = False
+
+
+def start_helper_threads() -> None:
+    """Load numpy (spaCy needs it) with signals_stay_with_main_thread, once per process, unless it is loaded
+    already: its BLAS helper threads then never take a signal meant for the main thread."""
+    global _helpers_started
+    if _helpers_started or threading.current_thread() is not threading.main_thread():
+        return
+    _helpers_started = True
+    if "numpy" in sys.modules:
+        return
+    with signals_stay_with_main_thread():
+        try:
+            import numpy  # noqa: F401
+        except ImportError:
+            pass
+
+
 @contextmanager
 def time_limit(path: str | Path, seconds: float) -> Iterator[None]:
     """Stop the work inside with an InputError for path once it has taken `seconds` of wall time.
@@ -39,6 +86,7 @@ def time_limit(path: str | Path, seconds: float) -> Iterator[None]:
     Uses SIGALRM, so it bounds only in the main thread on POSIX (elsewhere it does nothing); inside an outer
     time_limit it leaves the outer bound in charge.
     """
+    start_helper_threads()  # before the alarm: so that it reaches the main thread, whatever the work starts
     usable = (seconds > 0 and hasattr(signal, "setitimer")
               and threading.current_thread() is threading.main_thread()
               and signal.getitimer(signal.ITIMER_REAL)[0] == 0)

@@ -258,45 +258,46 @@ def test_inputs_are_unchanged_and_no_partial_output_is_left(corpus_run):
     assert not list(out.parent.glob("*.part"))
 
 
-def _wait_for_reader(fifo: Path, seconds: float = 60) -> int:
-    """Open the FIFO for writing as soon as the batch opens it for reading: the run is then mid-batch."""
+def as_in_a_terminal() -> None:
+    """In the child before exec: SIGINT at its default, as for a command a user runs in a terminal (a runner that
+    starts the tests in the background without job control leaves SIGINT ignored, and a program rightly keeps it
+    so)."""
+    signal.signal(signal.SIGINT, signal.SIG_DFL)
+
+
+def _wait_until(ready, proc: subprocess.Popen, seconds: float = 120) -> None:
     deadline = time.monotonic() + seconds
-    while True:
-        try:
-            return os.open(fifo, os.O_WRONLY | os.O_NONBLOCK)
-        except OSError:  # no reader yet
-            if time.monotonic() > deadline:
-                raise
-            time.sleep(0.05)
+    while not ready():
+        assert proc.poll() is None, proc.communicate()
+        assert time.monotonic() < deadline, "the batch never got past its first document"
+        time.sleep(0.05)
 
 
 def test_interrupted_batch_leaves_no_output_and_says_so(corpus, tmp_path):
-    docs = []
-    for i in range(1):
-        d = tmp_path / f"study-{i}.md"
-        d.write_bytes(corpus["good_markdown"].read_bytes())
-        docs.append(d.name)
-    os.mkfifo(tmp_path / "study-2.md")  # the second document blocks until we know the first is checked
+    (tmp_path / "study-0.md").write_bytes(corpus["good_markdown"].read_bytes())
+    (tmp_path / "study-2.md").write_bytes(corpus["long_line_markdown"].read_bytes())  # takes minutes to check
     (tmp_path / "out.json").write_text("the previous report\n")
-    env = {**os.environ, "NO_COLOR": "1", "PYTHONPATH": str(ROOT)}
-    proc = subprocess.Popen([sys.executable, "-m", "checker.cli", "check", *docs, "study-2.md", "study-3.md",
+    cache = tmp_path / "cache"  # empty, as on a fresh clone: the first document loads spaCy and numpy afresh
+    env = {**os.environ, "NO_COLOR": "1", "PYTHONPATH": str(ROOT), "STUDYGAP_CACHE_DIR": str(cache)}
+    proc = subprocess.Popen([sys.executable, "-m", "checker.cli", "check", "study-0.md", "study-2.md", "study-3.md",
                              "-f", "json", "-o", "out.json"],
-                            cwd=tmp_path, stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True, env=env)
-    fd = None
+                            cwd=tmp_path, stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True, env=env,
+                            preexec_fn=as_in_a_terminal)
     try:
-        fd = _wait_for_reader(tmp_path / "study-2.md")
+        # the first report is kept in the cache as soon as it is done: the batch is then on the second document
+        _wait_until(lambda: [p for p in (cache / "results").glob("*") if not p.name.startswith(".")], proc)
+        time.sleep(0.5)
         proc.send_signal(signal.SIGINT)
         _, stderr = proc.communicate(timeout=60)
     finally:
-        if fd is not None:
-            os.close(fd)
         if proc.poll() is None:
             proc.kill()
+            proc.wait()
     assert "Traceback" not in stderr
-    assert proc.returncode == 130
+    assert proc.returncode == 130, stderr
     assert "interrupted after 1 of 3 documents; no output was written" in stderr
     assert (tmp_path / "out.json").read_text() == "the previous report\n"  # old output kept whole
-    assert not list(tmp_path.glob("*.part"))
+    assert not list(tmp_path.glob("*.part")) and not list(tmp_path.glob(".*.part"))
 
 
 # ------------------------------------------------------------------------------------ time limit per document
