@@ -7,6 +7,12 @@ stale report) and the versions of Python and of the libraries that read and matc
 is not cached, because its parts live in other files. Reports are kept in ``results/`` of the cache folder
 (see checker.regexcache.cache_dir), at most _MAX_ENTRIES of them, and read back as studygap's own records
 only. ``--no-cache`` or ``STUDYGAP_CACHE_DIR=off`` turns it off.
+
+An entry is trusted no further than it is checked: its file must carry this installation's signature (see
+checker.regexcache.read_signed), it must name the key it was asked for, the path and the SHA-256 of the file
+being checked, and the report in it must be made of studygap's records with the declared field types, known
+statuses, small numbers, no cycles and a bounded size. An entry that fails is deleted (the check runs afresh and
+writes a sound one) and said in ``notices``.
 """
 
 from __future__ import annotations
@@ -18,16 +24,26 @@ import json
 import os
 import pickle
 import sys
+import types
+import typing
 from functools import lru_cache
 from pathlib import Path
 
 from .config import Config
 from .limits import Limits
-from .regexcache import cache_dir, pickle_atomically
-from .report import Report
+from .regexcache import cache_dir, pickle_atomically, read_signed
+from .report import STATUS_ORDER, Report
 
 _MAX_ENTRIES = 500
-_FORMAT = "1"  # bump when the stored form of a Report changes
+_FORMAT = "2"  # bump when the stored form of a Report changes
+_MAX_ENTRY_BYTES = 64 * 1024 * 1024  # a report of a 2000-page document is a few MB
+_MAX_NODES = 2_000_000  # values visited in one report, shared ones each time they are reached (no fan-out bomb)
+_MAX_DEPTH = 40
+_MAX_INT_BITS = 256  # counts, pages, spans and parsed numbers; a 5,000-digit number is no fact of a report
+#: what key() saw for each key it made: the path as named and the SHA-256 of the bytes (an entry must match both)
+_expected: dict[str, tuple[str, str]] = {}
+#: one line per entry that was refused and deleted in this process (for --verbose)
+notices: list[str] = []
 _UNCACHED_SUFFIXES = (".tex", ".ltx", ".latex")
 #: the distributions whose behaviour shapes a report (reading, sentences, matching, YAML)
 _LIBRARIES = ("spacy", "spacy-lookups-data", "pdfminer.six", "pypdfium2", "python-docx", "rapidfuzz", "PyYAML",
@@ -83,9 +99,14 @@ def key(path: str | Path, data: bytes, checklist: str, config: Config, limits: L
         "limits": {k: v for k, v in dataclasses.asdict(limits).items() if k != "seconds"},
         "code": _code_stamp(),
     }
-    h = hashlib.sha256(hashlib.sha256(data).digest())
+    digest = hashlib.sha256(data).digest()
+    h = hashlib.sha256(digest)
     h.update(json.dumps(settings, sort_keys=True, default=str).encode())
-    return h.hexdigest()
+    k = h.hexdigest()
+    if len(_expected) > 10_000:
+        _expected.clear()
+    _expected[k] = (str(path), digest.hex())
+    return k
 
 
 def _folder() -> Path | None:
@@ -108,29 +129,139 @@ class _ReportsOnly(pickle.Unpickler):
         raise pickle.UnpicklingError(f"{module}.{name} is not one of studygap's records")
 
 
-def get(k: str | None) -> Report | None:
+def get(k: str | None, path: str | Path | None = None, sha256: str | None = None) -> Report | None:
+    """The kept report for key k, or None. It must be the one key() made k for: the same path as named and the
+    same SHA-256 (give them when k did not come from key() in this process)."""
     folder = _folder()
     if k is None or folder is None:
         return None
-    path = folder / f"{k}.pickle"
-    try:
-        report = _ReportsOnly(io.BytesIO(path.read_bytes())).load()
-    except Exception:  # absent, damaged, or from an older studygap: check afresh
+    expected = (str(path), sha256) if path is not None and sha256 is not None else _expected.get(k)
+    if expected is None:
         return None
-    if not isinstance(report, Report):
+    entry_path = folder / f"{k}.pickle"
+    data = read_signed(entry_path, _MAX_ENTRY_BYTES)
+    if data is None:  # absent, damaged, not ours, or from an older studygap: check afresh
+        if entry_path.exists():
+            _drop(entry_path, "its signature does not verify")
         return None
     try:
-        os.utime(path)  # recently used entries are the ones kept
+        entry = _ReportsOnly(io.BytesIO(data)).load()
+    except Exception:  # noqa: BLE001 - signed by us but unreadable (another studygap): check afresh
+        _drop(entry_path, "it cannot be read back")
+        return None
+    problem = _entry_problem(entry, k, *expected)
+    if problem:
+        _drop(entry_path, problem)
+        return None
+    try:
+        os.utime(entry_path)  # recently used entries are the ones kept
     except OSError:
         pass
-    return report
+    return entry["report"]
 
 
 def put(k: str | None, report: Report) -> None:
     folder = _folder()
-    if k is None or folder is None:
+    if k is None or folder is None or k not in _expected:
         return
-    _store(folder / f"{k}.pickle", report)
+    path, sha256 = _expected[k]
+    entry = {"format": _FORMAT, "key": k, "path": path, "sha256": sha256, "report": report}
+    if _entry_problem(entry, k, path, sha256) is None:  # never keep what would be refused on reading
+        _store(folder / f"{k}.pickle", entry)
+
+
+def _drop(entry_path: Path, why: str) -> None:
+    notices.append(f"studygap: cache: {entry_path.name[:16]}… was not used ({why}); the file is checked afresh")
+    try:
+        entry_path.unlink()
+    except OSError:
+        pass
+
+
+def _entry_problem(entry, k: str, path: str, sha256: str) -> str | None:
+    """Why a kept entry cannot stand for the check of `path` with bytes `sha256` under key k, or None."""
+    if not isinstance(entry, dict) or set(entry) != {"format", "key", "path", "sha256", "report"}:
+        return "it is not a report entry"
+    if entry["format"] != _FORMAT or entry["key"] != k:
+        return "it was kept under another key"
+    if entry["path"] != path or entry["sha256"] != sha256:
+        return "it is the report of another file"
+    report = entry["report"]
+    if type(report) is not Report or report.document_path != path or report.sha256 != sha256:
+        return "it is the report of another file"
+    budget = [_MAX_NODES]
+    if not _conforms(report, Report, budget, 0):
+        return "its report is malformed (types, sizes, cycles)"
+    if any(it.status not in STATUS_ORDER for it in report.items):
+        return "its report has an unknown status"
+    return None
+
+
+@lru_cache(maxsize=64)
+def _hints(cls: type) -> dict[str, typing.Any]:
+    return typing.get_type_hints(cls)
+
+
+def _conforms(value, hint, budget: list[int], depth: int) -> bool:
+    """Whether value is of the declared type hint, with bounded size, depth and numbers (no cycles survive:
+    each visit spends from the budget, so a cycle or a shared fan-out exhausts it)."""
+    budget[0] -= 1
+    if budget[0] < 0 or depth > _MAX_DEPTH:
+        return False
+    if hint is typing.Any:
+        return _plain(value, budget, depth)
+    origin = typing.get_origin(hint)
+    args = typing.get_args(hint)
+    if origin is typing.Union or origin is types.UnionType:
+        return any(_conforms(value, a, budget, depth) for a in args)
+    if hint is type(None):
+        return value is None
+    if hint is str:
+        return type(value) is str
+    if hint is bool:
+        return type(value) is bool
+    if hint is int:
+        return type(value) is int and value.bit_length() <= _MAX_INT_BITS
+    if hint is float:
+        return type(value) is float or (type(value) is int and value.bit_length() <= _MAX_INT_BITS)
+    if origin is tuple:
+        if type(value) is not tuple:
+            return False
+        if len(args) == 2 and args[1] is Ellipsis:
+            return all(_conforms(v, args[0], budget, depth + 1) for v in value)
+        return len(value) == len(args) and all(_conforms(v, a, budget, depth + 1) for v, a in zip(value, args))
+    if origin in (list, dict):
+        if type(value) is not origin:
+            return False
+        if origin is list:
+            return all(_conforms(v, args[0] if args else typing.Any, budget, depth + 1) for v in value)
+        kh, vh = args or (typing.Any, typing.Any)
+        return all(_conforms(a, kh, budget, depth + 1) and _conforms(b, vh, budget, depth + 1)
+                   for a, b in value.items())
+    if isinstance(hint, type) and dataclasses.is_dataclass(hint):
+        if type(value) is not hint:
+            return False
+        hints = _hints(hint)
+        return all(_conforms(getattr(value, f.name, None), hints[f.name], budget, depth + 1)
+                   for f in dataclasses.fields(hint))
+    return False
+
+
+def _plain(value, budget: list[int], depth: int) -> bool:
+    """A value declared Any (a fact's value): plain data or studygap's frozen records, bounded like the rest."""
+    if value is None or type(value) in (str, bool, float):
+        return True
+    if type(value) is int:
+        return value.bit_length() <= _MAX_INT_BITS
+    if type(value) in (tuple, list, frozenset, set):
+        return all(_conforms(v, typing.Any, budget, depth + 1) for v in value)
+    if type(value) is dict:
+        return all(_conforms(a, typing.Any, budget, depth + 1) and _conforms(b, typing.Any, budget, depth + 1)
+                   for a, b in value.items())
+    cls = type(value)
+    if dataclasses.is_dataclass(cls) and cls.__module__.startswith("checker."):
+        return _conforms(value, cls, budget, depth)
+    return False
 
 
 def _store(path: Path, record) -> None:
@@ -176,12 +307,14 @@ def parsed(kind: str, text: str, file: str, options: str, build):
     h = hashlib.sha256(f"{kind}\0{file}\0{options}\0{_code_stamp()}\0".encode())
     h.update(text.encode("utf-8"))
     path = d / "parsed" / f"{h.hexdigest()}.pickle"
-    try:
-        found = _ReportsOnly(io.BytesIO(path.read_bytes())).load()
-        if type(found).__name__ == kind:
-            return found
-    except Exception:  # absent, damaged or foreign: parse afresh
-        pass
+    data = read_signed(path, _MAX_ENTRY_BYTES)
+    if data is not None:  # absent, damaged or not ours: parse afresh
+        try:
+            found = _ReportsOnly(io.BytesIO(data)).load()
+            if type(found).__name__ == kind:
+                return found
+        except Exception:  # noqa: BLE001 - signed by us but unreadable (another studygap): parse afresh
+            pass
     result = build()
     _store(path, result)
     return result

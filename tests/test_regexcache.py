@@ -35,7 +35,8 @@ def test_a_second_run_takes_the_patterns_from_the_cache(tmp_path):
     assert second.stdout.split() == ["['3',", "'2']", "0"]  # nothing compiled: all from the file
 
 
-def test_a_damaged_cache_is_ignored_and_replaced(tmp_path):
+def test_a_damaged_cache_is_ignored_and_replaced(tmp_path, monkeypatch):
+    monkeypatch.setenv("STUDYGAP_CACHE_DIR", str(tmp_path))
     _run(str(tmp_path), FIND)
     (path,) = tmp_path.glob("regex-*.pickle")
     path.write_bytes(b"\x80\x05garbage")
@@ -78,6 +79,6 @@ def test_cached_patterns_match_like_fresh_ones(tmp_path, monkeypatch, flags):
     monkeypatch.setenv("STUDYGAP_CACHE_DIR", str(tmp_path))
     fresh = regex.compile(PATTERN, flags)
     path = tmp_path / "p.pickle"
-    path.write_bytes(pickle.dumps({(PATTERN, int(flags)): fresh}))
+    regexcache.pickle_atomically(path, {(PATTERN, int(flags)): fresh})
     loaded = regexcache._read(path)[(PATTERN, int(flags))]
     assert [m.span() for m in loaded.finditer(TEXT)] == [m.span() for m in fresh.finditer(TEXT)]
