@@ -1,4 +1,6 @@
-"""Settings: command line > --config FILE > [tool.studygap] in the nearest pyproject.toml or studygap.yaml > defaults."""
+"""Settings: command line > --config FILE > [tool.studygap] in the nearest pyproject.toml or studygap.yaml > defaults.
+
+The nearest file is searched from the current folder up to the project's root (see search_folders)."""
 
 from __future__ import annotations
 
@@ -50,15 +52,51 @@ def _load_yaml(path: Path) -> dict[str, Any]:
     return data.get("studygap", data) if isinstance(data.get("studygap"), dict) else data
 
 
-def find_config(start: Path) -> Path | None:
-    """The nearest studygap.yaml, or pyproject.toml with a [tool.studygap] table, from start upwards."""
+#: a folder holding one of these is a project's root: the search for settings stops there
+PROJECT_MARKERS = (".git", "pyproject.toml")
+_MAX_CONFIG_BYTES = 1024 * 1024
+
+
+def search_folders(start: Path, home: Path | None = None) -> list[Path]:
+    """The folders searched for settings, nearest first: from start up to the nearest project root (a folder
+    with .git or pyproject.toml), never above the user's home folder and never the file system's root. Outside
+    the home folder with no project root above, only start itself: a settings file planted in a shared parent
+    folder (/tmp, a mounted drive) is never read."""
     start = start.resolve()
-    for folder in (start, *start.parents):
+    try:
+        home = (home or Path.home()).resolve()
+    except (RuntimeError, OSError):  # no home folder known
+        home = None
+    chain = [start, *start.parents]
+    folders: list[Path] = []
+    for folder in chain:
+        if folder == Path(folder.anchor):  # the file system's root is nobody's project
+            break
+        folders.append(folder)
+        if any((folder / m).exists() for m in PROJECT_MARKERS) or folder == home:
+            return folders
+    return [start] if start != Path(start.anchor) else []
+
+
+def _small_text(path: Path) -> str | None:
+    """The text of a regular settings file, or None when it is not one (a folder, a pipe) or is too large."""
+    try:
+        if not path.is_file() or path.stat().st_size > _MAX_CONFIG_BYTES:
+            return None
+        return path.read_text(encoding="utf-8", errors="replace")
+    except OSError:
+        return None
+
+
+def find_config(start: Path, home: Path | None = None) -> Path | None:
+    """The nearest studygap.yaml, or pyproject.toml with a [tool.studygap] table, in search_folders(start)."""
+    for folder in search_folders(start, home):
         for name in ("studygap.yaml", "studygap.yml"):
             if (folder / name).is_file():
                 return folder / name
         pp = folder / "pyproject.toml"
-        if pp.is_file() and "[tool.studygap" in pp.read_text(encoding="utf-8", errors="replace"):
+        text = _small_text(pp)
+        if text is not None and "[tool.studygap" in text:
             return pp
     return None
 
@@ -69,6 +107,8 @@ def load_config(explicit: str | None = None, start: Path | None = None) -> Confi
         return Config()
     if not path.is_file():
         raise UsageError(f"{path}: no such configuration file")
+    if path.stat().st_size > _MAX_CONFIG_BYTES:
+        raise UsageError(f"{path}: the configuration is larger than 1 MB; a settings file is a few lines")
     data = _load_toml(path) if path.suffix == ".toml" else _load_yaml(path)
     return parse_config(data, str(path))
 
