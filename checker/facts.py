@@ -121,6 +121,18 @@ def _tidy(text: str) -> str:
     return " ".join(text.replace("\u2212", "-").split())
 
 
+#: the most digits a number may have to be read as one; a longer run of digits (a checksum, an identifier, a
+#: 5,000-digit line that would exceed Python's int-to-text limit of 4,300) stays text
+MAX_DIGITS = 60
+
+
+def _readable_digits(t: str) -> bool:
+    """Whether the digits of t can be read as a number: ASCII digits only ("²", "٣" and "３" are not parsed as
+    numbers) and at most MAX_DIGITS of them."""
+    digits = [c for c in t if c.isdigit()]
+    return len(digits) <= MAX_DIGITS and all("0" <= c <= "9" for c in digits)
+
+
 def _to_number(d: Decimal, keep_float: bool) -> int | float:
     if d == d.to_integral_value() and not keep_float:
         return int(d)
@@ -128,7 +140,7 @@ def _to_number(d: Decimal, keep_float: bool) -> int | float:
 
 
 def _digits_value(t: str) -> int | float | None:
-    if not _DIGITS_FULL.fullmatch(t):
+    if not _readable_digits(t) or not _DIGITS_FULL.fullmatch(t):
         return None
     try:
         d = Decimal(_GROUPING.sub("", t))
@@ -171,7 +183,7 @@ def parse_number(text: str) -> int | float | None:
     v = _digits_value(t)
     if v is not None:
         return v
-    m = _SCALED_FULL.fullmatch(t)
+    m = _SCALED_FULL.fullmatch(t) if _readable_digits(t) else None
     if m:
         d = Decimal(_GROUPING.sub("", m.group(1))) * _SCALE[m.group(2).lower()]
         return _to_number(d, False)
@@ -541,7 +553,7 @@ def _blocked(text: str, s: int, e: int, *, after: bool = True) -> bool:
 
 def _is_year(text: str, s: int, e: int) -> bool:
     t = text[s:e]
-    return len(t) == 4 and t.isdigit() and 1800 <= int(t) <= 2100
+    return len(t) == 4 and _readable_digits(t) and t.isdigit() and 1800 <= int(t) <= 2100
 
 
 _SENT_END = regexcache.compile(r"[.!?;](?=\s+[\p{Lu}(\[])|\n\s*\n")
@@ -615,7 +627,7 @@ def _percentiles(text: str) -> list[_Cand]:
             if g == "p":
                 v = parse_number(m.group("p"))
             elif g == "q":
-                v = float(Decimal(m.group("q")) * 100)
+                v = float(Decimal(m.group("q")) * 100) if _readable_digits(m.group("q")) else None
             else:
                 v = _ORD[m.group("w").lower()]
             if v is None or not 0 < v <= 100:
