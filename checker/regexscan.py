@@ -162,7 +162,10 @@ def required_words(src: str) -> tuple[str, ...]:
     'hospitals|centres|sites'. Worked out from the parse of the unexpanded source ({NUMBER} and the like stand
     for no literal); a source Python's own parser cannot read gives ().
     """
-    import re._parser as sre_parse
+    try:
+        import re._parser as sre_parse  # Python 3.11 and later
+    except ImportError:  # Python 3.10
+        import sre_parse  # type: ignore[no-redef]
 
     plain = re.sub(r"\{[A-Z]+\}", r"\\d", src)
     plain = re.sub(r"\\[pP]\{[^}]*\}", r"\\w", plain)
@@ -176,7 +179,10 @@ def required_words(src: str) -> tuple[str, ...]:
 
 def _needs(items: list) -> frozenset[str] | None:
     """The best set of strings of which every match of this sequence contains one, or None."""
-    from re import _constants as c
+    try:
+        from re import _constants as c  # Python 3.11 and later
+    except ImportError:  # Python 3.10
+        import sre_constants as c  # type: ignore[no-redef]
 
     candidates: list[frozenset[str]] = []
     run: list[str] = []
@@ -194,13 +200,13 @@ def _needs(items: list) -> frozenset[str] | None:
         found = None
         if op is c.SUBPATTERN:
             found = _needs(list(av[-1]))
-        elif op is c.ATOMIC_GROUP:
+        elif op is getattr(c, "ATOMIC_GROUP", None):  # 3.11 and later
             found = _needs(list(av))
         elif op is c.BRANCH:
             sets = [_needs(list(b)) for b in av[1]]
             if all(sets):
                 found = frozenset().union(*sets)
-        elif op in (c.MAX_REPEAT, c.MIN_REPEAT, c.POSSESSIVE_REPEAT) and av[0] >= 1:
+        elif op in (c.MAX_REPEAT, c.MIN_REPEAT, getattr(c, "POSSESSIVE_REPEAT", None)) and av[0] >= 1:
             found = _needs(list(av[2]))
         if found:
             candidates.append(found)
