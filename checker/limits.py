@@ -111,3 +111,126 @@ def time_limit(path: str | Path, seconds: float) -> Iterator[None]:
         armed[0] = False
         signal.setitimer(signal.ITIMER_REAL, 0)
         signal.signal(signal.SIGALRM, previous)
+
+
+# ---------------------------------------------------------------------------------------------------------------
+# Regex size
+
+#: the most a checklist regex may expand to when its counted repeats are written out ({m,n} multiplies what it
+#: repeats by n, nested ones multiply along the nesting). The built-in checklists' largest, with the number and
+#: unit macros expanded, is far below it (see tests/test_hostile_regex.py); `(?:(?:a{1000}){1000}){1000}` is a
+#: billion and took the regex engine past 24 GB before it matched anything.
+MAX_REGEX_EXPANSION = 100_000
+
+_QUANTIFIER = None  # compiled on first use
+_GROUP_PREFIX = None
+
+
+def regex_expansion(pattern: str) -> tuple[int, int]:
+    """(size, position): how large `pattern` grows when every counted repeat is written out (each character,
+    class or escape counts 1; a group the sum of its branches; X{m,n} counts n times X; *, + and ? count once,
+    as the engine loops over them), and the position of the repeat where it first passes MAX_REGEX_EXPANSION
+    (-1 when it never does). The count stops growing just past the bound, so it is cheap on any input."""
+    import re
+
+    global _QUANTIFIER, _GROUP_PREFIX
+    if _QUANTIFIER is None:
+        _QUANTIFIER = re.compile(r"\{(\d*)(?:(,)(\d*))?\}[?+]?")
+        # (?:  (?=  (?!  (?<=  (?<!  (?>  (?|  (?P<name>  (?<name>  (?'name'  (?P=name)  (?i:  (?i)  (?-i:
+        _GROUP_PREFIX = re.compile(r"\?(?:P?<\w+>|'\w+'|P=\w+\)|<[=!]|[:=!>|]|[a-zA-Z^-]*[:)])")
+    cap = MAX_REGEX_EXPANSION + 1
+    # frames of open groups: [sum of finished branches, sum of this branch, size of the last item]
+    stack: list[list[int]] = [[0, 0, 0]]
+    where = -1
+    i, n = 0, len(pattern)
+
+    def add(size: int) -> None:
+        top = stack[-1]
+        top[1] = min(cap, top[1] + size)
+        top[2] = size
+
+    def repeat(times: int, at: int) -> None:
+        nonlocal where
+        top = stack[-1]
+        grown = min(cap, top[1] + top[2] * (times - 1))
+        if grown >= cap and where < 0:
+            where = at
+        top[1] = grown
+        top[2] = min(cap, top[2] * times)
+
+    while i < n:
+        c = pattern[i]
+        if c == "\\":
+            j = i + 2
+            if j <= n and pattern[i + 1: j] in ("p", "P", "N", "x", "X", "g") and j < n and pattern[j] in "{<":
+                close = pattern.find("}" if pattern[j] == "{" else ">", j)
+                j = n if close < 0 else close + 1
+            add(1)
+            i = j
+        elif c == "[":
+            j = i + 1
+            if j < n and pattern[j] == "^":
+                j += 1
+            if j < n and pattern[j] == "]":
+                j += 1
+            while j < n and pattern[j] != "]":
+                if pattern[j] == "\\":
+                    j += 2
+                elif pattern.startswith("[:", j):
+                    close = pattern.find(":]", j + 2)
+                    j = j + 1 if close < 0 else close + 2
+                else:
+                    j += 1
+            add(1)
+            i = j + 1
+        elif c == "(":
+            if pattern.startswith("(?#", i):
+                close = pattern.find(")", i)
+                i = n if close < 0 else close + 1
+                continue
+            m = _GROUP_PREFIX.match(pattern, i + 1)
+            if m and m.group().endswith(")"):  # inline flags or a back-reference: no group, one item
+                if m.group().startswith("?P="):
+                    add(1)
+                i = m.end()
+                continue
+            stack.append([0, 0, 0])
+            i = m.end() if m else i + 1
+        elif c == ")":
+            if len(stack) > 1:
+                done = stack.pop()
+                add(min(cap, done[0] + done[1]))
+            i += 1
+        elif c == "|":
+            top = stack[-1]
+            top[0], top[1], top[2] = min(cap, top[0] + top[1]), 0, 0
+            i += 1
+        elif c == "{":
+            m = _QUANTIFIER.match(pattern, i)
+            if m and (m.group(1) or m.group(3)):
+                high = m.group(3) if m.group(2) else m.group(1)
+                times = int(high[:7]) if high else int(m.group(1)[:7] or 1)  # {m,}: the engine loops past m
+                repeat(max(times, 1), i)
+                i = m.end()
+            else:
+                add(1)
+                i += 1
+        elif c in "*+?":
+            i += 1  # loops and options cost one pass of what they repeat
+        else:
+            add(1)
+            i += 1
+    while len(stack) > 1:  # unclosed groups (the compiler reports them)
+        done = stack.pop()
+        add(min(cap, done[0] + done[1]))
+    return min(cap, stack[0][0] + stack[0][1]), where
+
+
+def regex_size_problem(pattern: str) -> str | None:
+    """Why a checklist regex is refused for its size, in one sentence, or None when it is fine."""
+    size, where = regex_expansion(pattern)
+    if size <= MAX_REGEX_EXPANSION:
+        return None
+    place = f" (the repeat at character {where + 1})" if where >= 0 else ""
+    return (f"its counted repeats multiply to more than {MAX_REGEX_EXPANSION:,} steps{place}, which can take "
+            "gigabytes of memory to compile and match; use fewer or smaller {m,n} repeats, or * and + instead")

@@ -93,6 +93,12 @@ def compile(pattern: str, flags: int = 0) -> regex.Pattern:  # noqa: A001 - name
     k = (pattern, int(flags))  # a plain int: the file holds nothing but patterns, strings and numbers
     hit = _memo.get(k)
     if hit is None:
+        if "){" in pattern:  # only a repeated group can multiply repeats inside it (see limits.regex_expansion)
+            from .limits import regex_size_problem
+
+            problem = regex_size_problem(pattern)
+            if problem:  # compiling alone would take gigabytes
+                raise regex.error(problem)
         hit = _memo[k] = regex.compile(pattern, flags)
         _new += 1
     return hit
