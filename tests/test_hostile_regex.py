@@ -18,6 +18,8 @@ from checker.checklist import builtin_ids, load_checklist
 from checker.facts import expand_macros
 from checker.limits import MAX_REGEX_EXPANSION, regex_expansion, regex_size_problem
 
+from .test_bad_input import make_bad  # the hostile corpus builder's checklist template
+
 ROOT = Path(__file__).resolve().parent.parent
 NESTED = "(?:(?:(?:a{1000}){1000}){1000}){1000}b"  # compiling it alone went past 24 GB
 
@@ -90,35 +92,10 @@ def _limit_memory() -> None:
 @pytest.mark.skipif(not hasattr(resource, "RLIMIT_AS"), reason="needs an address-space limit")
 def test_validate_refuses_the_checklist_with_its_place_under_a_memory_limit(tmp_path):
     checklist = tmp_path / "greedy.yaml"
-    checklist.write_text(textwrap_checklist(NESTED), encoding="utf-8")
+    checklist.write_text(make_bad._checklist(f"regex: ['{NESTED}']"), encoding="utf-8")
     env = {**os.environ, "NO_COLOR": "1", "PYTHONPATH": str(ROOT), "STUDYGAP_CACHE_DIR": str(tmp_path / "c")}
     proc = subprocess.run([sys.executable, "-m", "checker.cli", "checklists", "validate", str(checklist)],
                           capture_output=True, text=True, env=env, timeout=120, preexec_fn=_limit_memory)
     assert proc.returncode == 2, proc.stderr
     assert "Traceback" not in proc.stderr and "MemoryError" not in proc.stderr
     assert f"{checklist}:17:" in proc.stderr and "counted repeats multiply" in proc.stderr
-
-
-def textwrap_checklist(pattern: str) -> str:
-    return f"""id: greedy-test
-title: Invented test checklist
-version: '0.1'
-groups:
-  - id: reference
-    title: Reference standard
-items:
-  - id: reference.annotators
-    group: reference
-    title: Who annotated the reference
-    question: How many people annotated the reference?
-    why: Readers need the count to judge the reference.
-    ask: Please state how many annotators labelled the reference.
-    facets:
-      - id: count
-        title: number of annotators
-        regex: ['{pattern}']
-    needs: all
-    examples:
-      reported: ['Two annotators labelled every image.']
-      missing: ['The images were labelled.']
-"""
