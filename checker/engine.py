@@ -71,7 +71,7 @@ def _choice_matcher(cid: str):
 #: a paper's skeleton: an abstract or introduction, a reference list or related work, and methods, results or a
 #: discussion; it weighs as this many cue
 #: words for the validation-study checklist (benchmark pages and dataset cards seldom have all three)
-PAPER_SKELETON_WEIGHT = 4
+PAPER_SKELETON_WEIGHT = 8
 
 
 def paper_skeleton(document: Document | None) -> bool:
