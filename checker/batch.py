@@ -23,6 +23,9 @@ from .report import Report
 
 ENGINES = ("local", "dask")
 SENDS = ("path", "bytes")
+#: seconds a Dask run waits while its cluster has no worker or no scheduler before the unfinished documents
+#: become error rows (Dask itself would wait for a worker forever)
+DASK_LOST_AFTER = 60.0
 
 #: progress(done, total, path) after each document, in the order they finish
 Progress = Callable[[int, int, str], None]
@@ -190,13 +193,16 @@ def run_batch(
     send: str = "path",
     progress: Progress | None = None,
     cache: bool = False,
+    lost_after: float = DASK_LOST_AFTER,
 ) -> list[BatchResult]:
     """Check every document; one result per path, in input order; bad documents become error rows.
 
     ``engine="local"`` uses ``jobs`` processes (default: one per CPU; 1 runs in this process).
     ``engine="dask"`` submits to ``client`` or to the scheduler at ``scheduler`` (for example
     ``tcp://host:8786``); ``send="bytes"`` ships each document's bytes for workers that do not share the files.
-    ``cache`` reuses the reports of unchanged files from earlier runs (see checker.resultcache).
+    ``cache`` reuses the reports of unchanged files from earlier runs (see checker.resultcache). With Dask, a
+    cluster left without workers or scheduler for ``lost_after`` seconds ends the run: the unfinished documents
+    become error rows.
     """
     if engine not in ENGINES:
         raise UsageError(f"unknown engine {engine!r}; use one of {', '.join(ENGINES)}")
@@ -210,7 +216,7 @@ def run_batch(
         return []
     with stop_on_terminate():  # SIGTERM ends the batch like Ctrl-C: workers stopped, KeyboardInterrupt raised
         if engine == "dask":
-            return _run_dask(names, checklist, config, limits, scheduler, client, send, progress, cache)
+            return _run_dask(names, checklist, config, limits, scheduler, client, send, progress, cache, lost_after)
         jobs = jobs or os.cpu_count() or 1
         if jobs == 1 or len(names) == 1:
             out = []
@@ -275,9 +281,10 @@ def _stop_pool(pool: Any, grace: float = 2.0) -> None:
 
 
 def _run_dask(names: list[str], checklist: str, config: Config, limits: Limits, scheduler: str | None, client: Any,
-              send: str, progress: Progress | None, cache: bool = False) -> list[BatchResult]:
+              send: str, progress: Progress | None, cache: bool = False,
+              lost_after: float = DASK_LOST_AFTER) -> list[BatchResult]:
     try:
-        from distributed import Client, as_completed
+        from distributed import Client
     except ImportError:
         raise UsageError("the dask engine needs Dask distributed: pip install 'studygap[dask]'") from None
     own = client is None
@@ -316,19 +323,79 @@ def _run_dask(names: list[str], checklist: str, config: Config, limits: Limits, 
             fut = client.submit(check_one, p, checklist, config, limits, data, cache and data is None, pure=False)
             index[fut.key] = i
             futures.append(fut)
-        for fut in as_completed(futures):
+        _collect_dask(client, futures, index, names, finished, lost_after)
+    except BaseException:  # Ctrl-C or SIGTERM: the cluster drops this run's tasks instead of finishing them
+        try:
+            client.cancel([f for f in futures if not f.done()], force=True)
+        except Exception:  # noqa: BLE001 - a lost scheduler cannot be told; the tasks die with this client
+            pass
+        raise
+    finally:
+        if own:
+            try:
+                client.close(timeout=10)
+            except Exception:  # noqa: BLE001 - a scheduler that is gone cannot say goodbye
+                pass
+    return [r for r in results if r is not None]
+
+
+def _collect_dask(client: Any, futures: list, index: dict, names: list[str], finished: Callable,
+                  lost_after: float) -> None:
+    """Take each task's result as it comes; when the cluster has had no worker, or the scheduler has been out of
+    reach, for lost_after seconds, every unfinished document becomes an error row instead of a wait forever."""
+    import time
+
+    from distributed import wait
+
+    pending = set(futures)
+    lost_since: float | None = None
+    while pending:
+        try:
+            done, pending = wait(list(pending), timeout=1.0, return_when="FIRST_COMPLETED")
+        except TimeoutError:
+            done = set()
+        except Exception:  # noqa: BLE001 - the connection itself failed: treated as a lost scheduler below
+            done = set()
+        for fut in sorted(done, key=lambda f: index[f.key]):
             i = index[fut.key]
             if fut.status == "error":
                 exc = fut.exception()
                 finished(i, BatchResult(names[i], error=f"{names[i]}: the Dask task failed "
                                                         f"({type(exc).__name__}: {' '.join(str(exc).split())})"))
-            else:
+            elif fut.status == "finished":
                 finished(i, fut.result())
+            else:  # cancelled (the scheduler restarted or dropped it)
+                finished(i, BatchResult(names[i], error=f"{names[i]}: the Dask cluster dropped its task "
+                                                        f"({fut.status})"))
             fut.release()
-    finally:
-        if own:
-            client.close()
-    return [r for r in results if r is not None]
+        if done:
+            lost_since = None
+            continue
+        if _cluster_usable(client):
+            lost_since = None
+        elif lost_since is None:
+            lost_since = time.monotonic()
+        elif time.monotonic() - lost_since >= lost_after:
+            why = (f"the Dask cluster had no worker, or its scheduler could not be reached, for {lost_after:g} s "
+                   "before this document was checked")
+            for fut in sorted(pending, key=lambda f: index[f.key]):
+                finished(index[fut.key], BatchResult(names[index[fut.key]], error=f"{names[index[fut.key]]}: {why}"))
+            try:
+                client.cancel(list(pending), force=True)
+            except Exception:  # noqa: BLE001 - nothing more to do for a cluster that is gone
+                pass
+            return
+
+
+def _cluster_usable(client: Any) -> bool:
+    """Whether the client is connected to a scheduler that has at least one worker (from the client's own view,
+    without a round trip that could hang)."""
+    try:
+        if getattr(client, "status", "running") != "running":
+            return False
+        return bool(client.scheduler_info().get("workers"))
+    except Exception:  # noqa: BLE001 - any failure to tell means the cluster is not usable now
+        return False
 
 
 def errors_of(results: Sequence[BatchResult]) -> list[BatchResult]:
