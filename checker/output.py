@@ -31,6 +31,14 @@ def write_atomic(target: Path, data: str | bytes, inputs: Sequence[str | Path] =
         except OSError:
             continue
     payload = data.encode("utf-8") if isinstance(data, str) else data
+    try:
+        _write(target, folder, payload)
+    except OSError as exc:  # a full disk, a read-only folder, a quota: one line naming the path, never a traceback
+        raise UsageError(f"{target}: cannot be written ({exc.strerror or exc}); any earlier file there is "
+                         "unchanged") from None
+
+
+def _write(target: Path, folder: Path, payload: bytes) -> None:
     if target.exists() and not target.is_file():
         # a device or a pipe (/dev/null, /dev/stdout, a named pipe): renaming over it would replace it with a
         # plain file, so it is written to as it is
