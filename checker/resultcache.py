@@ -88,6 +88,22 @@ def _file_digest(ref: str) -> str:
     return ref
 
 
+def document_bytes(path: str | Path, max_bytes: int) -> bytes | None:
+    """A document's bytes for its cache key (at most max_bytes + 1), or None when it is not a regular file (a
+    named pipe, a device, a socket: opened without waiting and never read) or cannot be read; the reader then
+    gives the error in its own words."""
+    import stat
+
+    try:
+        fd = os.open(path, os.O_RDONLY | getattr(os, "O_NONBLOCK", 0))
+    except OSError:
+        return None
+    with os.fdopen(fd, "rb") as fh:
+        if not stat.S_ISREG(os.fstat(fh.fileno()).st_mode):
+            return None
+        return fh.read(max_bytes + 1)
+
+
 def key(path: str | Path, data: bytes, checklist: str, config: Config, limits: Limits) -> str | None:
     """The cache key of one check, or None when this check is not cached."""
     if str(path).lower().endswith(_UNCACHED_SUFFIXES):

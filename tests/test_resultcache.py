@@ -319,3 +319,12 @@ def test_parsed_checklists_are_reused_and_errors_are_never_kept(cache, tmp_path,
             resultcache.parsed("Checklist", broken, "broken.yaml", "",
                                lambda: checklist_module.parse_checklist(broken, "broken.yaml"))
     assert len(list((folder / "parsed").glob("*.pickle"))) == 1
+
+
+def test_the_bytes_for_the_key_never_wait_on_a_named_pipe(tmp_path, doc):
+    fifo = tmp_path / "pipe.md"
+    os.mkfifo(fifo)  # opened without a writer: a plain open() would wait forever
+    assert resultcache.document_bytes(fifo, 100) is None
+    assert resultcache.document_bytes(tmp_path / "absent.md", 100) is None
+    assert resultcache.document_bytes(doc, 10_000) == doc.read_bytes()
+    assert resultcache.document_bytes(doc, 10) == doc.read_bytes()[:11]  # one byte more tells it is too large
