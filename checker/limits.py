@@ -124,6 +124,7 @@ MAX_REGEX_EXPANSION = 100_000
 
 _QUANTIFIER = None  # compiled on first use
 _GROUP_PREFIX = None
+_PLAIN = None
 
 
 def regex_expansion(pattern: str) -> tuple[int, int]:
@@ -133,8 +134,9 @@ def regex_expansion(pattern: str) -> tuple[int, int]:
     (-1 when it never does). The count stops growing just past the bound, so it is cheap on any input."""
     import re
 
-    global _QUANTIFIER, _GROUP_PREFIX
+    global _QUANTIFIER, _GROUP_PREFIX, _PLAIN
     if _QUANTIFIER is None:
+        _PLAIN = re.compile(r"[^\\\[\](){}|*+?]+")
         _QUANTIFIER = re.compile(r"\{(\d*)(?:(,)(\d*))?\}[?+]?")
         # (?:  (?=  (?!  (?<=  (?<!  (?>  (?|  (?P<name>  (?<name>  (?'name'  (?P=name)  (?i:  (?i)  (?-i:
         _GROUP_PREFIX = re.compile(r"\?(?:P?<\w+>|'\w+'|P=\w+\)|<[=!]|[:=!>|]|[a-zA-Z^-]*[:)])")
@@ -217,9 +219,12 @@ def regex_expansion(pattern: str) -> tuple[int, int]:
                 i += 1
         elif c in "*+?":
             i += 1  # loops and options cost one pass of what they repeat
-        else:
-            add(1)
-            i += 1
+        else:  # a run of plain characters at once (long word lists are most of a pattern)
+            m = _PLAIN.match(pattern, i)
+            end = m.end() if m else i + 1
+            add(end - i)
+            stack[-1][2] = 1  # a repeat after the run repeats its last character only
+            i = end
     while len(stack) > 1:  # unclosed groups (the compiler reports them)
         done = stack.pop()
         add(min(cap, done[0] + done[1]))
