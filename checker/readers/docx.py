@@ -452,7 +452,11 @@ def read(path: Path, data: bytes, limits: Limits) -> Parsed:
         raise InputError(path, "the DOCX is damaged or truncated",
                          "open it in a word processor and save it again") from None
     reader = _DocxBlocks(path, document)
-    reader.body(document.element.body)
+    body = getattr(document.element, "body", None)
+    if body is None:  # the main part's root is not a w:document (a mutated or hand-made file)
+        raise InputError(path, "the DOCX's main part is not a Word document body",
+                         "open it in a word processor and save it again")
+    reader.body(body)
     try:
         reader.notes(zf, "word/footnotes.xml", "footnote", path)
         reader.notes(zf, "word/endnotes.xml", "endnote", path)
