@@ -283,6 +283,13 @@ def compile_regex(pattern: str):
 def _check_regex(p: _Problems, node: _Node, path: str, pattern: str) -> str | None:
     import regex
 
+    from .facts import expand_macros
+    from .limits import regex_size_problem
+
+    problem = regex_size_problem(expand_macros(pattern))
+    if problem:  # refused before compiling: compiling such a regex alone can take gigabytes
+        p.add(node, path, problem)
+        return None
     try:
         if p.compile_regexes:
             compile_regex(pattern)

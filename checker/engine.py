@@ -140,11 +140,8 @@ def check_document(
     if cache:
         from . import resultcache
 
-        try:
-            with open(path, "rb") as fh:
-                data = fh.read(limits.max_bytes + 1)
-        except OSError:
-            data = None  # the reader gives the error its proper words
+        # a named pipe, a device or a socket is never read here (it could wait forever); the reader refuses it
+        data = resultcache.document_bytes(path, limits.max_bytes)
         k = resultcache.key(path, data, checklist, config, limits) if data is not None else None
         hit = resultcache.get(k)
         if hit is not None:

@@ -78,6 +78,8 @@ def read_bytes(path: Path, limits: Limits) -> bytes:
             raise InputError(path, "no such file", "check the path")
         if path.is_dir():
             raise InputError(path, "is a folder, not a document", "name a file, or use 'studygap screen' for folders")
+        if not path.is_file():  # a named pipe, a device or a socket: reading could wait forever
+            raise InputError(path, "is not a regular file (a pipe, device or socket)", "save the document to a file")
         size = path.stat().st_size
         if size > limits.max_bytes:
             raise InputError(

@@ -1,0 +1,29 @@
+"""A named pipe or a checklist regex that would take gigabytes is refused at once, with one line."""
+
+import os
+import subprocess
+import sys
+
+import pytest
+
+from checker.checklist import parse_checklist
+from checker.errors import ChecklistError
+
+
+@pytest.mark.skipif(not hasattr(os, "mkfifo"), reason="named pipes need a POSIX system")
+def test_a_named_pipe_given_as_a_document_is_refused_without_waiting(tmp_path):
+    fifo = tmp_path / "draft.md"
+    os.mkfifo(fifo)  # nobody writes to it: reading it would wait forever
+    r = subprocess.run([sys.executable, "-m", "checker.cli", "check", str(fifo)], capture_output=True, text=True,
+                       timeout=60)
+    assert r.returncode == 2
+    assert "not a regular file" in r.stderr and r.stderr.count("\n") == 1
+
+
+def test_a_regex_with_huge_counted_repeats_is_refused_with_its_place():
+    text = ("id: x\ntitle: X\nversion: 1\nitems:\n  - id: a.b\n    group: a\n    title: T\n    question: q\n"
+            "    why: w\n    ask: a\n    facets:\n      - id: f\n"
+            "        regex: ['(?:(?:(?:a{1000}){1000}){1000})b']\n")
+    with pytest.raises(ChecklistError) as exc:
+        parse_checklist(text, "mine.yaml")
+    assert "mine.yaml:13:" in str(exc.value) and "counted repeats" in str(exc.value)
