@@ -291,6 +291,13 @@ def main(argv: Sequence[str] | None = None) -> int:
     if args.command is None:
         parser.print_help()
         return ExitCode.ERROR
+    from .batch import stop_on_terminate
+
+    with stop_on_terminate():  # SIGTERM ends the run like Ctrl-C: clean-up runs, nothing half-written
+        return _dispatch(args)
+
+
+def _dispatch(args) -> int:
     try:
         if args.command == "check":
             return int(cmd_check(args))

@@ -27,3 +27,22 @@ def test_a_regex_with_huge_counted_repeats_is_refused_with_its_place():
     with pytest.raises(ChecklistError) as exc:
         parse_checklist(text, "mine.yaml")
     assert "mine.yaml:13:" in str(exc.value) and "counted repeats" in str(exc.value)
+
+
+@pytest.mark.skipif(not hasattr(os, "killpg"), reason="signals need a POSIX system")
+def test_sigterm_to_a_multi_file_check_ends_it_like_ctrl_c(tmp_path):
+    import signal
+    import time
+
+    slow = tmp_path / "long.md"
+    slow.write_text("# Methods\n\n" + "The scans were read by two radiologists. " * 60000, encoding="utf-8")
+    out = tmp_path / "report.json"
+    env = dict(os.environ, STUDYGAP_CACHE_DIR="off")
+    proc = subprocess.Popen([sys.executable, "-m", "checker.cli", "check", str(slow), str(slow), "--format", "json",
+                             "-o", str(out), "--quiet"], stderr=subprocess.PIPE, text=True, env=env)
+    time.sleep(4)
+    proc.send_signal(signal.SIGTERM)
+    _, err = proc.communicate(timeout=60)
+    assert proc.returncode == 130
+    assert "interrupted" in err and "Traceback" not in err
+    assert not out.exists()
