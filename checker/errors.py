@@ -17,6 +17,16 @@ class ExitCode(IntEnum):
     INTERRUPTED = 130
 
 
+_CONTROL = {c: f"\\x{c:02x}" for c in (*range(0x00, 0x20), *range(0x7f, 0xa0))}
+_CONTROL.update({0x0a: "\\n", 0x0d: "\\r", 0x09: "\\t"})
+
+
+def visible(text: str) -> str:
+    """Text with control and escape characters written out ("\\n", "\\x1b"), so that a file name or a message
+    can neither break one record into two lines nor send escape sequences to a terminal or a CI log."""
+    return text.translate(_CONTROL)
+
+
 class StudygapError(Exception):
     """A mistake in what the user gave us; printed as one line, never as a traceback."""
 
@@ -38,7 +48,7 @@ class InputError(StudygapError):
         super().__init__(self.path, cause, hint)
 
     def __str__(self) -> str:
-        text = f"{self.path}: {self.cause}"
+        text = f"{visible(self.path)}: {self.cause}"
         return f"{text} ({self.hint})" if self.hint else text
 
 

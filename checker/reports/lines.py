@@ -8,6 +8,7 @@ from __future__ import annotations
 from collections.abc import Sequence
 
 from ..document import Location
+from ..errors import visible
 from ..report import Evidence, Report
 
 GAPS = ("missing", "partial")
@@ -29,12 +30,12 @@ def position(loc: Location | None) -> int:
 
 
 def _one_line(text: str) -> str:
-    return " ".join(text.split())
+    return visible(" ".join(text.split()))
 
 
 def _line(path: str, ev: Evidence | None, status: str, ident: str, message: str) -> str:
     file = ev.location.file if ev is not None and ev.location.file else path
-    return f"{file}:{position(ev.location if ev else None)}:1: {status} {ident}: {_one_line(message)}"
+    return f"{visible(file)}:{position(ev.location if ev else None)}:1: {status} {ident}: {_one_line(message)}"
 
 
 def render_one(r: Report) -> list[str]:
