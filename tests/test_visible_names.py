@@ -21,3 +21,14 @@ def test_an_error_about_such_a_file_is_one_line_without_escape_codes(tmp_path):
     r = subprocess.run([sys.executable, "-m", "checker.cli", "check", str(name)], capture_output=True, text=True)
     assert r.returncode == 2
     assert r.stderr.count("\n") == 1 and "\x1b" not in r.stderr and "\\x1b" in r.stderr
+
+
+def test_escape_codes_in_a_file_name_reach_neither_terminal_nor_markdown(tmp_path):
+    name = tmp_path / "draft\x1b[31m.md"
+    name.write_text("# Methods\n\nThe scans were read by two radiologists.\n", encoding="utf-8")
+    for fmt in ("terminal", "markdown", "letter"):
+        r = subprocess.run([sys.executable, "-m", "checker.cli", "check", str(name), "--format", fmt,
+                            "--checklist", "validation-study", "--no-cache", "--no-color"],
+                           capture_output=True, text=True)
+        assert r.returncode in (0, 1) and r.stdout, fmt
+        assert "\x1b" not in r.stdout, fmt

@@ -6,6 +6,7 @@ from __future__ import annotations
 import re
 from collections.abc import Sequence
 
+from ..errors import visible
 from ..report import CAUTIONS, Evidence, FacetResult, ItemResult, Report
 from .words import heading, word
 
@@ -21,7 +22,7 @@ _LINE_START = re.compile(r"^(\d+)([.)])|^([#+\-=>])")
 
 def escape(text: str) -> str:
     """Document text as literal Markdown: markup characters are backslash-escaped, line breaks become spaces."""
-    text = _SPECIAL.sub(r"\\\1", " ".join(text.split()))
+    text = _SPECIAL.sub(r"\\\1", visible(" ".join(text.split())))
     return _LINE_START.sub(lambda m: f"{m.group(1)}\\{m.group(2)}" if m.group(1) else "\\" + m.group(3), text)
 
 

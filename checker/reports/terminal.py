@@ -9,6 +9,7 @@ from rich.console import Console
 from rich.padding import Padding
 from rich.text import Text
 
+from ..errors import visible
 from ..report import CAUTIONS, STATUS_ORDER, Evidence, Report
 from .words import glyph, word
 
@@ -44,7 +45,7 @@ def _indented(console: Console, text: Text) -> None:
 def _header(r: Report) -> list[Text]:
     doc = Text()
     doc.append("studygap ", style="bold")
-    doc.append(r.document_path, style="bold")
+    doc.append(visible(r.document_path), style="bold")
     bits = [r.document_format]
     if r.pages:
         bits.append(f"{r.pages} page{'s' if r.pages != 1 else ''}")
@@ -79,7 +80,7 @@ def render_one(r: Report, console: Console, verbose: bool) -> None:  # noqa: C90
         console.print(head)
         shown = it.evidence if verbose else it.evidence[:1]
         for ev in shown:
-            _indented(console, Text(ev.location.describe(r.document_path), style="dim"))
+            _indented(console, Text(visible(ev.location.describe(r.document_path)), style="dim"))
             _indented(console, _quote(ev, limit=10_000 if verbose else 320))
         if it.status in ("partial", "missing", "not-applicable", "waived") or verbose:
             _indented(console, Text(it.reason, style="italic"))
@@ -101,7 +102,7 @@ def render_one(r: Report, console: Console, verbose: bool) -> None:  # noqa: C90
             console.print(line)
             _indented(console, Text(f.message))
             for ev in f.evidence[: (10 if verbose else 2)]:
-                _indented(console, Text(ev.location.describe(r.document_path), style="dim"))
+                _indented(console, Text(visible(ev.location.describe(r.document_path)), style="dim"))
                 _indented(console, _quote(ev))
     console.print()
     for c in CAUTIONS:
