@@ -134,6 +134,8 @@ def regex_expansion(pattern: str) -> tuple[int, int]:
     (-1 when it never does). The count stops growing just past the bound, so it is cheap on any input."""
     import re
 
+    from .regexscan import class_end
+
     global _QUANTIFIER, _GROUP_PREFIX, _PLAIN
     if _QUANTIFIER is None:
         _PLAIN = re.compile(r"[^\\\[\](){}|*+?]+")
@@ -170,19 +172,7 @@ def regex_expansion(pattern: str) -> tuple[int, int]:
             add(1)
             i = j
         elif c == "[":
-            j = i + 1
-            if j < n and pattern[j] == "^":
-                j += 1
-            if j < n and pattern[j] == "]":
-                j += 1
-            while j < n and pattern[j] != "]":
-                if pattern[j] == "\\":
-                    j += 2
-                elif pattern.startswith("[:", j):
-                    close = pattern.find(":]", j + 2)
-                    j = j + 1 if close < 0 else close + 2
-                else:
-                    j += 1
+            j = class_end(pattern, i)
             add(1)
             i = j + 1
         elif c == "(":

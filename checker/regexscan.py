@@ -116,6 +116,26 @@ def _escape(src: str, i: int) -> tuple[int, int | None] | None:
     return 2, ord(nxt) if nxt else None
 
 
+def class_end(src: str, i: int) -> int:
+    """The index of the ']' that closes the character class opened at src[i] (len(src) when it is not closed).
+    A ']' right after '[' or '[^' is a member, escapes are skipped, and so are POSIX classes such as [:alpha:]."""
+    n = len(src)
+    j = i + 1
+    if j < n and src[j] == "^":
+        j += 1
+    if j < n and src[j] == "]":
+        j += 1
+    while j < n and src[j] != "]":
+        if src[j] == "\\":
+            j += 2
+        elif src.startswith("[:", j):
+            close = src.find(":]", j + 2)
+            j = j + 1 if close < 0 else close + 2
+        else:
+            j += 1
+    return j
+
+
 def _outside_classes(src: str) -> str:
     """The source with escapes and character classes blanked, so that a bare ^ or $ is an anchor."""
     out, i, n = [], 0, len(src)
@@ -126,13 +146,7 @@ def _outside_classes(src: str) -> str:
             i += 2
             continue
         if c == "[":
-            j = i + 1
-            if j < n and src[j] == "^":
-                j += 1
-            if j < n and src[j] == "]":
-                j += 1
-            while j < n and src[j] != "]":
-                j += 2 if src[j] == "\\" else 1
+            j = class_end(src, i)
             out.append(" " * (j + 1 - i))
             i = j + 1
             continue
