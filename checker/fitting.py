@@ -10,7 +10,7 @@ so that its figures say how the fitted values do on a document they were not fit
 from __future__ import annotations
 
 from dataclasses import dataclass
-from typing import Callable, Iterable, Sequence
+from typing import Iterable, Sequence
 
 from .matching import APPLIES, FOUND_AT, key
 
@@ -33,18 +33,15 @@ class ItemScores:
     inapplicable_when_empty: bool
 
     def status_at(self, threshold: float) -> str:
-        """The status the verdicts give at this threshold (see verdicts._status)."""
-        found = {f for f, s in self.facet_scores if s >= threshold}
-        if not found:
-            return "not-applicable" if self.inapplicable_when_empty else "missing"
-        if any(set(n) <= found for n in self.needs):
-            return "reported"
-        return "partial"
+        """The status the verdicts give at this threshold."""
+        from .verdicts import decide
+
+        return decide({f for f, s in self.facet_scores if s >= threshold}, self.needs, self.inapplicable_when_empty)
 
 
 def scores_of(document: str, checklist: str, labels: dict[str, str], limits=None) -> list[ItemScores]:
     """Check one document and reduce each labelled item to its facet scores."""
-    from .engine import compiled_for, ignore_sections  # noqa: F401 - the same pipeline as `check`
+    from .engine import compiled_for
     from .limits import DEFAULT_LIMITS
     from .nlp import parse_blocks
     from .readers import read_document
@@ -102,14 +99,11 @@ def fit(rows: Iterable[ItemScores], grid: Sequence[float] = GRID, margin: float 
     return out
 
 
-def cross_validate(rows: Sequence[ItemScores], grid: Sequence[float] = GRID,
-                   progress: Callable[[int, int], None] | None = None) -> list[tuple[ItemScores, str]]:
+def cross_validate(rows: Sequence[ItemScores], grid: Sequence[float] = GRID) -> list[tuple[ItemScores, str]]:
     """Each row with the status given by thresholds fitted on every other document (leave one document out)."""
     documents = sorted({r.document for r in rows})
     out: list[tuple[ItemScores, str]] = []
-    for n, d in enumerate(documents, start=1):
+    for d in documents:
         fitted = fit((r for r in rows if r.document != d), grid)
         out += [(r, r.status_at(fitted.get(r.concept, FOUND_AT))) for r in rows if r.document == d]
-        if progress is not None:
-            progress(n, len(documents))
     return out

@@ -54,10 +54,6 @@ def _near(scan: Scan, s: int, others: set[int], within: int) -> bool:
     return False
 
 
-def needs_met(item: Item, found: set[str]) -> bool:
-    return any(set(need) <= found for need in item.needs)
-
-
 def evaluate_item(compiled: CompiledChecklist, scan: Scan, ii: int, item: Item, waivers: dict[str, str]) -> ItemResult:
     from .facts import parse_value
     from .fitted import threshold
@@ -124,14 +120,24 @@ def evaluate_item(compiled: CompiledChecklist, scan: Scan, ii: int, item: Item, 
     )
 
 
+def decide(found: set[str], needs: tuple[tuple[str, ...], ...], inapplicable: bool) -> str:
+    """The status from the facets found: reported when every facet of one `needs` set is found, partial when
+    some facet is, else not-applicable (the item's `applies_when` found nothing) or missing. The one rule that
+    both the verdicts and the threshold fitting (fitting.py) use."""
+    if not found:
+        return "not-applicable" if inapplicable else "missing"
+    return "reported" if any(set(n) <= found for n in needs) else "partial"
+
+
 def _status(compiled, scan, ii, item, per_facet, found, waivers) -> tuple[str, str]:
     if item.id in waivers:
         return "waived", f"waived in the configuration: {waivers[item.id]}"
-    if item.applies_when is not None and not found:
-        if not scan.hits.get(key(ii, -1, APPLIES)):
-            return "not-applicable", f"not applicable: {item.applies_when.reason}"
+    inapplicable = item.applies_when is not None and not scan.hits.get(key(ii, -1, APPLIES))
+    status = decide(found, item.needs, inapplicable)
+    if status == "not-applicable":
+        return status, f"not applicable: {item.applies_when.reason}"
     titles = {fh.facet.id: fh.facet.title for fh in per_facet}
-    if needs_met(item, found):
+    if status == "reported":
         return "reported", "found: " + "; ".join(titles[f] for f in titles if f in found)
     if found:
         # name what a best alternative still lacks
