@@ -2,7 +2,7 @@
 
 Only what a document says about its own study can make an item reported. A reader tells the kinds apart by
 citation markers ("[12]", "(Lee et al., 2020)"), by the subject ("we", "our", "this challenge", "participants"
-against "previous studies", "the authors of", "they"), by modality ("will be explored in future work") and by
+against "previous studies", "the authors of", "Lee et al."), by modality ("will be explored in future work") and by
 the section the sentence stands in; these are the signals used here. Each kind carries a factor that multiplies
 the weight of the section the sentence stands in (see `matching.Scan.weight`).
 """
@@ -17,7 +17,7 @@ KINDS = (THIS_STUDY, OTHER_WORK, BACKGROUND, PLAN, TEMPLATE)
 
 #: kind -> how much a sentence of that kind counts as evidence for the document itself. Other work and a
 #: template's prompts never count; general statements and plans count a little, so that with a cue of this
-#: study's nearby an item can still be partial. Fitted values may replace these (see checker/fitted.py).
+#: study's nearby an item can still be partial.
 FACTORS = {THIS_STUDY: 1.0, OTHER_WORK: 0.0, BACKGROUND: 0.5, PLAN: 0.4, TEMPLATE: 0.0}
 
 # Citation markers as they come out of PDF, Word, Markdown and LaTeX: numeric brackets, author-year, pandoc keys.
@@ -86,9 +86,8 @@ _GENERAL = re.compile(
     re.IGNORECASE,
 )
 
-#: section roles whose sentences speak of others or in general unless they say otherwise
+#: section roles whose sentences speak of others unless they say otherwise
 _OTHER_ROLES = frozenset({"related-work"})
-_BACKGROUND_ROLES = frozenset({"introduction", "requirements"})
 #: sections that frame a study: a sentence there speaks of this study only when it says so ("we", "our data");
 #: a limitations section speaks of the study itself
 _FRAMING_ROLES = frozenset({"introduction", "discussion", "requirements"})
@@ -119,7 +118,7 @@ def attribute(text: str, role: str = "body", kind: str = "paragraph") -> Attribu
     if others and not own:
         return Attribution(OTHER_WORK, "names other work as its subject")
     if cited and not own:
-        if role in _OTHER_ROLES or role in _BACKGROUND_ROLES or others:
+        if role in _OTHER_ROLES or role in _FRAMING_ROLES:
             return Attribution(OTHER_WORK, "cites other work")
         # "The images come from the public X archive [7]." in a methods section: a cited source of this study
         return Attribution(THIS_STUDY, "cites a source in a section about this study")

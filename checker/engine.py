@@ -68,9 +68,8 @@ def _choice_matcher(cid: str):
     return lambda doc: [hit for m in matchers for hit in m(doc)]
 
 
-#: a paper's skeleton: an abstract or introduction, a reference list or related work, and methods, results or a
-#: discussion; it weighs as this many cue
-#: words for the validation-study checklist (benchmark pages and dataset cards seldom have all three)
+#: a paper's build (see paper_skeleton) weighs as this many cue words for the validation-study checklist:
+#: benchmark pages and dataset cards seldom have all three parts, and papers name datasets a lot
 PAPER_SKELETON_WEIGHT = 8
 
 

@@ -524,7 +524,7 @@ def pairs_for(label: LabelFile, report: Any) -> tuple[list[Pair], list[str]]:
             human=lab.status, tool=tool, human_quote=lab.quote, human_location=lab.location, human_note=lab.note,
             tool_evidence=ev.text if ev else "", tool_location=ev.location.describe() if ev else "",
             tool_reason=it.reason, tool_quotes=tuple(e.text for e in it.evidence),
-            tool_attribution=getattr(ev, "attribution", "") if ev else "",
+            tool_attribution=ev.attribution if ev else "",
         ))
     return pairs, sorted(wanted)
 
