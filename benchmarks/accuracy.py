@@ -51,8 +51,8 @@ def main(argv: list[str] | None = None) -> int:
               "give another with --dev DIR)")
         return 0
 
-    from checker.evaluation import evaluate, load_labels, to_json
-    from checker.output import write_atomic
+    from checker.many.evaluation import evaluate, load_labels, to_json
+    from checker.core.output import write_atomic
     from checker.reports.evaluation import render_evaluation
 
     labels = load_labels(labels_dir)
@@ -129,7 +129,7 @@ def _figures_table(ev, indent: str = "") -> None:
 
 
 def _subset(ev, keep, resamples: int, seed: int):
-    from checker.evaluation import summarize
+    from checker.many.evaluation import summarize
 
     units = [u for u in ev.pairs_by_document if u and keep(u[0])]
     outcomes = [d for d in ev.documents if any(u[0].label_file == d.label_file for u in units)]

@@ -53,7 +53,7 @@ def main(argv: list[str] | None = None) -> int:
     ap.add_argument("--no-dask", action="store_true", help="skip the Dask measurement")
     args = ap.parse_args(argv)
 
-    from checker.batch import run_batch, warm
+    from checker.many.batch import run_batch, warm
 
     with tempfile.TemporaryDirectory(prefix="studygap-bench-") as tmp:
         paths = make_corpus(Path(tmp), args.documents, args.seed)

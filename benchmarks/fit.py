@@ -3,7 +3,7 @@
     python benchmarks/fit.py [--dev DIR] [--write] [--jobs N]
 
 Every labelled document is checked once with the checklist its label names. For each concept the threshold
-with the most agreement with the labels is chosen from a small grid (checker/fitting.py). The figures printed are
+with the most agreement with the labels is chosen from a small grid (checker/many/fitting.py). The figures printed are
 cross-validated: each document is judged with thresholds fitted on all the others. `--write` stores the
 thresholds fitted on all documents in checklists/fitted.yaml, which the verdicts then use.
 """
@@ -21,7 +21,7 @@ sys.path.insert(0, str(ROOT))
 
 
 def _scores(task):
-    from checker.fitting import scores_of
+    from checker.many.fitting import scores_of
 
     document, checklist, labels = task
     try:
@@ -31,7 +31,7 @@ def _scores(task):
 
 
 def _figures(rows_with_status, label_files_by_doc):
-    from checker.evaluation import DocumentOutcome, Pair, summarize
+    from checker.many.evaluation import DocumentOutcome, Pair, summarize
 
     by_doc: dict[str, list[Pair]] = {}
     for r, tool in rows_with_status:
@@ -55,8 +55,8 @@ def main(argv: list[str] | None = None) -> int:
     if not labels_dir.is_dir():
         print(f"fit: skipped, no labelled documents at {args.dev} (expected a labels/ folder there)")
         return 0
-    from checker.evaluation import load_labels
-    from checker.fitting import FOUND_AT, GRID, cross_validate, fit
+    from checker.many.evaluation import load_labels
+    from checker.many.fitting import FOUND_AT, GRID, cross_validate, fit
 
     label_files = load_labels(labels_dir)
     tasks = [(lf.document, lf.checklist, {it.item_id: it.status for it in lf.items}) for lf in label_files]
@@ -88,7 +88,7 @@ def main(argv: list[str] | None = None) -> int:
     for c, t in fitted_all.items():
         print(f"  {c:<36} {t:.2f}{'' if t != FOUND_AT else '  (default)'}")
     if args.write:
-        from checker.output import write_atomic
+        from checker.core.output import write_atomic
 
         cvf = {f.name: f.value for f in cv.figures}
         lines = [

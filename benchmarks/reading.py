@@ -138,7 +138,7 @@ def independent_words(path: Path) -> tuple[int | None, str]:
         import lxml.etree as etree
         import lxml.html
 
-        from checker.readers.html import html_documents
+        from checker.reading.html import html_documents
 
         text = path.read_text(encoding="utf-8", errors="replace")
         words = 0
@@ -207,9 +207,9 @@ def left_out(path: Path, fmt: str, doc) -> tuple[int, int, str]:
     """Words the extractor counts that studygap leaves out on purpose, words studygap adds (link addresses
     after a link's text), and what they are."""
     if fmt == "pdf":
-        from checker.limits import DEFAULT_LIMITS
-        from checker.readers import pdf as pdfreader
-        from checker.readers import pdfium_layout
+        from checker.core.limits import DEFAULT_LIMITS
+        from checker.reading import pdf as pdfreader
+        from checker.reading import pdfium_layout
 
         data = path.read_bytes()
         try:
@@ -226,7 +226,7 @@ def left_out(path: Path, fmt: str, doc) -> tuple[int, int, str]:
     added = sum(len(_URL_NOTE.findall(b.text)) for b in doc.blocks)
     text = path.read_text(encoding="utf-8", errors="replace") if fmt != "docx" else ""
     if fmt == "html":
-        from checker.readers.html import html_blocks, html_documents
+        from checker.reading.html import html_blocks, html_documents
 
         skipped: dict[str, int] = {}
         for line, piece in html_documents(text):
@@ -266,7 +266,7 @@ def join_share() -> tuple[float, float] | None:
     except ImportError:
         return None
     from checker.engine import check_document
-    from checker.readers import pdf as pdfreader
+    from checker.reading import pdf as pdfreader
 
     joining = pdfreader._Assembler._text
     spent = [0.0]
@@ -308,7 +308,7 @@ def main(argv: list[str] | None = None) -> int:
     import yaml
 
     from checker.engine import check_document
-    from checker.readers import read_document
+    from checker.reading import read_document
 
     only = {s.strip() for s in args.only.split(",") if s.strip()}
     labels = {}

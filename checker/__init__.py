@@ -2,6 +2,6 @@
 
 __version__ = "0.1.0"
 
-from . import spacyimport as _spacyimport
+from .matching import spacyimport as _spacyimport
 
 _spacyimport.install()

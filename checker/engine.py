@@ -10,13 +10,13 @@ from pathlib import Path
 from rapidfuzz import fuzz
 
 from . import __version__
-from .checklist import Checklist, builtin_ids, load_checklist
-from .config import Config
-from .document import Document
-from .limits import DEFAULT_LIMITS, Limits
-from .matching import CompiledChecklist
-from .report import Report
-from .verdicts import evaluate
+from .matching.checklist import Checklist, builtin_ids, load_checklist
+from .core.config import Config
+from .reading.document import Document
+from .core.limits import DEFAULT_LIMITS, Limits
+from .matching.matcher import CompiledChecklist
+from .verdicts.report import Report
+from .verdicts.decide import evaluate
 
 AUTO = "auto"
 
@@ -45,11 +45,11 @@ def _choice_matcher(cid: str):
     """A matcher of one built-in checklist's `choose_when` cues (its other cues are not needed to choose)."""
     from spacy.matcher import PhraseMatcher
 
-    from .nlp import pipeline
+    from .matching.nlp import pipeline
 
     from spacy.matcher import Matcher
 
-    from .matching import spelling_variants
+    from .matching.matcher import spelling_variants
 
     nlp = pipeline()
     cues = load_checklist(cid).choose_when
@@ -129,10 +129,10 @@ def check_document(
     reused (see checker.resultcache)."""
     import hashlib
 
-    from . import regexcache
-    from .limits import time_limit
-    from .nlp import parse_blocks
-    from .readers import read_document
+    from .matching import regexcache
+    from .core.limits import time_limit
+    from .matching.nlp import parse_blocks
+    from .reading import read_document
 
     config = config or Config()
     k = None
@@ -161,10 +161,10 @@ def check_together(
 ) -> Report:
     """One report for several files read as one document in the order given (a website's pages, a paper and
     its supplement); every passage names its own file. Not cached: the result depends on all the files."""
-    from . import regexcache
-    from .limits import time_limit
-    from .nlp import parse_blocks
-    from .readers import read_together
+    from .matching import regexcache
+    from .core.limits import time_limit
+    from .matching.nlp import parse_blocks
+    from .reading import read_together
 
     if not paths:
         raise ValueError("check_together needs at least one file")
@@ -177,7 +177,7 @@ def check_together(
 def main_documents(paths: list[str]) -> tuple[list[str], list[str]]:
     """The files to check for these paths: a LaTeX section file is replaced by the main files that read it
     (each checked once, in the order first named), and a sentence for each replacement."""
-    from .readers.latex import main_files_for
+    from .reading.latex import main_files_for
 
     out: list[str] = []
     notes: list[str] = []
@@ -242,8 +242,8 @@ def document_from_text(text: str, path: str = "<text>") -> Document:
     """A Document of plain paragraphs (blank-line separated), for library use and tests."""
     import hashlib
 
-    from .document import Block, Location, Mark
-    from .sections import assign_sections
+    from .reading.document import Block, Location, Mark
+    from .reading.sections import assign_sections
 
     blocks = []
     line = 1

@@ -5,11 +5,11 @@ named by, the checklist file, the configuration, the reading options, studygap's
 and modification times and the built-in checklists' content, so an edited development install never serves a
 stale report) and the versions of Python and of the libraries that read and match the text. LaTeX
 is not cached, because its parts live in other files. Reports are kept in ``results/`` of the cache folder
-(see checker.regexcache.cache_dir), at most _MAX_ENTRIES of them, and read back as studygap's own records
+(see checker.matching.regexcache.cache_dir), at most _MAX_ENTRIES of them, and read back as studygap's own records
 only. ``--no-cache`` or ``STUDYGAP_CACHE_DIR=off`` turns it off.
 
 An entry is trusted no further than it is checked: its file must carry this installation's signature (see
-checker.regexcache.read_signed), it must name the key it was asked for, the path and the SHA-256 of the file
+checker.matching.regexcache.read_signed), it must name the key it was asked for, the path and the SHA-256 of the file
 being checked, and the report in it must be made of studygap's records with the declared field types, known
 statuses, small numbers, no cycles and a bounded size. An entry that fails is deleted (the check runs afresh and
 writes a sound one) and said in ``notices``.
@@ -29,10 +29,10 @@ import typing
 from functools import lru_cache
 from pathlib import Path
 
-from .config import Config
-from .limits import Limits
-from .regexcache import cache_dir, pickle_atomically, read_signed
-from .report import STATUS_ORDER, Report
+from .core.config import Config
+from .core.limits import Limits
+from .matching.regexcache import cache_dir, pickle_atomically, read_signed
+from .verdicts.report import STATUS_ORDER, Report
 
 _MAX_ENTRIES = 500
 _FORMAT = "2"  # bump when the stored form of a Report changes

@@ -33,7 +33,7 @@ def update_golden(request) -> bool:
 
 @pytest.fixture(scope="session")
 def nlp():
-    from checker.nlp import pipeline
+    from checker.matching.nlp import pipeline
 
     return pipeline()
 

@@ -4,7 +4,7 @@ import json
 
 import pytest
 
-from checker.attribution import BACKGROUND, OTHER_WORK, PLAN, TEMPLATE, THIS_STUDY, attribute
+from checker.matching.attribution import BACKGROUND, OTHER_WORK, PLAN, TEMPLATE, THIS_STUDY, attribute
 from checker.engine import check_text
 
 

@@ -19,9 +19,9 @@ from pathlib import Path
 
 import pytest
 
-from checker.checklist import load_checklist, parse_checklist
-from checker.errors import ChecklistError, InputError
-from checker.readers import read_document
+from checker.matching.checklist import load_checklist, parse_checklist
+from checker.core.errors import ChecklistError, InputError
+from checker.reading import read_document
 
 ROOT = Path(__file__).resolve().parent.parent
 MEMORY_LIMIT = 1536 * 1024 * 1024  # bytes of address space for a whole run over the corpus
@@ -304,7 +304,7 @@ def test_interrupted_batch_leaves_no_output_and_says_so(corpus, tmp_path):
 
 
 def test_time_limit_stops_a_slow_read_with_a_clean_error(corpus):
-    from checker.limits import time_limit
+    from checker.core.limits import time_limit
 
     read_document(corpus["good_markdown"])  # the reader module is imported before the alarm is set
     with pytest.raises(InputError, match=r"took longer than 0\.05 s") as info, \
@@ -314,7 +314,7 @@ def test_time_limit_stops_a_slow_read_with_a_clean_error(corpus):
 
 
 def test_time_limit_is_disarmed_afterwards_and_defers_to_an_outer_one(corpus):
-    from checker.limits import time_limit
+    from checker.core.limits import time_limit
 
     with time_limit("outer.md", 30), time_limit("inner.md", 0.01):  # the outer bound stays in charge
         time.sleep(0.05)

@@ -7,7 +7,7 @@ from pathlib import Path
 
 import pytest
 
-from checker.batch import BatchResult, run_batch
+from checker.many.batch import BatchResult, run_batch
 from checker.reports.json import dumps
 
 DEMO = Path(__file__).resolve().parent.parent / "fixtures" / "demo"
@@ -56,7 +56,7 @@ def test_local_pool_equals_serial_byte_for_byte(serial, batch_paths):
 
 
 def test_bad_engine_and_jobs_are_usage_errors(batch_paths):
-    from checker.errors import UsageError
+    from checker.core.errors import UsageError
 
     with pytest.raises(UsageError, match="engine"):
         run_batch(batch_paths, engine="spark")

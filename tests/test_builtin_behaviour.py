@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 from checker.engine import check_text, choose_checklist
-from checker.nlp import parse_blocks
+from checker.matching.nlp import parse_blocks
 
 DATASHEET = """Fictional example: the Harrowgate Knee MRI Collection is an invented dataset.
 
@@ -79,7 +79,7 @@ def test_agreement_with_hand_labels_of_scikit_learns_shipped_descriptions():
     import importlib.util
     from pathlib import Path
 
-    from checker.evaluation import evaluate, load_labels
+    from checker.many.evaluation import evaluate, load_labels
 
     from .conftest import DATA
 

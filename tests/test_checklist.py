@@ -6,8 +6,8 @@ import textwrap
 
 import pytest
 
-from checker.checklist import builtin_ids, load_checklist, parse_checklist
-from checker.errors import ChecklistError, UsageError
+from checker.matching.checklist import builtin_ids, load_checklist, parse_checklist
+from checker.core.errors import ChecklistError, UsageError
 
 from .conftest import DATA
 

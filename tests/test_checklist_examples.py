@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import pytest
 
-from checker.checklist import builtin_ids, load_checklist
+from checker.matching.checklist import builtin_ids, load_checklist
 from checker.engine import check_text
 
 

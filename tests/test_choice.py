@@ -1,7 +1,7 @@
 """`--checklist auto`: the kind of document decides the checklist, from its words and from how it is built."""
 
 from checker.engine import choose_checklist, document_from_text, paper_skeleton
-from checker.nlp import parse_blocks
+from checker.matching.nlp import parse_blocks
 
 
 def _choose(text: str) -> str:
@@ -56,8 +56,8 @@ def _md(text: str):
     import tempfile
     from pathlib import Path
 
-    from checker.limits import DEFAULT_LIMITS
-    from checker.readers import read_document
+    from checker.core.limits import DEFAULT_LIMITS
+    from checker.reading import read_document
 
     with tempfile.TemporaryDirectory() as d:
         p = Path(d) / "paper.md"

@@ -10,7 +10,7 @@ from pathlib import Path
 import jsonschema
 import pytest
 
-from checker.cli import main
+from checker.cli.main import main
 
 from .conftest import DATA, DEMO, ROOT
 
@@ -127,7 +127,7 @@ def test_help_and_version_answer(flag):
 
 
 def _commands():
-    from checker.cli import build_parser
+    from checker.cli.main import build_parser
 
     parser = build_parser()
     sub = next(a for a in parser._actions if a.__class__.__name__ == "_SubParsersAction")

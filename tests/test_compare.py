@@ -8,8 +8,8 @@ from pathlib import Path
 
 import pytest
 
-from checker import compare_cmd
-from checker.compare import align, change_kind, compare_documents, render
+from checker.cli import compare as compare_cmd
+from checker.many.compare import align, change_kind, compare_documents, render
 
 DEMO = Path(__file__).resolve().parent.parent / "fixtures" / "demo"
 ANNOTATION = "Two radiologists independently annotated"
@@ -69,8 +69,8 @@ def test_change_kinds():
 
 
 def test_passages_aligned_by_wording():
-    from checker.document import Location
-    from checker.report import Evidence
+    from checker.reading.document import Location
+    from checker.verdicts.report import Evidence
 
     a = Evidence("Two radiologists annotated every scan of the test set.", Location("x", line=4, section=("Data",)), 1)
     b = Evidence("Two radiologists annotated every scan of the test set.", Location("x", line=9,

@@ -2,9 +2,9 @@
 
 import pytest
 
-from checker.checklist import builtin_concepts, load_checklist, parse_checklist, parse_concepts
+from checker.matching.checklist import builtin_concepts, load_checklist, parse_checklist, parse_concepts
 from checker.engine import check_text
-from checker.errors import ChecklistError
+from checker.core.errors import ChecklistError
 
 SHARED = ["data.source", "data.counts", "data.split", "data.external-policy", "reference.annotators",
           "reference.expertise", "reference.protocol", "reference.fusion", "reference.agreement",

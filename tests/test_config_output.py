@@ -4,9 +4,9 @@ from __future__ import annotations
 
 import pytest
 
-from checker.config import find_config, load_config, parse_config
-from checker.errors import UsageError
-from checker.output import write_atomic
+from checker.core.config import find_config, load_config, parse_config
+from checker.core.errors import UsageError
+from checker.core.output import write_atomic
 
 
 def test_pyproject_table_is_found_upwards(tmp_path):

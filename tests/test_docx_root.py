@@ -5,8 +5,8 @@ import zipfile
 
 import pytest
 
-from checker.errors import InputError
-from checker.readers import read_document
+from checker.core.errors import InputError
+from checker.reading import read_document
 
 
 def test_a_docx_whose_main_part_is_another_element_is_refused(tmp_path):

@@ -5,10 +5,10 @@ from __future__ import annotations
 
 import json
 
-from checker.config import Config
+from checker.core.config import Config
 from checker.engine import check_text, document_from_text
-from checker.matching import CompiledChecklist
-from checker.verdicts import evaluate
+from checker.matching.matcher import CompiledChecklist
+from checker.verdicts.decide import evaluate
 
 from .conftest import DATA
 
@@ -65,8 +65,8 @@ def test_references_never_count_and_related_work_counts_little():
             "Doe J. Three board-certified radiologists annotated chest films. J Imaging 2020.")
     doc = document_from_text(text.replace("# ", ""))
     assert doc  # plain paragraphs: headings are not recognised in this helper, so build blocks by hand below
-    from checker.document import Block, Document, Location
-    from checker.sections import assign_sections
+    from checker.reading.document import Block, Document, Location
+    from checker.reading.sections import assign_sections
 
     blocks = [
         Block("Methods", "heading", Location("t", line=1), level=1),
@@ -78,7 +78,7 @@ def test_references_never_count_and_related_work_counts_little():
               Location("t", line=11)),
     ]
     d = Document("t", "text", tuple(assign_sections(blocks)))
-    compiled = CompiledChecklist(__import__("checker.checklist", fromlist=["x"]).load_checklist(MINI))
+    compiled = CompiledChecklist(__import__("checker.matching.checklist", fromlist=["x"]).load_checklist(MINI))
     scan = compiled.scan(d)
     assert all(s.role != "references" for s in scan.sentences)
     res = evaluate(compiled, scan)[0]

@@ -13,8 +13,8 @@ from pathlib import Path
 
 import pytest
 
-from checker.errors import ExitCode, InputError
-from checker.evaluation import (
+from checker.core.errors import ExitCode, InputError
+from checker.many.evaluation import (
     STATUSES,
     DocumentOutcome,
     LabelError,
@@ -301,7 +301,7 @@ def test_terminal_rendering_shows_tables_disagreements_and_cautions(evaluation):
 
 
 def _command_args(argv: list[str]):
-    from checker.evaluate_cmd import add_parser
+    from checker.cli.evaluate import add_parser
 
     parser = argparse.ArgumentParser(prog="studygap")
     add_parser(parser.add_subparsers(dest="command"))
@@ -309,7 +309,7 @@ def _command_args(argv: list[str]):
 
 
 def test_command_writes_json_atomically_and_exits_3_when_a_document_failed(labelled, capsys):
-    from checker.evaluate_cmd import run
+    from checker.cli.evaluate import run
 
     out = labelled / "result.json"
     args = _command_args([str(labelled / "labels"), "--format", "json", "-o", str(out), "--resamples", "50",
@@ -323,7 +323,7 @@ def test_command_writes_json_atomically_and_exits_3_when_a_document_failed(label
 
 
 def test_studygap_command_line_runs_evaluate(labelled, capsys):
-    from checker.cli import main
+    from checker.cli.main import main
 
     assert main(["evaluate", str(labelled / "labels"), "--resamples", "50", "--no-color"]) == 3
     captured = capsys.readouterr()
@@ -333,7 +333,7 @@ def test_studygap_command_line_runs_evaluate(labelled, capsys):
 
 
 def test_command_bad_labels_exit_2_with_one_clear_line(tmp_path, capsys):
-    from checker.evaluate_cmd import run
+    from checker.cli.evaluate import run
 
     _write(tmp_path / "docs", {"alpha.md": DOCS["alpha.md"]})
     _write(tmp_path / "labels", {"a.yaml": "document: docs/alpha.md\nitems:\n  data.source: reportd\n"})

@@ -15,7 +15,7 @@ from hypothesis import strategies as st
 
 
 from .conftest import medmnist_info
-from checker.facts import (
+from checker.matching.facts import (
     DECIMAL,
     MACROS,
     NUMBER,

@@ -3,10 +3,10 @@ its cross-validation choose what agrees with the labels."""
 
 import pytest
 
-from checker.errors import ChecklistError
-from checker.fitted import parse_thresholds, threshold
-from checker.fitting import ItemScores, cross_validate, fit, scores_of
-from checker.matching import FOUND_AT
+from checker.core.errors import ChecklistError
+from checker.verdicts.fitted import parse_thresholds, threshold
+from checker.many.fitting import ItemScores, cross_validate, fit, scores_of
+from checker.matching.matcher import FOUND_AT
 
 from .conftest import DEMO  # noqa: F401  (fixtures/demo)
 

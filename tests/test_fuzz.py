@@ -21,11 +21,11 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from checker.checklist import Checklist, parse_checklist
-from checker.document import Document
-from checker.errors import StudygapError
-from checker.limits import Limits
-from checker.readers import read_document
+from checker.matching.checklist import Checklist, parse_checklist
+from checker.reading.document import Document
+from checker.core.errors import StudygapError
+from checker.core.limits import Limits
+from checker.reading import read_document
 
 ROOT = Path(__file__).resolve().parent.parent
 EXAMPLES = int(os.environ.get("STUDYGAP_FUZZ_EXAMPLES", "40"))

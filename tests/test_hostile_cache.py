@@ -19,12 +19,13 @@ from pathlib import Path
 import pytest
 import regex
 
-from checker import regexcache, resultcache
-from checker.cli import main
-from checker.config import Config
+from checker import resultcache
+from checker.matching import regexcache
+from checker.cli.main import main
+from checker.core.config import Config
 from checker.engine import check_document
-from checker.limits import DEFAULT_LIMITS
-from checker.report import Fact
+from checker.core.limits import DEFAULT_LIMITS
+from checker.verdicts.report import Fact
 
 from .conftest import DATA
 
@@ -219,7 +220,7 @@ def test_damaged_regex_cache_files_never_crash_or_hang(tmp_path):
     # run apart: a bad compiled pattern would crash the interpreter itself (SIGSEGV), not raise
     code = textwrap.dedent(f"""
         import random, regex
-        from checker import regexcache
+        from checker.matching import regexcache
         path = regexcache._file()
         sound = {{({PATTERN!r}, 0): regex.compile({PATTERN!r}), ({OTHER!r}, 2): regex.compile({OTHER!r}, 2)}}
         regexcache.pickle_atomically(path, sound)
@@ -252,7 +253,7 @@ def test_a_check_with_a_poisoned_regex_cache_gives_the_verdicts_of_a_clean_one(t
                           timeout=120)
     poisoned = tmp_path / "poisoned"
     poisoned.mkdir()
-    name = subprocess.run([sys.executable, "-c", "from checker import regexcache; print(regexcache._file().name)"],
+    name = subprocess.run([sys.executable, "-c", "from checker.matching import regexcache; print(regexcache._file().name)"],
                           capture_output=True, text=True, env={**env, "STUDYGAP_CACHE_DIR": str(poisoned)},
                           timeout=60).stdout.strip()
     rng = random.Random(7)

@@ -11,8 +11,8 @@ from pathlib import Path
 
 import yaml
 
-from checker.checklist import load_checklist
-from checker.config import find_config, search_folders
+from checker.matching.checklist import load_checklist
+from checker.core.config import find_config, search_folders
 
 from .conftest import DATA
 

@@ -8,7 +8,7 @@ import time
 
 import pytest
 
-from checker.batch import run_batch
+from checker.many.batch import run_batch
 
 from .conftest import DATA
 

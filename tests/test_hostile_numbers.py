@@ -11,7 +11,7 @@ from pathlib import Path
 
 import pytest
 
-from checker.facts import MAX_DIGITS, parse_number
+from checker.matching.facts import MAX_DIGITS, parse_number
 
 ROOT = Path(__file__).resolve().parent.parent
 HUGE = "7" * 5000  # over Python's limit of 4,300 digits for int <-> text

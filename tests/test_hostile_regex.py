@@ -13,10 +13,10 @@ from pathlib import Path
 import pytest
 import regex
 
-from checker import regexcache
-from checker.checklist import builtin_ids, load_checklist
-from checker.facts import expand_macros
-from checker.limits import MAX_REGEX_EXPANSION, regex_expansion, regex_size_problem
+from checker.matching import regexcache
+from checker.matching.checklist import builtin_ids, load_checklist
+from checker.matching.facts import expand_macros
+from checker.core.limits import MAX_REGEX_EXPANSION, regex_expansion, regex_size_problem
 
 from .test_bad_input import make_bad  # the hostile corpus builder's checklist template
 

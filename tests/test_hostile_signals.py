@@ -17,7 +17,7 @@ from pathlib import Path
 
 import pytest
 
-from checker.limits import signals_stay_with_main_thread
+from checker.core.limits import signals_stay_with_main_thread
 
 ROOT = Path(__file__).resolve().parent.parent
 LINUX = sys.platform.startswith("linux")
@@ -70,7 +70,7 @@ def test_library_helper_threads_started_by_a_check_never_take_ctrl_c():
     # never wakes a main thread that waits in a read, so Ctrl-C did nothing on a first, cold-cache run
     code = textwrap.dedent("""
         import os, threading
-        from checker.limits import time_limit
+        from checker.core.limits import time_limit
         with time_limit("doc.md", 30):
             import numpy
         main = threading.get_native_id()

@@ -7,8 +7,8 @@ import re
 
 import pytest
 
-from checker.checklist import builtin_ids, load_checklist
-from checker.report import FacetResult, ItemResult, Report
+from checker.matching.checklist import builtin_ids, load_checklist
+from checker.verdicts.report import FacetResult, ItemResult, Report
 from checker.reports import RenderOptions, render
 from checker.reports.markdown import MAX_REQUESTS, ranked_gaps, request
 

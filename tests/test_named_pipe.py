@@ -6,8 +6,8 @@ import sys
 
 import pytest
 
-from checker.checklist import parse_checklist
-from checker.errors import ChecklistError
+from checker.matching.checklist import parse_checklist
+from checker.core.errors import ChecklistError
 
 
 @pytest.mark.skipif(not hasattr(os, "mkfifo"), reason="named pipes need a POSIX system")

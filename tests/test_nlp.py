@@ -8,7 +8,7 @@ from pathlib import Path
 
 import pytest
 
-from checker.nlp import split_sentences
+from checker.matching.nlp import split_sentences
 
 
 @pytest.mark.parametrize(

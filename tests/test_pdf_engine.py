@@ -15,9 +15,9 @@ from pathlib import Path
 
 import pytest
 
-from checker.limits import DEFAULT_LIMITS
-from checker.readers import pdf as pdf_reader
-from checker.readers import pdfium_layout
+from checker.core.limits import DEFAULT_LIMITS
+from checker.reading import pdf as pdf_reader
+from checker.reading import pdfium_layout
 
 from .test_reader_pdf import render
 

@@ -5,10 +5,10 @@ from __future__ import annotations
 
 import pytest
 
-from checker.document import Block, Document, Location
-from checker.outline import section_tree
-from checker.readers.pdf import _plausible_heading
-from checker.sections import assign_sections
+from checker.reading.document import Block, Document, Location
+from checker.cli.outline import section_tree
+from checker.reading.pdf import _plausible_heading
+from checker.reading.sections import assign_sections
 
 
 @pytest.mark.parametrize("text", [
@@ -63,7 +63,7 @@ PARAGRAPH = (None, "", 0, 0)
 
 
 def test_two_headings_set_one_above_the_other_are_two_headings(tmp_path):
-    from checker.readers import read_document
+    from checker.reading import read_document
 
     path = tmp_path / "stacked.pdf"
     bold = ("Helvetica-Bold", 12, 16)
@@ -76,7 +76,7 @@ def test_two_headings_set_one_above_the_other_are_two_headings(tmp_path):
 
 
 def test_lettered_subsections_under_roman_sections_are_headings(tmp_path):
-    from checker.readers import read_document
+    from checker.reading import read_document
 
     path = tmp_path / "ieee.pdf"
     caps, italic = ("Helvetica", 10, 14), ("Helvetica-Oblique", 10, 20)  # subsections set apart from the text

@@ -8,7 +8,7 @@ import re
 
 import pytest
 
-from checker.readers import pdf as pdfreader
+from checker.reading import pdf as pdfreader
 
 LINES = 20_000
 

@@ -9,7 +9,7 @@ import subprocess
 
 import pytest
 
-from checker.readers import read_document
+from checker.reading import read_document
 from checker.reports.lines import position
 
 reportlab = pytest.importorskip("reportlab")

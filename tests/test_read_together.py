@@ -7,9 +7,9 @@ from pathlib import Path
 
 import pytest
 
-from checker.errors import InputError
-from checker.readers import files_in_order, read_document, read_together
-from checker.readers.latex import main_files_for
+from checker.core.errors import InputError
+from checker.reading import files_in_order, read_document, read_together
+from checker.reading.latex import main_files_for
 
 
 def _site(folder: Path) -> list[Path]:

@@ -11,9 +11,9 @@ import pytest
 from docx.oxml import OxmlElement, parse_xml
 from docx.oxml.ns import nsdecls, qn
 
-from checker.errors import InputError
-from checker.limits import Limits
-from checker.readers import read_document
+from checker.core.errors import InputError
+from checker.core.limits import Limits
+from checker.reading import read_document
 
 W_NS = "http://schemas.openxmlformats.org/wordprocessingml/2006/main"
 FOOTNOTES = f"""<?xml version="1.0" encoding="UTF-8" standalone="yes"?>

@@ -5,7 +5,7 @@ from __future__ import annotations
 import codecs
 from pathlib import Path
 
-from checker.readers import read_document
+from checker.reading import read_document
 
 PAGE = """\
 <!DOCTYPE html>

@@ -7,7 +7,7 @@ from pathlib import Path
 
 import pytest
 
-from checker.readers import read_document
+from checker.reading import read_document
 
 MAIN = r"""\documentclass{article}
 \usepackage{amsmath}

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from pathlib import Path
 
-from checker.readers import read_document
+from checker.reading import read_document
 
 PAGE = """\
 ---

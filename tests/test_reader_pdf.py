@@ -14,9 +14,9 @@ from pathlib import Path
 import pytest
 from rapidfuzz.distance import Indel
 
-from checker.errors import InputError
-from checker.limits import Limits
-from checker.readers import read_document
+from checker.core.errors import InputError
+from checker.core.limits import Limits
+from checker.reading import read_document
 
 ROOT = Path(__file__).resolve().parent.parent
 SOURCES = Path(__file__).resolve().parent / "data" / "pdf"

@@ -7,9 +7,9 @@ from pathlib import Path
 
 import pytest
 
-from checker.errors import InputError
-from checker.readers import read_document
-from checker.readers.text import LineText, decode_bytes, numbered_heading_level
+from checker.core.errors import InputError
+from checker.reading import read_document
+from checker.reading.text import LineText, decode_bytes, numbered_heading_level
 
 
 def write(tmp_path: Path, name: str, content: str | bytes) -> Path:

@@ -17,7 +17,7 @@ from pathlib import Path
 import docx
 import pytest
 
-from checker.readers import read_document
+from checker.reading import read_document
 
 
 def _shipped(package: str, *parts: str) -> list[Path]:
@@ -196,7 +196,7 @@ PDF_FILES = FILES[::4]  # every fourth description: PDF rendering is the slow pa
 def test_the_same_sentences_come_out_of_a_pdf_rendering(path, tmp_path, blocks_by_file):
     # The description, rendered to Markdown and from there to PDF with the fixture renderer (reportlab), gives
     # back the same sentences through the PDF reader (line breaks, page breaks, headers and page numbers between).
-    from checker.nlp import segment
+    from checker.matching.nlp import segment
 
     render = _render_module()
     doc = _read_text(path, blocks_by_file)

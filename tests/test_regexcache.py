@@ -10,7 +10,7 @@ import sys
 import pytest
 import regex
 
-from checker import regexcache
+from checker.matching import regexcache
 
 PATTERN = r"\b(?P<n>\d+)\s+(?:hospitals|centres)\b"
 TEXT = "Images came from 3 hospitals and 2 centres."
@@ -21,7 +21,7 @@ def _run(cache: str, code: str) -> subprocess.CompletedProcess:
     return subprocess.run([sys.executable, "-c", code], env=env, capture_output=True, text=True, timeout=60)
 
 
-FIND = ("import regex; from checker import regexcache as r; rx = r.compile(%r, regex.I); "
+FIND = ("import regex; from checker.matching import regexcache as r; rx = r.compile(%r, regex.I); "
         "print([m.group('n') for m in rx.finditer(%r)], r._new)" % (PATTERN, TEXT))
 
 

@@ -9,8 +9,8 @@ import regex
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from checker.checklist import builtin_ids, compile_regex
-from checker.regexscan import Sentences, joinable, required_words
+from checker.matching.checklist import builtin_ids, compile_regex
+from checker.matching.regexscan import Sentences, joinable, required_words
 
 ROOT = Path(__file__).resolve().parent.parent
 
@@ -24,7 +24,7 @@ def fast(rx, src, texts):
 
 
 def all_sources() -> list[str]:
-    from checker.checklist import load_checklist
+    from checker.matching.checklist import load_checklist
     from checker.rules import load_rules
 
     out = []
@@ -47,7 +47,7 @@ def all_sources() -> list[str]:
 
 def corpus_sentences() -> list[str]:
     """Sentences of the fictional demo documents and of scikit-learn's shipped dataset descriptions."""
-    from checker.nlp import split_sentences
+    from checker.matching.nlp import split_sentences
 
     texts = [p.read_text(encoding="utf-8") for p in sorted((ROOT / "fixtures" / "demo").glob("*.md"))]
     descr = Path(pytest.importorskip("sklearn").__file__).parent / "datasets" / "descr"

@@ -11,10 +11,10 @@ import shutil
 import pytest
 
 from checker import engine, resultcache
-from checker.cli import main
-from checker.config import Config
+from checker.cli.main import main
+from checker.core.config import Config
 from checker.engine import check_document
-from checker.limits import DEFAULT_LIMITS
+from checker.core.limits import DEFAULT_LIMITS
 
 from .conftest import DATA
 
@@ -164,7 +164,7 @@ def _hostile_pickles(marker):
     # a studygap record holding the call deep inside, where a report's text would be
     yield pickle.dumps({"items": [("x", _Boom(marker))]})
     # a name looked up through a studygap module that imports os (protocol 4 allows dotted names)
-    module, name, arg = b"checker.batch", b"os.system", f"touch {marker}".encode()
+    module, name, arg = b"checker.many.batch", b"os.system", f"touch {marker}".encode()
     yield (b"\x80\x04\x8c" + bytes([len(module)]) + module + b"\x8c" + bytes([len(name)]) + name + b"\x93"
            + b"\x8c" + bytes([len(arg)]) + arg + b"\x85R.")
 
@@ -263,7 +263,7 @@ def test_no_cache_neither_reads_nor_writes_the_cache(cache, doc, capsys):
 
 
 def test_a_batch_reuses_reports_of_unchanged_files_and_rechecks_the_changed_one(cache, tmp_path):
-    from checker.batch import run_batch
+    from checker.many.batch import run_batch
     from checker.reports.json import dumps
 
     folder, runs = cache
@@ -296,8 +296,8 @@ def test_screen_no_cache_checks_every_file_afresh(cache, tmp_path, doc):
 
 
 def test_parsed_checklists_are_reused_and_errors_are_never_kept(cache, tmp_path, monkeypatch):
-    from checker import checklist as checklist_module
-    from checker.errors import ChecklistError
+    from checker.matching import checklist as checklist_module
+    from checker.core.errors import ChecklistError
 
     folder, _runs = cache
     text = (DATA / "checklists" / "mini.yaml").read_text(encoding="utf-8")

@@ -11,9 +11,9 @@ from pathlib import Path
 
 import pytest
 
-from checker.config import Config
+from checker.core.config import Config
 from checker.engine import check_document, check_text
-from checker.errors import ChecklistError, UsageError
+from checker.core.errors import ChecklistError, UsageError
 from checker.rules import CHECKS, load_rules, parse_rules
 
 from .conftest import DEMO, medmnist_info

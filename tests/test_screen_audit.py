@@ -12,10 +12,11 @@ from pathlib import Path
 
 import pytest
 
-from checker import audit_cmd, screen_cmd
-from checker.audit import build_audit, load_meta, plot
-from checker.batch import run_batch
-from checker.screen import build_screen, completeness
+from checker.cli import audit as audit_cmd
+from checker.cli import screen as screen_cmd
+from checker.many.audit import build_audit, load_meta, plot
+from checker.many.batch import run_batch
+from checker.many.screen import build_screen, completeness
 
 DEMO = Path(__file__).resolve().parent.parent / "fixtures" / "demo"
 NO_OUTPUT = ("When a detector produced no output for a patient, the case was counted as a negative prediction "
@@ -172,7 +173,7 @@ def test_audit_command_writes_table_and_plot(corpus, tmp_path, capsys):
 def test_audit_csv_reads_as_one_row_per_rate_with_csv_and_pandas(corpus_results):
     # external reader: pandas.read_csv with its defaults, beside the standard csv module
     pd = pytest.importorskip("pandas", reason="pandas is not installed (it comes with statsmodels, a test extra)")
-    from checker.audit import COLUMNS, render
+    from checker.many.audit import COLUMNS, render
 
     audit = build_audit(corpus_results[:10], "validation-study, named by the user")
     text = render(audit, "csv")
@@ -212,7 +213,7 @@ def mixed_results(corpus_results, tmp_path_factory):
 
 
 def test_audit_of_a_mixed_corpus_gives_rates_per_checklist(mixed_results, corpus_results):
-    from checker.audit import render
+    from checker.many.audit import render
 
     audit = build_audit(mixed_results)
     assert [(c[0], c[3]) for c in audit.checklists] == [("validation-study", 24), ("benchmark-proposal", 8)]
@@ -237,8 +238,8 @@ def test_audit_plot_draws_for_every_corpus_size_from_1_to_60(mixed_results, tmp_
     pytest.importorskip("matplotlib", reason="matplotlib is not installed (pip install 'studygap[plot]')")
     import matplotlib.pyplot as plt
 
-    from checker.audit import figure
-    from checker.batch import BatchResult
+    from checker.many.audit import figure
+    from checker.many.batch import BatchResult
 
     edges = 0
     for n in range(1, 61):
@@ -261,7 +262,7 @@ def test_audit_plot_labels_lie_inside_the_figure_and_show_n(mixed_results):
     import matplotlib.pyplot as plt
     from matplotlib.text import Text
 
-    from checker.audit import figure
+    from checker.many.audit import figure
 
     audit = build_audit(mixed_results)
     fig = figure(audit)
@@ -289,7 +290,7 @@ def test_audit_names_unread_and_skipped_files_and_keeps_the_table_when_the_plot_
     (folder / "notes.odt").write_bytes(b"PK\x03\x04 not read")
     out, chart = tmp_path / "rates.json", tmp_path / "rates.png"
 
-    import checker.audit as audit_mod
+    import checker.many.audit as audit_mod
 
     def broken(*_a, **_k):
         raise ValueError("'xerr' must not contain negative values")
@@ -361,7 +362,7 @@ def test_screen_matrix_scores_and_error_row(demo_inputs, tmp_path, capsys):
 def test_screen_csv_html_terminal_carry_notes(demo_inputs, tmp_path, capsys):
     results = run_batch(sorted(str(p) for p in demo_inputs.iterdir()), "validation-study", jobs=1)
     screen = build_screen(results, "validation-study, named by the user", seconds=1.5)
-    from checker.screen import render
+    from checker.many.screen import render
 
     text = render(screen, "csv")
     rows = list(csv.reader(io.StringIO(text)))
@@ -384,7 +385,7 @@ def test_completeness_counts_partial_half():
 
 
 def test_folder_walk_skips_latex_parts_and_hidden_files(tmp_path):
-    from checker.screen_cmd import collect_inputs
+    from checker.cli.screen import collect_inputs
 
     found = collect_inputs([str(DEMO)])
     assert str(DEMO / "wrist-fracture-manuscript" / "main.tex") in found
@@ -392,7 +393,7 @@ def test_folder_walk_skips_latex_parts_and_hidden_files(tmp_path):
     assert found == sorted(found)
     (tmp_path / ".draft.md").write_text("hidden", encoding="utf-8")
     (tmp_path / "notes.xyz").write_text("not a document", encoding="utf-8")
-    from checker.errors import UsageError
+    from checker.core.errors import UsageError
 
     with pytest.raises(UsageError, match="no documents found"):
         collect_inputs([str(tmp_path)])

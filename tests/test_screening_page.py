@@ -15,8 +15,8 @@ from pathlib import Path
 
 import pytest
 
-from checker.batch import run_batch
-from checker.screen import build_screen, render, short_names, sidecar
+from checker.many.batch import run_batch
+from checker.many.screen import build_screen, render, short_names, sidecar
 
 DEMO = Path(__file__).resolve().parent.parent / "fixtures" / "demo"
 CHROMIUM = next((shutil.which(n) for n in ("chromium", "chromium-browser") if shutil.which(n)), None)
@@ -77,7 +77,7 @@ def test_csv_has_one_header_row_and_one_row_per_document(screen):
 
 
 def test_screen_command_writes_the_csv_notes_beside_it(tmp_path, capsys):
-    from checker import screen_cmd
+    from checker.cli import screen as screen_cmd
     from tests.test_screen_audit import parse
 
     folder = tmp_path / "in"
@@ -244,7 +244,7 @@ def test_screen_docx_opens_in_libreoffice_landscape(screen, tmp_path, monkeypatc
 
 
 def test_checklist_auto_chooses_per_document_and_shows_them_apart(tmp_path, capsys):
-    from checker import screen_cmd
+    from checker.cli import screen as screen_cmd
     from tests.test_screen_audit import parse
 
     folder = tmp_path / "in"

@@ -4,8 +4,8 @@ from __future__ import annotations
 
 import pytest
 
-from checker.document import Block, Location
-from checker.sections import assign_sections, heading_role
+from checker.reading.document import Block, Location
+from checker.reading.sections import assign_sections, heading_role
 
 
 @pytest.mark.parametrize(

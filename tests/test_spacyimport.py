@@ -40,7 +40,7 @@ def test_spacy_imported_before_studygap_is_left_alone():
     out = _run(
         "import spacy, sys\n"
         "import checker\n"
-        "from checker.spacyimport import _Finder\n"
+        "from checker.matching.spacyimport import _Finder\n"
         "print('spacy.cli' in sys.modules, any(isinstance(f, _Finder) for f in sys.meta_path))\n"
     )
     assert out == "True False"

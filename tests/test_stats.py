@@ -9,7 +9,7 @@ import statistics
 import numpy as np
 import pytest
 
-from checker.stats import (
+from checker.many.stats import (
     binary_scores,
     bootstrap_ci,
     bootstrap_distribution,

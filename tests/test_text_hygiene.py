@@ -15,11 +15,11 @@ import re
 import docx
 import pytest
 
-from checker.document import Block, Location, Mark
-from checker.limits import DEFAULT_LIMITS
-from checker.nlp import parse_blocks
-from checker.readers import read_document
-from checker.readers.hygiene import clean_block, clean_text
+from checker.reading.document import Block, Location, Mark
+from checker.core.limits import DEFAULT_LIMITS
+from checker.matching.nlp import parse_blocks
+from checker.reading import read_document
+from checker.reading.hygiene import clean_block, clean_text
 
 BAD = re.compile("[\x00-\x08\x0b\x0c\x0e-\x1f\x7f-\x9f\ud800-\udfff\ue000-\uf8ff\U000f0000-\U0010ffff\ufffe\uffff]")
 JUNK = "\x01\x0b\x1b\x7f\ue000\U000f0001"

@@ -7,7 +7,7 @@ from __future__ import annotations
 import pytest
 
 from checker.engine import check_document
-from checker.readers import read_document
+from checker.reading import read_document
 
 reportlab = pytest.importorskip("reportlab")
 from tests.pdf_drawing import draw  # noqa: E402

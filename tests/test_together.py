@@ -1,13 +1,16 @@
 """Several files as one document (`check --together`), and a LaTeX section file checked as part of its main file."""
 
 import json
+import os
 import subprocess
 import sys
 
 
 def _studygap(*args, cwd=None):
+    # a bare environment, but the same code: PYTHONPATH names the checkout under test where it is set
+    env = {"STUDYGAP_CACHE_DIR": "off", "PATH": "/usr/bin:/bin", "PYTHONPATH": os.environ.get("PYTHONPATH", "")}
     return subprocess.run([sys.executable, "-m", "checker.cli", *args], capture_output=True, text=True, cwd=cwd,
-                          env={"STUDYGAP_CACHE_DIR": "off", "PATH": "/usr/bin:/bin"})
+                          env=env)
 
 
 def test_a_site_of_several_pages_is_one_document(tmp_path):

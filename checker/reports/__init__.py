@@ -11,7 +11,7 @@ from dataclasses import dataclass
 from typing import TYPE_CHECKING, Sequence
 
 if TYPE_CHECKING:  # the report model is not needed to list the formats for --help
-    from ..report import Report
+    from ..verdicts.report import Report
 
 
 @dataclass(frozen=True)

@@ -8,7 +8,7 @@ import os
 from collections.abc import Sequence
 from datetime import datetime, timezone
 
-from ..report import CAUTIONS, Evidence, ItemResult, Report
+from ..verdicts.report import CAUTIONS, Evidence, ItemResult, Report
 from .words import glyph, word
 
 COLUMNS = ("Item", "Question", "Status", "Where reported", "Quoted evidence", "Request to the authors",

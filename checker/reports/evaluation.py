@@ -1,6 +1,6 @@
 """Renderers of an Evaluation (agreement with the user's labels): terminal tables and JSON.
 
-They show what checker.evaluation computed and compute nothing themselves.
+They show what checker.many.evaluation computed and compute nothing themselves.
 """
 
 from __future__ import annotations
@@ -14,7 +14,7 @@ from rich.padding import Padding
 from rich.table import Table
 from rich.text import Text
 
-from ..evaluation import STATUSES, Evaluation, Pair, to_json
+from ..many.evaluation import STATUSES, Evaluation, Pair, to_json
 
 FORMATS = ("terminal", "json")
 

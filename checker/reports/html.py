@@ -8,7 +8,7 @@ import hashlib
 from collections.abc import Sequence
 from html import escape
 
-from ..report import CAUTIONS, Evidence, ItemResult, Report
+from ..verdicts.report import CAUTIONS, Evidence, ItemResult, Report
 from .words import GAPS_FIRST, GLYPHS, heading, status_checkboxes
 
 #: status -> (heading word, glyph shown beside the word): the one vocabulary of words.py

@@ -5,7 +5,7 @@ from __future__ import annotations
 import json
 from typing import Sequence
 
-from ..report import Report
+from ..verdicts.report import Report
 
 
 def dumps(data) -> str:

@@ -5,7 +5,7 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 
-from ..report import Report
+from ..verdicts.report import Report
 from .markdown import MAX_REQUESTS, escape, letter, ranked_gaps
 
 

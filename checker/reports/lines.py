@@ -7,9 +7,9 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 
-from ..document import Location
-from ..errors import visible
-from ..report import Evidence, Report
+from ..reading.document import Location
+from ..core.errors import visible
+from ..verdicts.report import Evidence, Report
 
 GAPS = ("missing", "partial")
 

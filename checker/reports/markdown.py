@@ -6,8 +6,8 @@ from __future__ import annotations
 import re
 from collections.abc import Sequence
 
-from ..errors import visible
-from ..report import CAUTIONS, Evidence, FacetResult, ItemResult, Report
+from ..core.errors import visible
+from ..verdicts.report import CAUTIONS, Evidence, FacetResult, ItemResult, Report
 from .words import heading, word
 
 #: the order of sections: what needs the authors' attention first; headings are words.py's words

@@ -16,7 +16,7 @@ from typing import TYPE_CHECKING
 from .words import GAPS_FIRST, GLYPHS, MEANINGS, WORDS, glyph, status_checkboxes, word
 
 if TYPE_CHECKING:
-    from ..screen import Screen, ScreenChecklist, ScreenRow
+    from ..many.screen import Screen, ScreenChecklist, ScreenRow
 
 STATUSES = ("reported", "partial", "missing", "not-applicable", "waived")
 
@@ -265,7 +265,7 @@ def _detail(num: int, k: int, r: ScreenRow, c: ScreenChecklist, name: str) -> st
 
 
 def render_html(screen: Screen) -> str:
-    from ..screen import CAUTIONS, SCORE_NOTE, _summary_line, short_names
+    from ..many.screen import CAUTIONS, SCORE_NOTE, _summary_line, short_names
 
     names_list = short_names([r.path for r in screen.rows])
     names = {id(r): n for r, n in zip(screen.rows, names_list)}
@@ -347,7 +347,7 @@ def render_docx(screen: Screen) -> bytes:
     from docx.enum.text import WD_ALIGN_PARAGRAPH
     from docx.shared import Pt
 
-    from ..screen import CAUTIONS, SCORE_NOTE, _summary_line, short_names
+    from ..many.screen import CAUTIONS, SCORE_NOTE, _summary_line, short_names
     from .docx import _repeat_header, _widths, landscape_document, report_date, save, shade
 
     when = report_date()

@@ -9,8 +9,8 @@ from rich.console import Console
 from rich.padding import Padding
 from rich.text import Text
 
-from ..errors import visible
-from ..report import CAUTIONS, STATUS_ORDER, Evidence, Report
+from ..core.errors import visible
+from ..verdicts.report import CAUTIONS, STATUS_ORDER, Evidence, Report
 from .words import glyph, word
 
 #: status -> style: one neutral scale, gaps in bold; the glyph and the word are always printed, so style is never

@@ -1,0 +1,109 @@
+"""Fit each concept's evidence threshold on labelled documents, and measure the fit by leaving one document out.
+
+An item's status depends on how strong the best evidence for each facet is (section weight x whose statement it
+is x facet weight) against a threshold. The threshold is the one number per concept fitted here: every labelled
+document is checked once, each item is reduced to its facet scores, and the status at any threshold is then
+worked out without checking again. Cross-validation fits on all documents but one and judges the one left out,
+so that its figures say how the fitted values do on a document they were not fitted on.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Iterable, Sequence
+
+from ..matching.matcher import APPLIES, FOUND_AT, key
+
+#: thresholds tried: between the weights a sentence can carry (1.0 methods, 0.9 results, 0.6 framing sections with
+#: "we", 0.5 a general statement in methods, 0.4 a plan, 0.36 a heading, 0.3 background in an introduction)
+GRID = (0.35, 0.45, 0.5, 0.55, 0.65, 0.75, 0.85, 0.95)
+
+
+@dataclass(frozen=True)
+class ItemScores:
+    """One item of one labelled document, reduced to what its status depends on."""
+
+    document: str
+    item_id: str
+    concept: str
+    human: str
+    facet_scores: tuple[tuple[str, float], ...]
+    needs: tuple[tuple[str, ...], ...]
+    #: the item has an `applies_when` and none of its cues occurs: nothing found makes it not applicable
+    inapplicable_when_empty: bool
+
+    def status_at(self, threshold: float) -> str:
+        """The status the verdicts give at this threshold."""
+        from ..verdicts.decide import decide
+
+        return decide({f for f, s in self.facet_scores if s >= threshold}, self.needs, self.inapplicable_when_empty)
+
+
+def scores_of(document: str, checklist: str, labels: dict[str, str], limits=None) -> list[ItemScores]:
+    """Check one document and reduce each labelled item to its facet scores."""
+    from ..engine import compiled_for
+    from ..core.limits import DEFAULT_LIMITS
+    from ..matching.nlp import parse_blocks
+    from ..reading import read_document
+    from ..verdicts.decide import facet_hits
+
+    limits = limits or DEFAULT_LIMITS
+    doc = read_document(document, limits)
+    docs = list(parse_blocks(b.text for b in doc.blocks))
+    compiled = compiled_for(checklist)
+    scan = compiled.scan(doc, regex_seconds=limits.regex_seconds, docs=docs)
+    out = []
+    for ii, item in enumerate(compiled.checklist.items):
+        if item.id not in labels:
+            continue
+        per = [facet_hits(scan, ii, fi, f) for fi, f in enumerate(item.facets)]
+        out.append(ItemScores(
+            document=document, item_id=item.id, concept=item.concept or item.id, human=labels[item.id],
+            facet_scores=tuple((fh.facet.id, round(fh.score, 6)) for fh in per), needs=item.needs,
+            inapplicable_when_empty=item.applies_when is not None and not scan.hits.get(key(ii, -1, APPLIES)),
+        ))
+    return out
+
+
+def _three(status: str) -> str:
+    return "missing" if status == "not-applicable" else status
+
+
+def _gain(rows: Sequence[ItemScores], t: float) -> float:
+    """Agreement at threshold t: a point for the same reported/partial/missing, half a point for the same
+    presence (reported or partial, or not), a quarter for the same not-applicable."""
+    g = 0.0
+    for r in rows:
+        tool = r.status_at(t)
+        g += _three(tool) == _three(r.human)
+        g += 0.5 * ((_three(tool) != "missing") == (_three(r.human) != "missing"))
+        g += 0.25 * ((tool == "not-applicable") == (r.human == "not-applicable"))
+    return g
+
+
+#: a fitted threshold replaces the default only when it agrees with the labels on this many more points (about
+#: two documents' worth): with a few dozen documents, smaller gains are as likely noise as signal
+MARGIN = 2.0
+
+
+def fit(rows: Iterable[ItemScores], grid: Sequence[float] = GRID, margin: float = MARGIN) -> dict[str, float]:
+    """Per concept the threshold with the most agreement, kept only where it beats the default by `margin`;
+    on a tie the one nearest the default."""
+    by_concept: dict[str, list[ItemScores]] = {}
+    for r in rows:
+        by_concept.setdefault(r.concept, []).append(r)
+    out = {}
+    for c, rs in sorted(by_concept.items()):
+        best = max(grid, key=lambda t: (_gain(rs, t), -abs(t - FOUND_AT)))
+        out[c] = best if _gain(rs, best) >= _gain(rs, FOUND_AT) + margin else FOUND_AT
+    return out
+
+
+def cross_validate(rows: Sequence[ItemScores], grid: Sequence[float] = GRID) -> list[tuple[ItemScores, str]]:
+    """Each row with the status given by thresholds fitted on every other document (leave one document out)."""
+    documents = sorted({r.document for r in rows})
+    out: list[tuple[ItemScores, str]] = []
+    for d in documents:
+        fitted = fit((r for r in rows if r.document != d), grid)
+        out += [(r, r.status_at(fitted.get(r.concept, FOUND_AT))) for r in rows if r.document == d]
+    return out

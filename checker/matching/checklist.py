@@ -1,0 +1,755 @@
+"""Checklist YAML: loading with line numbers, validation of the whole file at once, and the model.
+
+Every problem is reported as ``FILE:LINE:COLUMN: path -> to -> key: message``; nothing runs on a checklist
+that has any.
+"""
+
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass, field
+from functools import lru_cache
+from importlib import resources
+from pathlib import Path
+from typing import Any
+
+import yaml
+
+from ..core.errors import ChecklistError, UsageError
+
+#: a YAML file may refer to the same node again (aliases); past this many references it is refused,
+#: so that a file of nested aliases cannot expand to billions of nodes
+MAX_ALIAS_USES = 500
+MAX_NODES = 200_000
+MAX_FILE_BYTES = 5 * 1024 * 1024
+
+#: files beside the checklists that are not checklists: the cross-item rules and the concept library
+NOT_CHECKLISTS = frozenset({"rules.yaml", "concepts.yaml", "fitted.yaml"})
+CONCEPTS_FILE = "concepts.yaml"
+SLUG = re.compile(r"^[a-z0-9][a-z0-9-]*$")
+ITEM_ID = re.compile(r"^[a-z0-9][a-z0-9-]*(\.[a-z0-9][a-z0-9-]*)+$")
+FACET_ID = re.compile(r"^[a-z0-9][a-z0-9_-]*$")
+STATUSES = ("reported", "partial", "missing", "not-applicable", "waived")
+
+#: token attributes the light pipeline fills (no tagger, parser or entity recogniser)
+TOKEN_ATTRS = frozenset(
+    "ORTH TEXT NORM LOWER LEMMA LENGTH IS_ALPHA IS_ASCII IS_DIGIT IS_LOWER IS_UPPER IS_TITLE IS_PUNCT IS_SPACE "
+    "IS_STOP IS_SENT_START LIKE_NUM LIKE_URL LIKE_EMAIL SPACY SHAPE PREFIX SUFFIX OP".split()
+)
+
+
+@dataclass(frozen=True)
+class Cues:
+    phrases: tuple[str, ...] = ()
+    patterns: tuple[tuple[dict, ...], ...] = ()
+    regex: tuple[str, ...] = ()
+
+    def __bool__(self) -> bool:
+        return bool(self.phrases or self.patterns or self.regex)
+
+
+@dataclass(frozen=True)
+class Near:
+    cues: Cues
+    within: int = 0
+
+
+@dataclass(frozen=True)
+class Facet:
+    id: str
+    title: str
+    cues: Cues
+    near: Near | None = None
+    unless: Cues | None = None
+    weight: float = 1.0
+
+
+@dataclass(frozen=True)
+class AppliesWhen:
+    cues: Cues
+    reason: str
+
+
+@dataclass(frozen=True)
+class Item:
+    id: str
+    group: str
+    title: str
+    question: str
+    why: str
+    ask: str
+    sources: tuple[str, ...]
+    facets: tuple[Facet, ...]
+    #: alternatives: the item is reported when every facet of any one set is found
+    needs: tuple[tuple[str, ...], ...]
+    applies_when: AppliesWhen | None = None
+    examples_reported: tuple[str, ...] = ()
+    examples_missing: tuple[str, ...] = ()
+    #: the concept of the library the item's facets come from ("" for an item with facets of its own)
+    concept: str = ""
+
+
+@dataclass(frozen=True)
+class Concept:
+    """A study-design concept shared by checklists: its facets with their cues, and which facets make it
+    reported. An item names it with `concept:` and adds its own words (question, why, ask, sources)."""
+
+    id: str
+    facets: tuple[Facet, ...]
+    needs: tuple[tuple[str, ...], ...]
+    applies_when: AppliesWhen | None = None
+
+
+@dataclass(frozen=True)
+class Group:
+    id: str
+    title: str
+
+
+@dataclass(frozen=True)
+class Checklist:
+    id: str
+    title: str
+    version: str
+    document_kinds: tuple[str, ...]
+    groups: tuple[Group, ...]
+    items: tuple[Item, ...]
+    path: str
+    description: str = ""
+    choose_when: Cues = field(default_factory=Cues)
+
+    def item(self, item_id: str) -> Item:
+        for it in self.items:
+            if it.id == item_id:
+                return it
+        raise KeyError(item_id)
+
+    def group_title(self, group_id: str) -> str:
+        return next((g.title for g in self.groups if g.id == group_id), group_id)
+
+
+# ---------------------------------------------------------------------------------------------- YAML with marks
+
+
+class _Node:
+    """A YAML value with the place it was written, so every problem can be located."""
+
+    __slots__ = ("value", "line", "column")
+
+    def __init__(self, value: Any, line: int, column: int) -> None:
+        self.value, self.line, self.column = value, line, column
+
+
+class _Loader:
+    def __init__(self, file: str) -> None:
+        self.file = file
+        self.alias_uses = 0
+        self.nodes = 0
+        self.seen: set[int] = set()
+        self.constructor = yaml.constructor.SafeConstructor()
+
+    def convert(self, node: yaml.Node) -> _Node:
+        self.nodes += 1
+        if id(node) in self.seen:
+            self.alias_uses += 1
+            if self.alias_uses > MAX_ALIAS_USES:
+                raise _TooManyAliases(node)
+        if self.nodes > MAX_NODES:
+            raise _TooManyAliases(node)
+        line, col = node.start_mark.line + 1, node.start_mark.column + 1
+        if isinstance(node, yaml.MappingNode):
+            self.seen.add(id(node))
+            out: dict[str, tuple[_Node, _Node]] = {}
+            for k, v in node.value:
+                key = self.convert(k)
+                out[str(key.value)] = (key, self.convert(v))
+            return _Node(out, line, col)
+        if isinstance(node, yaml.SequenceNode):
+            self.seen.add(id(node))
+            return _Node([self.convert(v) for v in node.value], line, col)
+        return _Node(self.constructor.construct_object(node, deep=True), line, col)
+
+
+class _TooManyAliases(Exception):
+    def __init__(self, node: yaml.Node) -> None:
+        self.node = node
+
+
+# ---------------------------------------------------------------------------------------------- validation
+
+
+class _Problems:
+    def __init__(self, file: str, compile_regexes: bool = True) -> None:
+        self.file = file
+        #: compiling is the only full check of a regex, and the slow part of loading; built-in checklists are
+        #: compiled by the test-suite, so at run time theirs are compiled when first needed
+        self.compile_regexes = compile_regexes
+        self.items: list[tuple[int, int, str]] = []
+        #: word lists of the concept library, written {NAME} inside a regex (see expand_vocabulary)
+        self.vocabulary: dict[str, str] = {}
+
+    def add(self, node: _Node | None, path: str, message: str) -> None:
+        line, col = (node.line, node.column) if node is not None else (1, 1)
+        self.items.append((line, col, f"{self.file}:{line}:{col}: {path}: {message}" if path else
+                           f"{self.file}:{line}:{col}: {message}"))
+
+    def lines(self) -> list[str]:
+        return [m for _, _, m in sorted(self.items, key=lambda t: (t[0], t[1]))]
+
+
+_TYPE_WORDS = {str: "text", int: "a whole number", float: "a number", list: "a list", dict: "a mapping", bool: "true or false"}
+
+
+def _expect(p: _Problems, node: _Node, path: str, kind: type) -> bool:
+    v = node.value
+    ok = isinstance(v, kind) and not (kind in (int, float) and isinstance(v, bool))
+    if kind is float and isinstance(v, int) and not isinstance(v, bool):
+        ok = True
+    if not ok:
+        got = "nothing" if v is None else _TYPE_WORDS.get(type(v), type(v).__name__)
+        p.add(node, path, f"expected {_TYPE_WORDS[kind]}, got {got}")
+    return ok
+
+
+def _keys(p: _Problems, node: _Node, path: str, required: set[str], optional: set[str]) -> dict[str, _Node]:
+    """The mapping's values by key, with unknown and missing keys reported."""
+    if not _expect(p, node, path, dict):
+        return {}
+    out: dict[str, _Node] = {}
+    allowed = required | optional
+    for key, (knode, vnode) in node.value.items():
+        if key not in allowed:
+            hint = _closest(key, allowed)
+            p.add(knode, _join(path, key), "unknown key" + (f" (did you mean {hint!r}?)" if hint else ""))
+            continue
+        out[key] = vnode
+    for key in sorted(required - set(out)):
+        if key not in node.value:
+            p.add(node, path, f"missing required key {key!r}")
+    return out
+
+
+def _closest(key: str, allowed: set[str]) -> str | None:
+    from rapidfuzz import process
+
+    best = process.extractOne(key, sorted(allowed), score_cutoff=70)
+    return best[0] if best else None
+
+
+def _join(path: str, key: str) -> str:
+    return f"{path} -> {key}" if path else key
+
+
+def _text(p: _Problems, node: _Node | None, path: str, *, required: bool = True) -> str:
+    if node is None:
+        return ""
+    if not _expect(p, node, path, str):
+        return ""
+    if required and not node.value.strip():
+        p.add(node, path, "must not be empty")
+    return node.value.strip()
+
+
+def _texts(p: _Problems, node: _Node | None, path: str) -> tuple[str, ...]:
+    if node is None:
+        return ()
+    if isinstance(node.value, str):  # one phrase written without a list
+        return (node.value,)
+    if not _expect(p, node, path, list):
+        return ()
+    out = []
+    for i, sub in enumerate(node.value):
+        t = _text(p, sub, f"{path}[{i}]")
+        if t:
+            out.append(t)
+    return tuple(out)
+
+
+#: a group holding an unbounded repetition, itself repeated without bound: '(a+)+', '(\w*\s?)*', '(x+){2,}'
+_CATASTROPHIC = re.compile(r"\((?:[^()\\]|\\.)*(?<!\\)[+*](?:[^()\\]|\\.)*\)(?:[+*]|\{\d+,\})")
+
+
+@lru_cache(maxsize=8192)
+def compile_regex(pattern: str):
+    """A checklist regex with its macros expanded, compiled once per process (validation and matching share it)."""
+    import regex
+
+    from . import regexcache
+    from .facts import expand_macros
+
+    return regexcache.compile(expand_macros(pattern), regex.IGNORECASE | regex.V0)
+
+
+def _check_regex(p: _Problems, node: _Node, path: str, pattern: str) -> str | None:
+    import regex
+
+    from .facts import expand_macros
+    from ..core.limits import regex_size_problem
+
+    problem = regex_size_problem(expand_macros(pattern))
+    if problem:  # refused before compiling: compiling such a regex alone can take gigabytes
+        p.add(node, path, problem)
+        return None
+    try:
+        if p.compile_regexes:
+            compile_regex(pattern)
+    except regex.error as exc:
+        p.add(node, path, f"not a valid regular expression: {exc}")
+        return None
+    except (RecursionError, OverflowError):
+        p.add(node, path, "regular expression too complex")
+        return None
+    if _CATASTROPHIC.search(pattern):
+        p.add(node, path, "a repeated group that itself repeats (like '(a+)+') can take forever on some text; "
+                          "rewrite it without the nested repetition")
+        return None
+    return pattern
+
+
+def _check_pattern(p: _Problems, node: _Node, path: str) -> tuple[dict, ...] | None:
+    if not _expect(p, node, path, list):
+        return None
+    tokens = []
+    ok = True
+    for i, tok in enumerate(node.value):
+        tpath = f"{path}[{i}]"
+        if not _expect(p, tok, tpath, dict):
+            ok = False
+            continue
+        plain = _plain(tok)
+        for key, (knode, _v) in tok.value.items():
+            if key.upper() not in TOKEN_ATTRS:
+                p.add(knode, _join(tpath, key), f"token attribute not filled by studygap's pipeline "
+                                                f"(use one of {', '.join(sorted(TOKEN_ATTRS - {'SPACY'}))})")
+                ok = False
+        tokens.append({k.upper(): v for k, v in plain.items()})
+    if not tokens:
+        p.add(node, path, "a token pattern needs at least one token")
+        return None
+    if ok:
+        try:
+            from spacy.matcher import Matcher
+
+            from .nlp import pipeline
+
+            m = Matcher(pipeline().vocab, validate=True)
+            m.add("check", [tokens])
+        except Exception as exc:  # spaCy's own validation message says what is wrong
+            msg = str(exc).strip().splitlines()
+            p.add(node, path, "spaCy refused this token pattern: " + " ".join(x.strip() for x in msg if x.strip())[:300])
+            return None
+    return tuple(tokens) if ok else None
+
+
+def _plain(node: _Node) -> Any:
+    v = node.value
+    if isinstance(v, dict):
+        return {k: _plain(vn) for k, (_kn, vn) in v.items()}
+    if isinstance(v, list):
+        return [_plain(x) for x in v]
+    return v
+
+
+_CUE_KEYS = {"phrases", "patterns", "regex"}
+
+
+def _cues(p: _Problems, fields: dict[str, _Node], path: str) -> Cues:
+    phrases = _texts(p, fields.get("phrases"), _join(path, "phrases"))
+    patterns = []
+    if "patterns" in fields:
+        pnode = fields["patterns"]
+        if _expect(p, pnode, _join(path, "patterns"), list):
+            for i, sub in enumerate(pnode.value):
+                pat = _check_pattern(p, sub, f"{_join(path, 'patterns')}[{i}]")
+                if pat:
+                    patterns.append(pat)
+    regexes = []
+    for i, r in enumerate(_texts(p, fields.get("regex"), _join(path, "regex"))):
+        rnode = fields["regex"].value[i] if isinstance(fields["regex"].value, list) else fields["regex"]
+        r = expand_vocabulary(r, p.vocabulary)
+        ok = _check_regex(p, rnode, f"{_join(path, 'regex')}[{i}]", r)
+        if ok:
+            regexes.append(ok)
+    return Cues(tuple(phrases), tuple(patterns), tuple(regexes))
+
+
+def _cue_block(p: _Problems, node: _Node, path: str, extra: set[str] = frozenset()) -> tuple[Cues, dict[str, _Node]]:
+    fields = _keys(p, node, path, set(), _CUE_KEYS | set(extra))
+    cues = _cues(p, fields, path)
+    if not _CUE_KEYS & set(fields) and isinstance(node.value, dict):
+        p.add(node, path, "needs at least one of phrases, patterns or regex")
+    return cues, fields
+
+
+def _facet(p: _Problems, node: _Node, path: str) -> Facet | None:
+    fields = _keys(p, node, path, {"id"}, {"title", "near", "unless", "weight"} | _CUE_KEYS)
+    if not fields and not isinstance(node.value, dict):
+        return None
+    fid = _text(p, fields.get("id"), _join(path, "id"))
+    if fid and not FACET_ID.match(fid):
+        p.add(fields["id"], _join(path, "id"), "a facet id is lower-case letters, digits, '-' or '_'")
+    cues = _cues(p, fields, path)
+    if not _CUE_KEYS & set(fields) and isinstance(node.value, dict):
+        p.add(node, path, "a facet needs at least one of phrases, patterns or regex")
+    near = None
+    if "near" in fields:
+        ncues, nfields = _cue_block(p, fields["near"], _join(path, "near"), {"within"})
+        within = 0
+        if "within" in nfields and _expect(p, nfields["within"], _join(path, "near -> within"), int):
+            within = nfields["within"].value
+            if not 0 <= within <= 20:
+                p.add(nfields["within"], _join(path, "near -> within"), "must be between 0 and 20 sentences")
+        near = Near(ncues, within)
+    unless = None
+    if "unless" in fields:
+        unless, _ = _cue_block(p, fields["unless"], _join(path, "unless"))
+    weight = 1.0
+    if "weight" in fields and _expect(p, fields["weight"], _join(path, "weight"), float):
+        weight = float(fields["weight"].value)
+        if not 0 < weight <= 2:
+            p.add(fields["weight"], _join(path, "weight"), "must be above 0 and at most 2")
+    title = _text(p, fields.get("title"), _join(path, "title"), required=False) or fid
+    return Facet(fid, title, cues, near, unless, weight)
+
+
+def _needs(p: _Problems, node: _Node | None, path: str, facet_ids: list[str]) -> tuple[tuple[str, ...], ...]:
+    if node is None or node.value == "all":
+        return (tuple(facet_ids),)
+    v = node.value
+    if v == "any":
+        return tuple((f,) for f in facet_ids)
+    if isinstance(v, int) and not isinstance(v, bool):
+        if not 1 <= v <= len(facet_ids):
+            p.add(node, path, f"must be between 1 and the number of facets ({len(facet_ids)})")
+            return (tuple(facet_ids),)
+        from itertools import combinations
+
+        return tuple(combinations(facet_ids, v))
+    if isinstance(v, list) and v:
+        sets = [x.value for x in v]
+        if all(isinstance(s, str) for s in sets):
+            sets = [[s for s in sets]]
+        elif all(isinstance(s, list) for s in sets):
+            sets = [[y.value for y in s] for s in sets]
+        else:
+            p.add(node, path, "give all, any, a number, a list of facet ids, or a list of such lists")
+            return (tuple(facet_ids),)
+        out = []
+        for s in sets:
+            for f in s:
+                if f not in facet_ids:
+                    p.add(node, path, f"names facet {f!r}, which the item does not have")
+            out.append(tuple(str(f) for f in s))
+        return tuple(out)
+    p.add(node, path, "give all, any, a number, a list of facet ids, or a list of such lists")
+    return (tuple(facet_ids),)
+
+
+def _facets(p: _Problems, fields: dict[str, _Node], path: str) -> list[Facet]:
+    facets: list[Facet] = []
+    if "facets" in fields and _expect(p, fields["facets"], _join(path, "facets"), list):
+        if not fields["facets"].value:
+            p.add(fields["facets"], _join(path, "facets"), "an item needs at least one facet")
+        seen: set[str] = set()
+        for i, fnode in enumerate(fields["facets"].value):
+            f = _facet(p, fnode, f"{_join(path, 'facets')}[{i}]")
+            if f is None:
+                continue
+            if f.id in seen:
+                p.add(fnode, f"{_join(path, 'facets')}[{i}] -> id", f"duplicate facet id {f.id!r}")
+            seen.add(f.id)
+            facets.append(f)
+    return facets
+
+
+def _applies(p: _Problems, fields: dict[str, _Node], path: str) -> AppliesWhen | None:
+    if "applies_when" not in fields:
+        return None
+    cues, afields = _cue_block(p, fields["applies_when"], _join(path, "applies_when"), {"reason"})
+    reason = _text(p, afields.get("reason"), _join(path, "applies_when -> reason"), required=False)
+    return AppliesWhen(cues, reason or "nothing in the document calls for it")
+
+
+def _item(p: _Problems, node: _Node, path: str, groups: set[str],
+          concepts: dict[str, Concept] | None = None) -> Item | None:
+    if isinstance(node.value, dict) and isinstance(node.value.get("id", (None, _Node(None, 0, 0)))[1].value, str):
+        path = f'item "{node.value["id"][1].value.strip()}"'
+    has_concept = isinstance(node.value, dict) and "concept" in node.value
+    fields = _keys(
+        p, node, path,
+        {"id", "group", "title", "question", "why", "ask"} | (set() if has_concept else {"facets"}),
+        {"sources", "needs", "applies_when", "examples", "concept", "facets", "uses"},
+    )
+    if not fields:
+        return None
+    iid = _text(p, fields.get("id"), _join(path, "id"))
+    if iid:
+        if not ITEM_ID.match(iid):
+            p.add(fields["id"], _join(path, "id"), "an item id is a dotted lower-case slug such as 'data.source'")
+    group = _text(p, fields.get("group"), _join(path, "group"))
+    if group and groups and group not in groups:
+        p.add(fields["group"], _join(path, "group"), f"names group {group!r}, which the checklist does not define")
+    concept = None
+    if "concept" in fields:
+        cid = _text(p, fields["concept"], _join(path, "concept"))
+        if "facets" in fields:
+            p.add(fields["facets"], _join(path, "facets"),
+                  "an item takes its facets from its concept or lists its own, not both")
+        concept = (concepts or {}).get(cid)
+        if cid and concept is None:
+            hint = _closest(cid, set(concepts or ()))
+            p.add(fields["concept"], _join(path, "concept"), f"no concept {cid!r} in the concept library"
+                  + (f" (did you mean {hint!r}?)" if hint else ""))
+    if "uses" in fields and concept is None and "concept" not in fields:
+        p.add(fields["uses"], _join(path, "uses"), "only an item with a concept can choose which of its facets it uses")
+    if concept is not None:
+        facets = list(concept.facets)
+        if "uses" in fields:
+            wanted = _texts(p, fields["uses"], _join(path, "uses"))
+            for w in wanted:
+                if w not in {f.id for f in facets}:
+                    p.add(fields["uses"], _join(path, "uses"), f"names facet {w!r}, which concept {concept.id!r} "
+                          f"does not have (it has {', '.join(f.id for f in facets)})")
+            facets = [f for f in facets if f.id in wanted]
+        ids = {f.id for f in facets}
+        if "needs" in fields:
+            needs = _needs(p, fields["needs"], _join(path, "needs"), [f.id for f in facets])
+        else:  # the concept's alternatives that the chosen facets can meet
+            needs = tuple(n for n in concept.needs if set(n) <= ids) or (tuple(sorted(ids)),)
+        applies = _applies(p, fields, path) if "applies_when" in fields else concept.applies_when
+    else:
+        facets = _facets(p, fields, path)
+        needs = _needs(p, fields.get("needs"), _join(path, "needs"), [f.id for f in facets])
+        applies = _applies(p, fields, path)
+    ex_rep: tuple[str, ...] = ()
+    ex_mis: tuple[str, ...] = ()
+    if "examples" in fields:
+        ef = _keys(p, fields["examples"], _join(path, "examples"), set(), {"reported", "missing"})
+        ex_rep = _texts(p, ef.get("reported"), _join(path, "examples -> reported"))
+        ex_mis = _texts(p, ef.get("missing"), _join(path, "examples -> missing"))
+    return Item(
+        id=iid,
+        group=group,
+        title=_text(p, fields.get("title"), _join(path, "title")),
+        question=_text(p, fields.get("question"), _join(path, "question")),
+        why=_text(p, fields.get("why"), _join(path, "why")),
+        ask=_text(p, fields.get("ask"), _join(path, "ask")),
+        sources=_texts(p, fields.get("sources"), _join(path, "sources")),
+        facets=tuple(facets),
+        needs=needs,
+        applies_when=applies,
+        examples_reported=ex_rep,
+        examples_missing=ex_mis,
+        concept=concept.id if concept is not None else "",
+    )
+
+
+def _compose(text: str, file: str) -> _Node:
+    """The YAML text as marked nodes, or ChecklistError with the place of the problem."""
+    try:
+        root_node = yaml.compose(text, Loader=getattr(yaml, "CSafeLoader", yaml.SafeLoader))  # libyaml when built
+    except yaml.MarkedYAMLError as exc:
+        mark = exc.problem_mark or exc.context_mark
+        line, col = (mark.line + 1, mark.column + 1) if mark else (1, 1)
+        raise ChecklistError([f"{file}:{line}:{col}: not valid YAML: {exc.problem or exc}"]) from None
+    except yaml.YAMLError as exc:
+        raise ChecklistError([f"{file}:1:1: not valid YAML: {exc}"]) from None
+    if root_node is None:
+        raise ChecklistError([f"{file}:1:1: the file is empty"])
+    loader = _Loader(file)
+    try:
+        root = loader.convert(root_node)
+    except _TooManyAliases as exc:
+        m = exc.node.start_mark
+        raise ChecklistError([
+            f"{file}:{m.line + 1}:{m.column + 1}: too many references to repeated YAML nodes (aliases); "
+            f"a checklist needs at most {MAX_ALIAS_USES}"
+        ]) from None
+    except (yaml.YAMLError, ValueError, TypeError) as exc:
+        raise ChecklistError([f"{file}:1:1: not valid YAML: {exc}"]) from None
+    return root
+
+
+_VOCAB_NAME = re.compile(r"^[A-Z][A-Z0-9_]*$")
+
+
+def expand_vocabulary(pattern: str, vocabulary: dict[str, str]) -> str:
+    """The regex with each {NAME} of the vocabulary replaced by its words as one group; other braces stay."""
+    if not vocabulary or "{" not in pattern:
+        return pattern
+    return re.sub(r"\{([A-Z][A-Z0-9_]*)\}", lambda m: vocabulary.get(m.group(1), m.group(0)), pattern)
+
+
+def _vocabulary(p: _Problems, node: _Node | None) -> dict[str, str]:
+    """Named word lists as regex groups, longest words first (so "scans" is tried before "scan")."""
+    out: dict[str, str] = {}
+    if node is None or not _expect(p, node, "vocabulary", dict):
+        return out
+    from .facts import MACROS
+
+    for name, (knode, vnode) in node.value.items():
+        if not _VOCAB_NAME.match(name) or name in MACROS:
+            p.add(knode, f"vocabulary -> {name}", "a word list's name is upper-case letters, digits and '_', "
+                                                    f"and not one of {', '.join(sorted(MACROS))}")
+            continue
+        words = _texts(p, vnode, f"vocabulary -> {name}")
+        if not words:
+            p.add(vnode, f"vocabulary -> {name}", "a word list needs at least one word")
+            continue
+        alts = sorted({re.escape(w).replace("\\ ", r"\s+") for w in words}, key=lambda w: (-len(w), w))
+        out[name] = "(?:" + "|".join(alts) + ")"
+    return out
+
+
+def parse_concepts(text: str, file: str, *, compile_regexes: bool = True) -> dict[str, Concept]:
+    """The concept library: every concept by id, validated like a checklist (all problems at once)."""
+    p = _Problems(file, compile_regexes)
+    root = _compose(text, file)
+    top = _keys(p, root, "", {"id", "version", "concepts"}, {"description", "vocabulary"})
+    p.vocabulary = _vocabulary(p, top.get("vocabulary"))
+    out: dict[str, Concept] = {}
+    if "concepts" in top and _expect(p, top["concepts"], "concepts", list):
+        for i, cnode in enumerate(top["concepts"].value):
+            path = f"concepts[{i}]"
+            if isinstance(cnode.value, dict) and isinstance(cnode.value.get("id", (None, _Node(None, 0, 0)))[1].value,
+                                                            str):
+                path = f'concept "{cnode.value["id"][1].value.strip()}"'
+            fields = _keys(p, cnode, path, {"id", "facets"}, {"needs", "applies_when", "note"})
+            if not fields:
+                continue
+            cid = _text(p, fields.get("id"), _join(path, "id"))
+            if cid and not ITEM_ID.match(cid):
+                p.add(fields["id"], _join(path, "id"), "a concept id is a dotted lower-case slug such as 'data.source'")
+            if cid in out:
+                p.add(fields["id"], _join(path, "id"), f"duplicate concept id {cid!r}")
+            facets = _facets(p, fields, path)
+            needs = _needs(p, fields.get("needs"), _join(path, "needs"), [f.id for f in facets])
+            out[cid] = Concept(cid, tuple(facets), needs, _applies(p, fields, path))
+    if p.items:
+        raise ChecklistError(p.lines())
+    return out
+
+
+def builtin_concepts(*, strict: bool = False) -> dict[str, Concept]:
+    """The concept library shipped with studygap (checklists/concepts.yaml)."""
+    res = resources.files("checker.checklists") / CONCEPTS_FILE
+    text = res.read_text(encoding="utf-8")
+    key = ("concepts", text, not strict)
+    if key not in _CACHE:
+        from ..resultcache import parsed
+
+        _CACHE[key] = parsed("dict", text, f"checklists/{CONCEPTS_FILE}", f"builtin={not strict}",
+                             lambda: parse_concepts(text, f"checklists/{CONCEPTS_FILE}", compile_regexes=strict))
+    return _CACHE[key]
+
+
+def parse_checklist(text: str, file: str, *, compile_regexes: bool = True,
+                    concepts: dict[str, Concept] | None = None) -> Checklist:
+    """Validate and build a checklist from YAML text; raise ChecklistError with every problem located.
+
+    Items may name a concept of the library (`concept: data.source`); `concepts` defaults to the built-in one.
+    """
+    p = _Problems(file, compile_regexes)
+    root = _compose(text, file)
+    if concepts is None and "concept:" in text:
+        concepts = builtin_concepts(strict=compile_regexes)
+
+    top = _keys(p, root, "", {"id", "title", "version", "items"},
+                {"document_kinds", "groups", "description", "choose_when"})
+    cid = _text(p, top.get("id"), "id")
+    if cid and not SLUG.match(cid):
+        p.add(top["id"], "id", "a checklist id is a lower-case slug such as 'validation-study'")
+    version_node = top.get("version")
+    version = ""
+    if version_node is not None:
+        if isinstance(version_node.value, (int, float)) and not isinstance(version_node.value, bool):
+            version = str(version_node.value)
+        else:
+            version = _text(p, version_node, "version")
+    groups: list[Group] = []
+    if "groups" in top and _expect(p, top["groups"], "groups", list):
+        for i, gnode in enumerate(top["groups"].value):
+            gf = _keys(p, gnode, f"groups[{i}]", {"id", "title"}, set())
+            gid = _text(p, gf.get("id"), f"groups[{i}] -> id")
+            if gid and not SLUG.match(gid):
+                p.add(gf["id"], f"groups[{i}] -> id", "a group id is a lower-case slug")
+            if gid in {g.id for g in groups}:
+                p.add(gf.get("id"), f"groups[{i}] -> id", f"duplicate group id {gid!r}")
+            groups.append(Group(gid, _text(p, gf.get("title"), f"groups[{i}] -> title")))
+    choose = Cues()
+    if "choose_when" in top:
+        choose, _ = _cue_block(p, top["choose_when"], "choose_when")
+    items: list[Item] = []
+    if "items" in top and _expect(p, top["items"], "items", list):
+        seen: dict[str, _Node] = {}
+        for i, inode in enumerate(top["items"].value):
+            it = _item(p, inode, f"items[{i}]", {g.id for g in groups}, concepts)
+            if it is None:
+                continue
+            if it.id in seen:
+                first = seen[it.id]
+                p.add(inode, f'item "{it.id}" -> id', f"duplicate item id (first defined at line {first.line})")
+            seen[it.id] = inode
+            items.append(it)
+        if not top["items"].value:
+            p.add(top["items"], "items", "a checklist needs at least one item")
+    if p.items:
+        raise ChecklistError(p.lines())
+    return Checklist(
+        id=cid,
+        title=_text(p, top.get("title"), "title"),
+        version=version,
+        document_kinds=_texts(p, top.get("document_kinds"), "document_kinds"),
+        groups=tuple(groups) or tuple(Group(g, g) for g in dict.fromkeys(it.group for it in items)),
+        items=tuple(items),
+        path=file,
+        description=_text(p, top.get("description"), "description", required=False),
+        choose_when=choose,
+    )
+
+
+# ---------------------------------------------------------------------------------------------- finding checklists
+
+
+def builtin_ids() -> list[str]:
+    root = resources.files("checker.checklists")
+    # rules.yaml beside the checklists holds the cross-item rules, not a checklist
+    return sorted(p.name[:-5] for p in root.iterdir() if p.name.endswith(".yaml") and p.name not in NOT_CHECKLISTS)
+
+
+def load_checklist(ref: str | Path, *, strict: bool = False) -> Checklist:
+    """A built-in checklist by id, or a checklist file by path.
+
+    ``strict`` compiles every regex of a built-in checklist too (a user's file always gets that).
+    """
+    ref_s = str(ref)
+    path = Path(ref_s)
+    if path.suffix.lower() in {".yaml", ".yml"} or path.exists():
+        if not path.is_file():
+            raise UsageError(f"{ref_s}: no such checklist file")
+        if path.stat().st_size > MAX_FILE_BYTES:
+            raise ChecklistError([f"{ref_s}:1:1: the checklist file is over {MAX_FILE_BYTES // 1_000_000} MB"])
+        try:
+            text = path.read_text(encoding="utf-8")
+        except UnicodeDecodeError:
+            raise ChecklistError([f"{ref_s}:1:1: the checklist is not UTF-8 text"]) from None
+        return _cached(text, ref_s)
+    ids = builtin_ids()
+    if ref_s not in ids:
+        raise UsageError(f"no built-in checklist {ref_s!r}; built-in checklists are {', '.join(ids)}, "
+                         "or give the path of a YAML file")
+    res = resources.files("checker.checklists") / f"{ref_s}.yaml"
+    return _cached(res.read_text(encoding="utf-8"), f"checklists/{ref_s}.yaml", builtin=not strict)
+
+
+_CACHE: dict[tuple[str, str, bool], Checklist] = {}
+
+
+def _cached(text: str, file: str, builtin: bool = False) -> Checklist:
+    key = (file, text, builtin)
+    if key not in _CACHE:
+        from ..resultcache import parsed
+
+        _CACHE[key] = parsed("Checklist", text, file, f"builtin={builtin}",
+                             lambda: parse_checklist(text, file, compile_regexes=not builtin))
+    return _CACHE[key]

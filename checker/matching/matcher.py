@@ -1,0 +1,255 @@
+"""Cue matching: every cue of a checklist compiled once, then one pass over a document's sentences.
+
+Phrases go to two PhraseMatchers (lemma and lower case), token patterns to one Matcher, regexes are compiled
+with a time bound. A match key says which item, facet and part of the facet (cue, near, unless, applies) it is
+for, so one pass serves every item.
+"""
+
+from __future__ import annotations
+
+from bisect import bisect_left
+from dataclasses import dataclass, field
+from typing import TYPE_CHECKING, Iterable
+
+from .checklist import Checklist, Cues, compile_regex
+from .regexscan import Sentences, required_words
+from ..reading.document import Document, Sentence
+from ..core.errors import StudygapError
+
+if TYPE_CHECKING:
+    from spacy.tokens import Doc
+
+    from .attribution import Attribution
+
+#: section role -> how much evidence found there counts; references never count
+ROLE_WEIGHTS = {
+    "methods": 1.0,
+    "data": 1.0,
+    "evaluation": 1.0,
+    "results": 0.9,
+    "abstract": 0.9,
+    "acknowledgements": 0.9,
+    "appendix": 0.9,
+    "body": 0.9,
+    "introduction": 0.6,
+    "discussion": 0.6,
+    "limitations": 0.6,
+    "related-work": 0.3,
+    "requirements": 0.3,
+    "references": 0.0,
+    # title page, declarations, table of contents, lists of figures: never evidence
+    "front-matter": 0.0,
+}
+#: a heading names a topic but states nothing about it: alone it never makes a facet found
+HEADING_FACTOR = 0.4
+FOUND_AT = 0.5
+
+CUE, NEAR, UNLESS, APPLIES = "cue", "near", "unless", "applies"
+
+
+@dataclass(frozen=True)
+class Hit:
+    sentence: int  # index into Scan.sentences
+    start: int  # character offsets into the sentence text
+    end: int
+    #: named regex groups: (name, text, start, end) with offsets into the sentence text
+    groups: tuple[tuple[str, str, int, int], ...] = ()
+
+
+@dataclass
+class Scan:
+    """All sentences of a document (outside the references) and every cue hit, by match key."""
+
+    document: Document
+    sentences: list[Sentence]
+    #: section path of each sentence's block, to keep `near` inside one section
+    sections: list[tuple[str, ...]]
+    hits: dict[str, list[Hit]] = field(default_factory=dict)
+    #: sentences from the references section, kept only so that they can be counted in an outline
+    skipped_reference_sentences: int = 0
+    #: where each sentence lies in the parsed blocks: (index into docs, first token, end token)
+    spans: list[tuple[int, int, int]] = field(default_factory=list, repr=False)
+    docs: list["Doc"] = field(default_factory=list, repr=False)
+    #: whose statement each sentence is (see checker.matching.attribution); filled on first use
+    _attributions: list["Attribution"] | None = field(default=None, repr=False)
+
+    def attribution(self, i: int) -> "Attribution":
+        if self._attributions is None:
+            from .attribution import attribute
+
+            self._attributions = [attribute(s.text, s.role, s.kind) for s in self.sentences]
+        return self._attributions[i]
+
+    def weight(self, i: int) -> float:
+        """How much sentence i counts as evidence: its section's weight times whose statement it is."""
+        s = self.sentences[i]
+        w = ROLE_WEIGHTS.get(s.role, 0.9)
+        if s.kind == "heading":
+            return w * HEADING_FACTOR
+        return w * self.attribution(i).factor
+
+
+def key(item: int, facet: int, part: str) -> str:
+    return f"{item}:{facet}:{part}"
+
+
+def spelling_variants(phrase: str) -> list[str]:
+    """Spelling variants authors mix: hyphen or not, British or American endings."""
+    out = {phrase}
+    if "-" in phrase:
+        out.add(phrase.replace("-", " "))
+        out.add(phrase.replace("-", ""))
+    for a, b in (("isation", "ization"), ("ise", "ize"), ("ised", "ized"), ("ising", "izing"), ("centre", "center"),
+                 ("labelled", "labeled"), ("labelling", "labeling"), ("modelling", "modeling"), ("colour", "color"),
+                 ("analyse", "analyze"), ("tumour", "tumor"), ("oedema", "edema"), ("haem", "hem")):
+        for v in list(out):
+            if a in v:
+                out.add(v.replace(a, b))
+            if b in v:
+                out.add(v.replace(b, a))
+    return sorted(out)
+
+
+class CompiledChecklist:
+    """A checklist's cues compiled for one spaCy pipeline; build once, scan many documents."""
+
+    def __init__(self, checklist: Checklist, nlp=None) -> None:
+        from spacy.matcher import Matcher, PhraseMatcher
+
+        from .nlp import pipeline
+
+        self.checklist = checklist
+        self.nlp = nlp or pipeline()
+        vocab = self.nlp.vocab
+        self.lemma_matcher = PhraseMatcher(vocab, attr="LEMMA")
+        self.lower_matcher = PhraseMatcher(vocab, attr="LOWER")
+        self.token_matcher = Matcher(vocab)
+        #: (match key, regex source); compiled when a document first needs one (see _scan_regexes)
+        self._regexes: list[tuple[str, str]] = []
+        self.keys: set[str] = set()
+        phrase_docs: dict[str, list[str]] = {}
+        for ii, item in enumerate(checklist.items):
+            for fi, facet in enumerate(item.facets):
+                self._add(key(ii, fi, CUE), facet.cues, phrase_docs)
+                if facet.near is not None:
+                    self._add(key(ii, fi, NEAR), facet.near.cues, phrase_docs)
+                if facet.unless is not None:
+                    self._add(key(ii, fi, UNLESS), facet.unless, phrase_docs)
+            if item.applies_when is not None:
+                self._add(key(ii, -1, APPLIES), item.applies_when.cues, phrase_docs)
+        self._add("choose", checklist.choose_when, phrase_docs)
+        for k, phrases in phrase_docs.items():
+            texts = sorted({v for p in phrases for v in spelling_variants(p)})
+            self.lemma_matcher.add(k, list(self.nlp.pipe(texts)))
+            self.lower_matcher.add(k, [self.nlp.make_doc(t) for t in texts])
+        # a regex can only match where its literal words occur: sentences without them are skipped
+        self._prefilter = [required_words(src) for _, src in self._regexes]
+        self._matchers = [m for m in (self.lemma_matcher, self.lower_matcher, self.token_matcher) if len(m)]
+
+    def _add(self, k: str, cues: Cues, phrase_docs: dict[str, list[str]]) -> None:
+        if not cues:
+            return
+        self.keys.add(k)
+        if cues.phrases:
+            phrase_docs.setdefault(k, []).extend(cues.phrases)
+        if cues.patterns:
+            self.token_matcher.add(k, [list(p) for p in cues.patterns])
+        for src in cues.regex:
+            self._regexes.append((k, src))
+
+    def scan(self, document: Document, *, regex_seconds: float = 2.0, docs: Iterable["Doc"] | None = None) -> Scan:
+        """Find every cue in the document's sentences; the references section is passed over."""
+        from .nlp import sentences_of
+
+        sentences: list[Sentence] = []
+        sections: list[tuple[str, ...]] = []
+        spans: list[tuple[int, int, int]] = []
+        kept_docs: list["Doc"] = []
+        skipped = 0
+        for sent, doc, tstart, tend in sentences_of(document, docs):
+            if sent.role == "references":
+                skipped += 1
+                continue
+            sentences.append(sent)
+            sections.append(document.blocks[sent.block].section)
+            if not kept_docs or kept_docs[-1] is not doc:
+                kept_docs.append(doc)
+            spans.append((len(kept_docs) - 1, tstart, tend))
+        hits: dict[str, list[Hit]] = {}
+        for mkey, si, a, b in match_sentences(self._matchers, self.nlp.vocab.strings, kept_docs, spans,
+                                              sentences, clip=True):
+            hits.setdefault(mkey, []).append(Hit(si, a, b))
+        self._scan_regexes(sentences, hits, regex_seconds, document.path)
+        for v in hits.values():
+            v.sort(key=lambda h: (h.sentence, h.start, h.end))
+        return Scan(document, sentences, sections, {k: _dedupe(v) for k, v in hits.items()}, skipped, spans,
+                    kept_docs)
+
+    def _scan_regexes(self, sentences: list[Sentence], hits: dict[str, list[Hit]], seconds: float, path: str) -> None:
+        import regex
+
+        texts = Sentences([s.text for s in sentences])
+        for (k, src), need in zip(self._regexes, self._prefilter):
+            if not texts.mentions(need):
+                continue  # its word occurs nowhere: no need even to compile it
+            try:
+                rx = compile_regex(src)
+            except regex.error as exc:
+                raise StudygapError(f"{self.checklist.path}: checklist regex {src!r} is not valid: {exc}") from None
+            names = sorted(rx.groupindex, key=lambda n: rx.groupindex[n])
+            try:
+                for si, m in texts.search(rx, need, seconds):
+                    groups = tuple((name, m.group(name), m.start(name), m.end(name))
+                                   for name in names if m.group(name) is not None)
+                    hits.setdefault(k, []).append(Hit(si, m.start(), m.end(), groups))
+            except TimeoutError:
+                raise StudygapError(
+                    f"{path}: the checklist regex {src!r} took longer than {seconds:g} s "
+                    "(it backtracks too much on this text; simplify it, or raise --regex-seconds)"
+                ) from None
+
+
+def match_sentences(matchers, strings, docs: list["Doc"], spans: list[tuple[int, int, int]],
+                    sentences: list[Sentence], *, clip: bool) -> list[tuple[str, int, int, int]]:
+    """(match key, sentence index, start, end) of every spaCy matcher hit, offsets into the sentence text.
+
+    Each parsed block is matched once and its hits are handed to the sentences they start in; a hit that runs
+    into the next sentence is cut at the sentence's end (clip) or left out.
+    """
+    from spacy.attrs import IDX, LENGTH
+
+    out: list[tuple[str, int, int, int]] = []
+    by_doc: dict[int, list[int]] = {}
+    for si, (di, _, _) in enumerate(spans):
+        by_doc.setdefault(di, []).append(si)
+    for di, members in by_doc.items():
+        doc = docs[di]
+        # sorted by start (stable, so hits keep their order) and bisected per sentence: a block of thousands
+        # of sentences must not cost sentences x matches
+        found = sorted(((strings[mid], s, e) for m in matchers for mid, s, e in m(doc)), key=lambda t: t[1])
+        if not found:
+            continue
+        starts = [f[1] for f in found]
+        # character offsets of the tokens, read once: a Span per hit would cost more than the matching
+        idx, length = (col.tolist() for col in doc.to_array([IDX, LENGTH]).T)
+        for si in members:
+            _, tstart, tend = spans[si]
+            offset = sentences[si].start
+            for mkey, ms, me in found[bisect_left(starts, tstart):bisect_left(starts, tend)]:
+                if me > tend and not clip:
+                    continue
+                last = min(me, tend) - 1
+                out.append((mkey, si, idx[ms] - offset, idx[last] + length[last] - offset))
+    return out
+
+
+def _dedupe(hits: list[Hit]) -> list[Hit]:
+    out: list[Hit] = []
+    seen = set()
+    for h in hits:
+        k = (h.sentence, h.start, h.end)
+        if k in seen:
+            continue
+        seen.add(k)
+        out.append(h)
+    return out

@@ -1,0 +1,194 @@
+"""The light spaCy pipeline: tokenizer, lower-case lookup lemmas and sentence rules for scientific text.
+
+Built once per process (``pipeline()``); no model is downloaded: lemmas come from spacy-lookups-data.
+"""
+
+from __future__ import annotations
+
+import re
+from functools import lru_cache
+from typing import TYPE_CHECKING, Iterable, Iterator
+
+from ..reading.document import Document, Sentence
+
+if TYPE_CHECKING:  # spaCy is imported lazily: commands such as --help must stay fast
+    from spacy.language import Language
+    from spacy.tokens import Doc
+
+#: words that end with a full stop without ending the sentence ("Fig. 2", "et al. (2020)", "approx. 3 mm")
+ABBREVIATIONS = frozenset(
+    """fig figs eq eqs eqn eqns no nos vs approx ref refs sec secs tab tabs cf resp ca dr prof mr mrs ms st vol
+    vols pp ch chap al et incl e.g i.e etc viz suppl dept univ inc ltd co corp jr sr est max min avg std var
+    ver v vs e.g i.e n.b cit op e approx. aprx""".split()
+)
+
+#: characters that may close a sentence after its final punctuation
+_CLOSERS = frozenset(")]}\"'”’»")
+#: nouns that name things by letter: "method B", "group C", "site A"
+_LABELLED = frozenset(
+    "method methods model models group groups arm site sites centre center hospital scanner vendor dataset cohort "
+    "set class type grade phase task stage reader rater annotator observer team approach variant network "
+    "algorithm system condition protocol scenario".split()
+)
+_CITATION = re.compile(r"\[[0-9,\-–]+\]")
+_FINAL = frozenset({".", "!", "?", "…", "...", "?!"})
+
+
+def _is_final(doc: "Doc", i: int) -> bool:
+    """Whether token i is a full stop, question or exclamation mark that ends a sentence."""
+    tok = doc[i]
+    if tok.text not in _FINAL:
+        # "than method B. The": a label letter after a naming noun ends the sentence; elsewhere "J." is an initial
+        return len(tok.text) == 2 and tok.text[0].isupper() and tok.text[1] == "." and i > 0 \
+            and doc[i - 1].lower_ in _LABELLED
+
+    if tok.text == "." and i > 0:
+        prev = doc[i - 1]
+        word = prev.lower_
+        if not prev.whitespace_:
+            # "Fig." "approx." "et al."; a single capital ("J. Smith") is an initial
+            if word in ABBREVIATIONS or (len(prev.text) == 1 and prev.text.isalpha() and prev.text.isupper()):
+                return False
+    return True
+
+
+def _skip_citation(doc: "Doc", j: int) -> int:
+    """Past a numeric citation that follows the full stop: 'folds.[12] The' or 'folds.[3, 4-6] The'."""
+    if j < len(doc) and doc[j].text.startswith("["):
+        text = ""
+        for k in range(j, min(j + 20, len(doc))):
+            text += doc[k].text
+            if text.endswith("]"):
+                return k + 1 if _CITATION.fullmatch(text) else j
+    return j
+
+
+def _starts_sentence(tok) -> bool:
+    if tok.like_url:  # "... as released. https://example.org/data" starts a sentence of its own
+        return True
+    first = tok.text[0]
+    return first.isupper() or first.isdigit() or first in "([\"'“‘«*•-–" or not first.isalnum() and not first.islower()
+
+
+def _scientific_sentences(doc: "Doc") -> "Doc":
+    """Mark sentence starts: after final punctuation (and closers) when the next token opens a sentence.
+
+    The marks are collected in a list and set in one call: setting ``is_sent_start`` token by token makes
+    spaCy rescan the document each time, which is quadratic on a long block.
+    """
+    import numpy
+    from spacy.attrs import SENT_START
+
+    n = len(doc)
+    if n == 0:
+        return doc
+    starts = [-1] * n
+    starts[0] = 1
+    i = 0
+    while i < n:
+        if _is_final(doc, i):
+            j = i + 1
+            while j < n and (doc[j].text in _FINAL or doc[j].text in _CLOSERS):
+                j += 1
+            j = _skip_citation(doc, j)
+            if j < n:
+                starts[j] = 1 if _starts_sentence(doc[j]) and bool(doc[j - 1].whitespace_) else -1
+            i = j + 1
+            continue
+        i += 1
+    doc.from_array([SENT_START], numpy.array(starts, dtype="int32").reshape(n, 1).astype("uint64"))
+    return doc
+
+
+@lru_cache(maxsize=1)
+def pipeline() -> "Language":
+    """spacy.blank('en') with a lower-case lookup lemmatizer and our sentence rules (cached per process)."""
+    import spacy
+    from spacy.language import Language
+    from spacy.lookups import load_lookups
+
+    table = load_lookups("en", ["lemma_lookup"]).get_table("lemma_lookup")
+
+    if "studygap_lemmas" not in Language.factories:
+
+        @Language.factory("studygap_lemmas")
+        def _make_lemmas(nlp, name):  # noqa: ARG001 - spaCy's factory signature
+            return _LowerLemmas(nlp.vocab)
+
+        Language.component("studygap_sentences", func=_scientific_sentences)
+
+    nlp = spacy.blank("en")
+    nlp.max_length = 50_000_000
+    # "folds.[12] The": a full stop glued to a citation bracket is its own token
+    from spacy.util import compile_infix_regex
+
+    infixes = list(nlp.Defaults.infixes) + [r"(?<=[A-Za-z)])\.(?=\[)"]
+    nlp.tokenizer.infix_finditer = compile_infix_regex(infixes).finditer
+    nlp.add_pipe("studygap_lemmas", config={})
+    nlp.add_pipe("studygap_sentences")
+    nlp.get_pipe("studygap_lemmas").table = table
+    return nlp
+
+
+class _LowerLemmas:
+    """Lemma from the lookup table by lower-case form, so 'Annotators' and 'annotators' both give 'annotator'."""
+
+    def __init__(self, vocab) -> None:
+        self.vocab = vocab
+        self.table = None  # spacy.lookups.Table: keys are hashed, so look up by string
+        self._cache: dict[str, str] = {}
+
+    def __call__(self, doc: "Doc") -> "Doc":
+        cache, table = self._cache, self.table
+        for tok in doc:
+            low = tok.lower_
+            lemma = cache.get(low)
+            if lemma is None:
+                lemma = table.get(low, low) if table is not None else low
+                if len(cache) < 200_000:
+                    cache[low] = lemma
+            tok.lemma_ = lemma
+        return doc
+
+
+def parse_blocks(texts: Iterable[str], batch_size: int = 64) -> Iterator["Doc"]:
+    return pipeline().pipe(texts, batch_size=batch_size)
+
+
+def sentences_of(document: Document, docs: Iterable["Doc"] | None = None) -> Iterator[tuple[Sentence, "Doc", int, int]]:
+    """Each sentence of the document with its block's spaCy Doc and token range (start, end)."""
+    if docs is None:
+        docs = parse_blocks(b.text for b in document.blocks)
+    for bi, (block, doc) in enumerate(zip(document.blocks, docs)):
+        for sent in doc.sents:
+            text = sent.text.strip()
+            if not text:
+                continue
+            start = sent.start_char
+            yield (
+                Sentence(
+                    text=sent.text,
+                    block=bi,
+                    start=start,
+                    end=sent.end_char,
+                    location=block.location_at(start),
+                    role=block.role,
+                    kind=block.kind,
+                ),
+                doc,
+                sent.start,
+                sent.end,
+            )
+
+
+def segment(document: Document) -> Document:
+    """The document with its sentences filled in."""
+    import dataclasses
+
+    sents = tuple(s for s, _, _, _ in sentences_of(document))
+    return dataclasses.replace(document, sentences=sents)
+
+
+def split_sentences(text: str) -> list[str]:
+    """Sentences of a plain string (for tests, examples and tools)."""
+    return [s.text for s in pipeline()(text).sents if s.text.strip()]

@@ -1,0 +1,191 @@
+"""From cue hits to item statuses: facets found, needs met, applicability and waivers."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from ..matching.checklist import Facet, Item
+from ..matching.matcher import APPLIES, CUE, FOUND_AT, NEAR, UNLESS, CompiledChecklist, Hit, Scan, key
+from .report import Evidence, FacetResult, Fact, ItemResult
+
+MAX_EVIDENCE = 3
+MAX_FACTS_PER_NAME = 5
+
+
+@dataclass(frozen=True)
+class FacetHits:
+    facet: Facet
+    hits: tuple[Hit, ...]  # valid cue hits (near satisfied, not cancelled by unless)
+    score: float
+    #: how strong the best hit must be for the facet to count as found (fitted per concept, see fitted.py)
+    threshold: float = FOUND_AT
+
+    @property
+    def found(self) -> bool:
+        return self.score >= self.threshold
+
+
+def facet_hits(scan: Scan, ii: int, fi: int, facet: Facet, threshold: float = FOUND_AT) -> FacetHits:
+    cue_hits = scan.hits.get(key(ii, fi, CUE), [])
+    if not cue_hits:
+        return FacetHits(facet, (), 0.0, threshold)
+    unless = {h.sentence for h in scan.hits.get(key(ii, fi, UNLESS), [])}
+    near_sents: set[int] | None = None
+    if facet.near is not None:
+        near_sents = {h.sentence for h in scan.hits.get(key(ii, fi, NEAR), [])}
+    valid = []
+    for h in cue_hits:
+        if h.sentence in unless:
+            continue
+        if near_sents is not None and not _near(scan, h.sentence, near_sents, facet.near.within):
+            continue
+        valid.append(h)
+    score = max((facet.weight * scan.weight(h.sentence) for h in valid), default=0.0)
+    return FacetHits(facet, tuple(valid), score, threshold)
+
+
+def _near(scan: Scan, s: int, others: set[int], within: int) -> bool:
+    section = scan.sections[s]
+    block = scan.sentences[s].block
+    for t in range(s - within, s + within + 1):
+        if t in others and 0 <= t < len(scan.sentences):
+            if t == s or scan.sections[t] == section or scan.sentences[t].block == block:
+                return True
+    return False
+
+
+def evaluate_item(compiled: CompiledChecklist, scan: Scan, ii: int, item: Item, waivers: dict[str, str]) -> ItemResult:
+    from ..matching.facts import parse_value
+    from .fitted import threshold
+
+    found_at = threshold(item.concept)
+    per_facet = [facet_hits(scan, ii, fi, f, found_at) for fi, f in enumerate(item.facets)]
+    found = {fh.facet.id for fh in per_facet if fh.found}
+    facets = tuple(
+        FacetResult(fh.facet.id, fh.facet.title, fh.found, fh.score, len({h.sentence for h in fh.hits}))
+        for fh in per_facet
+    )
+
+    # evidence: sentences ranked by how many facets they carry, weighted by where they stand
+    by_sentence: dict[int, dict[str, list[Hit]]] = {}
+    for fh in per_facet:
+        for h in fh.hits:
+            by_sentence.setdefault(h.sentence, {}).setdefault(fh.facet.id, []).append(h)
+    weights = {fh.facet.id: fh.facet.weight for fh in per_facet}
+    ranked = sorted(
+        by_sentence.items(),
+        key=lambda kv: (-sum(weights[f] for f in kv[1]) * scan.weight(kv[0]), kv[0]),
+    )
+    evidence = []
+    for si, fhits in ranked:
+        score = min(1.0, scan.weight(si) * sum(weights[f] for f in fhits) / max(1, len(item.facets)))
+        if scan.weight(si) * max(weights[f] for f in fhits) < found_at:
+            continue
+        sent = scan.sentences[si]
+        spans = _merge_spans([(h.start, h.end) for hs in fhits.values() for h in hs])
+        text, spans = _trim(sent.text, spans)
+        evidence.append(Evidence(text, sent.location, score, spans, tuple(f.id for f in item.facets if f.id in fhits),
+                                 scan.attribution(si).kind))
+        if len(evidence) >= MAX_EVIDENCE:
+            break
+
+    facts: dict[str, list[Fact]] = {}
+    seen: set[tuple[str, int, str]] = set()
+    for fh in per_facet:
+        for h in fh.hits:
+            if scan.weight(h.sentence) * fh.facet.weight < found_at:
+                continue
+            for name, text, _s, _e in h.groups:
+                k = (name, h.sentence, text)
+                if k in seen or len(facts.get(name, ())) >= MAX_FACTS_PER_NAME:
+                    continue
+                seen.add(k)
+                facts.setdefault(name, []).append(
+                    Fact(name, parse_value(name, text), text.strip(), scan.sentences[h.sentence].location)
+                )
+
+    status, reason = _status(compiled, scan, ii, item, per_facet, found, waivers)
+    return ItemResult(
+        id=item.id,
+        group=item.group,
+        title=item.title,
+        question=item.question,
+        ask=item.ask,
+        status=status,
+        facets=facets,
+        evidence=tuple(evidence),
+        facts=tuple((name, tuple(fs)) for name, fs in sorted(facts.items())),
+        reason=reason,
+        why=item.why,
+    )
+
+
+def decide(found: set[str], needs: tuple[tuple[str, ...], ...], inapplicable: bool) -> str:
+    """The status from the facets found: reported when every facet of one `needs` set is found, partial when
+    some facet is, else not-applicable (the item's `applies_when` found nothing) or missing. The one rule that
+    both the verdicts and the threshold fitting (fitting.py) use."""
+    if not found:
+        return "not-applicable" if inapplicable else "missing"
+    return "reported" if any(set(n) <= found for n in needs) else "partial"
+
+
+def _status(compiled, scan, ii, item, per_facet, found, waivers) -> tuple[str, str]:
+    if item.id in waivers:
+        return "waived", f"waived in the configuration: {waivers[item.id]}"
+    inapplicable = item.applies_when is not None and not scan.hits.get(key(ii, -1, APPLIES))
+    status = decide(found, item.needs, inapplicable)
+    if status == "not-applicable":
+        return status, f"not applicable: {item.applies_when.reason}"
+    titles = {fh.facet.id: fh.facet.title for fh in per_facet}
+    if status == "reported":
+        return "reported", "found: " + "; ".join(titles[f] for f in titles if f in found)
+    if found:
+        # name what a best alternative still lacks
+        best = min(item.needs, key=lambda n: (len(set(n) - found), item.needs.index(n)))
+        lacking = [titles[f] for f in best if f not in found]
+        return "partial", ("found: " + "; ".join(titles[f] for f in titles if f in found)
+                           + " — not found: " + "; ".join(lacking))
+    weak = [h.sentence for fh in per_facet for h in fh.hits]
+    if weak:
+        kinds = {scan.attribution(si).kind for si in weak} - {"this-study"}
+        where = [_WEAK_WORDS[k] for k in ("other-work", "background", "plan", "template") if k in kinds]
+        if any(scan.attribution(si).kind == "this-study" for si in weak):
+            where.append("sections that count little (introduction, discussion, headings)")
+        return "missing", "only mentioned in " + " and ".join(where)
+    return "missing", "nothing found for: " + "; ".join(titles.values())
+
+
+#: where a cue was found that did not count, in words for the reason
+_WEAK_WORDS = {"other-work": "text about other work", "background": "general statements",
+               "plan": "plans or future work", "template": "a template's prompts"}
+
+
+def _merge_spans(spans: list[tuple[int, int]]) -> tuple[tuple[int, int], ...]:
+    out: list[list[int]] = []
+    for s, e in sorted(spans):
+        if out and s <= out[-1][1]:
+            out[-1][1] = max(out[-1][1], e)
+        else:
+            out.append([s, e])
+    return tuple((s, e) for s, e in out)
+
+
+def _trim(text: str, spans: tuple[tuple[int, int], ...]) -> tuple[str, tuple[tuple[int, int], ...]]:
+    """Strip the sentence's outer white space, moving the spans with it."""
+    lead = len(text) - len(text.lstrip())
+    t = text.strip()
+    out = []
+    for s, e in spans:
+        s, e = max(0, s - lead), min(len(t), e - lead)
+        while s < e and t[s].isspace():  # a regex may take the space after its last word: show words only
+            s += 1
+        while e > s and t[e - 1].isspace():
+            e -= 1
+        if e > s:
+            out.append((s, e))
+    return t, tuple(out)
+
+
+def evaluate(compiled: CompiledChecklist, scan: Scan, waivers: dict[str, str] | None = None) -> tuple[ItemResult, ...]:
+    waivers = waivers or {}
+    return tuple(evaluate_item(compiled, scan, ii, it, waivers) for ii, it in enumerate(compiled.checklist.items))
