@@ -14,11 +14,9 @@ import io
 import logging
 import math
 import re
-import unicodedata
 from collections import Counter, defaultdict
 from collections.abc import Iterator
 from dataclasses import dataclass, replace
-from functools import lru_cache
 from pathlib import Path
 
 from rapidfuzz import fuzz, process
@@ -28,6 +26,7 @@ from ..core.errors import InputError
 from ..core.limits import Limits
 from . import Parsed
 from .sections import BYLINE
+from .pdflines import Page, Piece, clean, is_bold, mark_undecoded
 from .text import numbering_depth
 
 FORMAT = "pdf"
@@ -81,37 +80,6 @@ def _looks_like(head: bytes) -> str:
 
 
 @dataclass(frozen=True)
-class _Piece:
-    """One run of text on one baseline, as pdfminer grouped it (a line, or part of one)."""
-
-    text: str
-    x0: float
-    x1: float
-    y0: float
-    y1: float
-    size: float
-    bold: float  # share of letters set in a bold font
-    bold_prefix: str  # a leading bold run followed by non-bold text ("Abstract."), else ""
-    ends_soft: bool  # the line ended with a soft hyphen
-    chars: int
-
-    @property
-    def cy(self) -> float:
-        return (self.y0 + self.y1) / 2
-
-
-@dataclass(frozen=True)
-class _Page:
-    number: int
-    width: float
-    height: float
-    pieces: tuple[_Piece, ...]
-    rules: tuple[tuple[float, float, float], ...]  # horizontal strokes: (y, x0, x1)
-    images: int
-    undecoded: int  # glyphs without a character map, (cid:N) in pdfminer's output
-
-
-@dataclass(frozen=True)
 class _Row:
     """A line of text in reading order, or one row of a table (its cells in ``cells``)."""
 
@@ -133,34 +101,7 @@ class _Row:
     printed: int | None = None  # the line number printed beside it in the margin (review copies)
 
 
-_CID = re.compile(r"\(cid:\d+\)")
-_LONE_CID = re.compile(r"^\s*\(cid:\d+\)\s*$")
-_LEADING_CID = re.compile(r"^\s*\(cid:\d+\)\s+(?=\S)")
-_HYPHENS = str.maketrans({"\u2010": "-", "\u2011": "-", "\u00ad": None, "\u200b": None, "\ufeff": None})
-_CONTROL = re.compile(r"[\x00-\x08\x0b-\x1f\x7f]")
-_BOLD_FONT = re.compile(r"bold|black|heavy|semibold|demi|[-,_]medi(um)?\b|[-,_]medi$|cmbx|cmb\d|\bbd\b|[-,]b$",
-                        re.IGNORECASE)
-
-
-def _clean(text: str) -> str:
-    """NFKC (ligatures, compatibility forms), soft hyphens out, one space between words."""
-    text = unicodedata.normalize("NFKC", _CID.sub("", text)).translate(_HYPHENS)
-    return re.sub(r"\s+", " ", _CONTROL.sub(" ", text)).strip()
-
-
-@lru_cache(maxsize=1024)
-def _is_bold(fontname: str) -> bool:
-    return bool(_BOLD_FONT.search(fontname.split("+", 1)[-1]))
-
-
-def _undecoded(raw: str) -> tuple[str, int]:
-    """A line's text with its glyphs without a character map, written (cid:N), settled: one standing alone at
-    the start of the line is a bullet in practice; the others are counted (_clean drops them)."""
-    raw = "•" if _LONE_CID.match(raw) else _LEADING_CID.sub("• ", raw, count=1)
-    return raw, len(_CID.findall(raw))
-
-
-def _piece(line) -> tuple[_Piece | None, int]:
+def _piece(line) -> tuple[Piece | None, int]:
     from pdfminer.layout import LTAnno, LTChar
 
     parts: list[str] = []
@@ -175,7 +116,7 @@ def _piece(line) -> tuple[_Piece | None, int]:
             t = ch.get_text()
             parts.append(t)
             if t.strip():
-                bold.append(_is_bold(ch.fontname))
+                bold.append(is_bold(ch.fontname))
                 sizes.append(ch.size)
                 x0, y0, x1, y1 = min(x0, ch.x0), min(y0, ch.y0), max(x1, ch.x1), max(y1, ch.y1)
             else:
@@ -183,8 +124,8 @@ def _piece(line) -> tuple[_Piece | None, int]:
         elif isinstance(ch, LTAnno) and parts:
             parts.append(ch.get_text())
             bold.append(None)
-    raw, undecoded = _undecoded("".join(parts))
-    text = _clean(raw)
+    raw, undecoded = mark_undecoded("".join(parts))
+    text = clean(raw)
     if not text or not sizes:
         return None, undecoded
     flags = [b for b in bold if b is not None]
@@ -193,21 +134,21 @@ def _piece(line) -> tuple[_Piece | None, int]:
     if 0 < share < 1 and flags[0]:
         # the leading bold run, up to the first non-bold letter
         end = next(i for i, b in enumerate(bold) if b is False)
-        head = _clean(raw[:end])
+        head = clean(raw[:end])
         if head and text.startswith(head):
             prefix = head
     sizes.sort()
-    return _Piece(
+    return Piece(
         text=text, x0=x0, x1=x1, y0=y0, y1=y1, size=sizes[len(sizes) // 2], bold=share, bold_prefix=prefix,
         ends_soft=raw.rstrip().endswith("\u00ad"), chars=len(flags),
     ), undecoded
 
 
-def _collect(number: int, layout) -> _Page:
+def _collect(number: int, layout) -> Page:
     """The compact record of one laid-out page; pdfminer's objects are dropped after this."""
     from pdfminer.layout import LTCurve, LTFigure, LTImage, LTLine, LTRect, LTTextBox, LTTextLineHorizontal
 
-    pieces: list[_Piece] = []
+    pieces: list[Piece] = []
     rules: list[tuple[float, float, float]] = []
     images = 0
     undecoded = 0
@@ -238,7 +179,7 @@ def _collect(number: int, layout) -> _Page:
                     rules.append((round(obj.y1, 2), obj.x0, obj.x1))
 
     walk(layout, True)
-    return _Page(number, layout.width, layout.height, tuple(pieces), tuple(rules), images, undecoded)
+    return Page(number, layout.width, layout.height, tuple(pieces), tuple(rules), images, undecoded)
 
 
 # ---------------------------------------------------------------------------------------------- reading the file
@@ -251,7 +192,7 @@ def _check_complete(path: Path, data: bytes) -> None:
                                          "download or export it again")
 
 
-def _layouts(path: Path, data: bytes, limits: Limits) -> Iterator[_Page]:
+def _layouts(path: Path, data: bytes, limits: Limits) -> Iterator[Page]:
     """Each page laid out by pdfminer, one at a time, as a compact record."""
     from pdfminer.converter import PDFPageAggregator
     from pdfminer.layout import LAParams
@@ -400,9 +341,9 @@ def _pages_text(numbers: list[int]) -> str:
 _PAGE_NUMBER = re.compile(r"^\W*(?:page\s*)?(?:\d{1,4}|[ivxlc]{1,6})(?:\s*(?:of|/)\s*\d{1,4})?\W*$", re.IGNORECASE)
 
 
-def _baseline_groups(pieces: list[_Piece]) -> list[list[_Piece]]:
+def _baseline_groups(pieces: list[Piece]) -> list[list[Piece]]:
     """Pieces sharing a baseline, top of the page first, each group left to right."""
-    groups: list[list[_Piece]] = []
+    groups: list[list[Piece]] = []
     for p in sorted(pieces, key=lambda q: (-q.y0, q.x0)):
         if groups:
             g = groups[-1][0]
@@ -418,7 +359,7 @@ def _normalised(text: str) -> str:
     return re.sub(r"\s+", " ", re.sub(r"\d+", "#", text.lower())).strip()
 
 
-def _running_lines(pages: list[_Page]) -> dict[int, set[int]]:
+def _running_lines(pages: list[Page]) -> dict[int, set[int]]:
     """Per page, the indexes of pieces that are running headers, footers or page numbers.
 
     Candidates are the three top and three bottom lines of each page; one that recurs on enough pages (digits
@@ -489,7 +430,7 @@ _GLUED_END = re.compile(r"(?<=[^\d\s.,])(\d{1,5})$")  # "Results203": a margin n
 _GLUED_START = re.compile(r"^(\d{1,5})\s+(?=\S)")
 
 
-def _margin_columns(page: _Page, skip: set[int]) -> list[list[tuple[int, _Piece, int]]]:
+def _margin_columns(page: Page, skip: set[int]) -> list[list[tuple[int, Piece, int]]]:
     """Columns of line numbers in the margins of the page: lists of (piece index, piece, number), top first.
 
     Line numbers of a review copy are lone numbers, aligned on one edge, outside the text they number (left of
@@ -504,7 +445,7 @@ def _margin_columns(page: _Page, skip: set[int]) -> list[list[tuple[int, _Piece,
     rights = sorted(p.x1 for p in others)
     body_left = _mode([p.x0 for p in others], [p.chars for p in others])
     body_right = rights[int(0.95 * (len(rights) - 1))]
-    clusters: dict[tuple[str, int], list[tuple[int, _Piece, int]]] = defaultdict(list)
+    clusters: dict[tuple[str, int], list[tuple[int, Piece, int]]] = defaultdict(list)
     for item in lone:
         p = item[1]
         if p.x1 <= body_left + 1:
@@ -524,8 +465,8 @@ def _margin_columns(page: _Page, skip: set[int]) -> list[list[tuple[int, _Piece,
     return out
 
 
-def _printed_line_numbers(pages: list[_Page], running: dict[int, set[int]]
-                          ) -> tuple[list[_Page], dict[int, tuple[set[int], list[tuple[float, float, int]]]]]:
+def _printed_line_numbers(pages: list[Page], running: dict[int, set[int]]
+                          ) -> tuple[list[Page], dict[int, tuple[set[int], list[tuple[float, float, int]]]]]:
     """Pages with the margin numbers that were read into a line of text taken out of it, and per page the
     indexes of the pieces that are printed line numbers and each number as (baseline, size, number).
 
@@ -546,14 +487,14 @@ def _printed_line_numbers(pages: list[_Page], running: dict[int, set[int]]
     if not numbered_pages or numbered_pages < max(1, math.ceil(with_text / 3)):
         return pages, {}
 
-    def place_of(p: _Piece) -> tuple[str, int] | None:
+    def place_of(p: Piece) -> tuple[str, int] | None:
         for side, edge in (("left", p.x1), ("right", p.x0)):
             for d in (0, -1, 1):
                 if (side, round(edge / 4) + d) in places:
                     return (side, round(edge / 4) + d)
         return None
 
-    out_pages: list[_Page] = []
+    out_pages: list[Page] = []
     printed: dict[int, tuple[set[int], list[tuple[float, float, int]]]] = {}
     last_seen: dict[tuple[str, int], int] = {}  # the last number of each column so far, for the next page's top
     for page in pages:
@@ -619,7 +560,7 @@ _MARKER = re.compile(r"^(?:[•◦▪▫●○■□‣⁃∙·*–—-]|\(?\d{1
                      r"|[IVX]{1,5}\.|[A-Z]\.)$")
 
 
-def _coverage(pieces: list[_Piece], origin: float, n: int) -> list[int]:
+def _coverage(pieces: list[Piece], origin: float, n: int) -> list[int]:
     """For each x from ``origin``, the characters of the pieces that cross it."""
     cover = [0] * (n + 1)
     for p in pieces:
@@ -635,9 +576,9 @@ def _coverage(pieces: list[_Piece], origin: float, n: int) -> list[int]:
     return cover
 
 
-def _bands(groups: list[list[_Piece]]) -> list[list[list[_Piece]]]:
+def _bands(groups: list[list[Piece]]) -> list[list[list[Piece]]]:
     """Baseline groups cut into horizontal bands at wide gaps, where a title block or a float may end."""
-    bands: list[list[list[_Piece]]] = []
+    bands: list[list[list[Piece]]] = []
     for g in groups:
         if bands:
             prev = bands[-1][-1]
@@ -649,7 +590,7 @@ def _bands(groups: list[list[_Piece]]) -> list[list[list[_Piece]]]:
     return bands
 
 
-def _page_gutter(pieces: list[_Piece], bands: list[list[list[_Piece]]]) -> float | None:
+def _page_gutter(pieces: list[Piece], bands: list[list[list[Piece]]]) -> float | None:
     """The gap between the two columns of the page, found in the band with most two-column text."""
     found = []
     for band in bands:
@@ -662,7 +603,7 @@ def _page_gutter(pieces: list[_Piece], bands: list[list[list[_Piece]]]) -> float
     return _gutter(pieces) if len(bands) > 1 else None
 
 
-def _gutter(pieces: list[_Piece]) -> float | None:
+def _gutter(pieces: list[Piece]) -> float | None:
     """The x of the gap between two columns, or None where the text is in one column.
 
     Running text decides: in two columns its lines stay on their side of the gap and fill it, in one column
@@ -714,9 +655,9 @@ def _gutter(pieces: list[_Piece]) -> float | None:
     return x if texty else None
 
 
-def _merge(pieces: list[_Piece]) -> list[_Piece]:
+def _merge(pieces: list[Piece]) -> list[Piece]:
     """Join pieces of one baseline that belong together: wide word gaps, and a number or bullet before its text."""
-    out: list[_Piece] = []
+    out: list[Piece] = []
     for p in pieces:
         if out:
             a = out[-1]
@@ -727,7 +668,7 @@ def _merge(pieces: list[_Piece]) -> list[_Piece]:
                 prefix = a.bold_prefix or (a.text if a.bold > 0.9 and p.bold < 0.5 else "")
                 if a.bold < 0.9 and not a.bold_prefix:
                     prefix = ""
-                out[-1] = _Piece(
+                out[-1] = Piece(
                     text=f"{a.text} {p.text}", x0=a.x0, x1=max(a.x1, p.x1), y0=min(a.y0, p.y0), y1=max(a.y1, p.y1),
                     size=a.size if a.chars >= p.chars else p.size, bold=(a.bold * a.chars + p.bold * p.chars) / n,
                     bold_prefix=prefix, ends_soft=p.ends_soft, chars=n,
@@ -744,7 +685,7 @@ def _mode(values: list[float], weights: list[int] | None = None) -> float:
     return max(counts.items(), key=lambda kv: (kv[1], -kv[0]))[0] if counts else 0.0
 
 
-def _page_rows(page: _Page, running: set[int]) -> list[_Row]:
+def _page_rows(page: Page, running: set[int]) -> list[_Row]:
     """The page's text lines and table rows in reading order, numbered by line."""
     pieces = [p for i, p in enumerate(page.pieces) if i not in running]
     if not pieces:
@@ -753,7 +694,7 @@ def _page_rows(page: _Page, running: set[int]) -> list[_Row]:
     bands = _bands(groups)
     gutter = _page_gutter(pieces, bands)
 
-    def column_of(p: _Piece) -> int:
+    def column_of(p: Piece) -> int:
         if gutter is None:
             return 0
         if p.x1 <= gutter + 1:
@@ -762,7 +703,7 @@ def _page_rows(page: _Page, running: set[int]) -> list[_Row]:
             return 1
         return 2
 
-    by_column: dict[int, list[_Piece]] = defaultdict(list)
+    by_column: dict[int, list[Piece]] = defaultdict(list)
     if gutter is None:
         by_column[0] = pieces
     else:
@@ -799,9 +740,9 @@ def _page_rows(page: _Page, running: set[int]) -> list[_Row]:
             region += 1
         last = kind
         (span_region if kind == 0 else piece_region)[k] = region
-    sequences: dict[tuple[int, int], list[list[_Piece]]] = defaultdict(list)
+    sequences: dict[tuple[int, int], list[list[Piece]]] = defaultdict(list)
     columned = by_column.get(0, []) + by_column.get(1, [])
-    members: dict[tuple[int, int], list[_Piece]] = defaultdict(list)
+    members: dict[tuple[int, int], list[Piece]] = defaultdict(list)
     for k, p in enumerate(columned):
         members[(piece_region[k], column_of(p))].append(p)
     for key, ps in members.items():
@@ -830,7 +771,7 @@ def _page_rows(page: _Page, running: set[int]) -> list[_Row]:
     return rows
 
 
-def _row_of(g: list[_Piece], offset: int = 0, cells: tuple[str, ...] = ()) -> _Row:
+def _row_of(g: list[Piece], offset: int = 0, cells: tuple[str, ...] = ()) -> _Row:
     n = sum(p.chars for p in g)
     text = " | ".join(cells) if cells else " ".join(p.text for p in g)
     if cells:
@@ -843,7 +784,7 @@ def _row_of(g: list[_Piece], offset: int = 0, cells: tuple[str, ...] = ()) -> _R
     )
 
 
-def _table_rows(groups: list[list[_Piece]], rules: tuple[tuple[float, float, float], ...]
+def _table_rows(groups: list[list[Piece]], rules: tuple[tuple[float, float, float], ...]
                 ) -> Iterator[tuple[list[_Row], int]]:
     """Rows of one column in order; runs of baselines with several cells become table rows.
 
@@ -882,7 +823,7 @@ def _table_rows(groups: list[list[_Piece]], rules: tuple[tuple[float, float, flo
         i = j
 
 
-def _aligned(groups: list[list[_Piece]]) -> bool:
+def _aligned(groups: list[list[Piece]]) -> bool:
     """Whether at least two baselines have cells starting or ending at the same x, as table columns do."""
     if len(groups) < 2:
         return False
@@ -893,18 +834,18 @@ def _aligned(groups: list[list[_Piece]]) -> bool:
     return any(n >= 2 for n in edges.values())
 
 
-def _table(run: list[list[_Piece]], rules: tuple[tuple[float, float, float], ...]) -> list[_Row]:
+def _table(run: list[list[Piece]], rules: tuple[tuple[float, float, float], ...]) -> list[_Row]:
     x0 = min(p.x0 for g in run for p in g)
     x1 = max(p.x1 for g in run for p in g)
     width = x1 - x0
     strokes = [y for y, a, b in rules if min(b, x1) - max(a, x0) > 0.5 * width]
 
-    def ruled(a: list[_Piece], b: list[_Piece]) -> bool:
+    def ruled(a: list[Piece], b: list[Piece]) -> bool:
         top = min(p.cy for p in a)
         bottom = max(p.cy for p in b)
         return any(bottom < y < top for y in strokes)
 
-    def first_column(g: list[_Piece]) -> bool:
+    def first_column(g: list[Piece]) -> bool:
         return g[0].x0 < x0 + 3
 
     # a ruled grid has a stroke between most rows; a table with only head and foot rules has one or two

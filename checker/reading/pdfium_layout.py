@@ -1,7 +1,7 @@
 """The fast way to lay out a PDF page: PDFium (pypdfium2) instead of pdfminer.six's layout analysis.
 
-It builds the same compact line records as the careful path in checker.reading.pdf (``_Page`` with its
-``_Piece`` lines, horizontal rules and image count), so everything after them (columns, tables, headings,
+It builds the same compact line records as the careful path in checker.reading.pdf (``Page`` with its
+``Piece`` lines, horizontal rules and image count), so everything after them (columns, tables, headings,
 running headers) is shared. PDFium is asked about whole text objects (a run of text in one font, usually a line
 or part of one) rather than about every character: their text, font, size and matrix, the advance box of their
 first and last character, and the two characters on either side of each space, which is where a line can be
@@ -23,7 +23,7 @@ from itertools import takewhile
 from pathlib import Path
 
 from ..core.limits import Limits
-from .pdf import _clean, _is_bold, _Page, _Piece, _undecoded
+from .pdflines import Page, Piece, clean, is_bold, mark_undecoded
 
 #: split a line where the gap between two characters exceeds this many of their widths (pdfminer's char_margin)
 _CHAR_MARGIN = 1.6
@@ -164,12 +164,12 @@ class _Reader:
                 name = b.value.decode("latin-1")
             d = self.fl[0]
             descent = d.value / 1000.0 if font and api.FPDFFont_GetDescent(font, 1000.0, d) else -0.2
-            hit = self.fonts[key] = (_is_bold(name), max(-1.0, min(0.0, descent)))
+            hit = self.fonts[key] = (is_bold(name), max(-1.0, min(0.0, descent)))
         return hit
 
 
 def pages(path: Path, data: bytes, limits: Limits) -> list:
-    """Every page as the careful path's ``_Page`` record, or ``Unsure``."""
+    """Every page as the careful path's ``Page`` record, or ``Unsure``."""
     try:
         import pypdfium2 as pdfium
         import pypdfium2.raw as raw
@@ -238,7 +238,7 @@ def _page(reader: _Reader, pdf, index: int):
         for obj, matrix in texts:
             runs.extend(_text_runs(reader, obj, textpage, matrix, chars, origin))
         pieces, undecoded = _pieces(runs)
-        return _Page(index + 1, width, height, tuple(pieces), tuple(rules), counts["images"], undecoded)
+        return Page(index + 1, width, height, tuple(pieces), tuple(rules), counts["images"], undecoded)
     finally:
         if textpage:
             api.FPDFText_ClosePage(textpage)
@@ -532,7 +532,7 @@ def _pieces(runs: list[_Run]) -> tuple[list, int]:
     return [p for p, _n in out if p is not None], sum(n for _p, n in out)
 
 
-def _piece_of(group: list[_Run]) -> tuple[_Piece | None, int]:
+def _piece_of(group: list[_Run]) -> tuple[Piece | None, int]:
     """One line piece from runs, with the careful path's words: a space where runs stand apart, glyphs without a
     character map settled as there (written as pdfminer writes them)."""
     parts = [group[0].text]
@@ -542,19 +542,19 @@ def _piece_of(group: list[_Run]) -> tuple[_Piece | None, int]:
             parts.append(" ")
         parts.append(run.text)
         end = max(end, run.x1)
-    raw, undecoded = _undecoded("".join(parts).replace(_NO_MAP, "(cid:0)"))
-    text = _clean(raw)
+    raw, undecoded = mark_undecoded("".join(parts).replace(_NO_MAP, "(cid:0)"))
+    text = clean(raw)
     chars = sum(r.chars for r in group)
     if not text or not chars:
         return None, undecoded
     share = sum(r.chars for r in group if r.bold) / chars
     prefix = ""
     if 0 < share < 1 and group[0].bold:
-        head = _clean(" ".join(r.text for r in takewhile(lambda r: r.bold, group)))
+        head = clean(" ".join(r.text for r in takewhile(lambda r: r.bold, group)))
         if head and text.startswith(head):
             prefix = head
     sizes = sorted(s for r in group for s in [r.size] * max(r.chars, 1))
-    return _Piece(
+    return Piece(
         text=text, x0=min(r.x0 for r in group), x1=max(r.x1 for r in group), y0=min(r.y0 for r in group),
         y1=max(r.y1 for r in group), size=sizes[len(sizes) // 2], bold=share, bold_prefix=prefix,
         ends_soft=raw.rstrip().endswith("\u00ad"), chars=chars,
