@@ -31,14 +31,24 @@ _CITATION = re.compile(
 
 # The document speaking of itself: first person, "this study/challenge/dataset", the people of a benchmark.
 _SELF = re.compile(
-    r"\b(?:we|our|ours|us|here(?:in)?|in\s+this\s+(?:work|study|paper|article|thesis|report|challenge|"
-    r"competition|benchmark|dataset|task|track)|this\s+(?:work|study|paper|article|thesis|challenge|competition|"
+    r"\b(?:we|our|ours|us|here(?:in)?|in\s+this\s+(?:work|study|paper|article|thesis|dissertation|report|project|"
+    r"challenge|competition|benchmark|dataset|task|track)|this\s+(?:work|study|paper|article|thesis|dissertation|"
+    r"project|challenge|competition|"
     r"benchmark|dataset|data\s*set|corpus|database|task|track|edition|evaluation|analysis)|the\s+present\s+"
     r"(?:study|work)|the\s+(?:test|training|validation|development|hold-?out)\s+(?:set|data|cohort|split)|"
     r"participants?|participating|teams?|submissions?|organi[sz]ers?|the\s+(?:challenge|"
     r"competition|benchmark|leaderboard|organi[sz]ing\s+committee)|proposed\s+(?:method|model|approach|network)|"
     r"(?:is|are)\s+intended\s+(?:as|for|to)|(?:is|are)\s+designed\s+(?:to|for|as))\b",
     re.IGNORECASE,
+)
+
+# First person singular, as theses and student reports write: "my", and "I" as a subject ("I used", "I have"),
+# never the numeral of "Table I" or "Type I" (hence case-sensitive "I" followed by a verb).
+_SELF_SINGULAR = re.compile(
+    r"\b[Mm]y\b|\bI\s+(?:[a-z]+ly\s+)?(?:have|had|am|was|will|would|could|can|did|do|use|used|chose|choose|found|"
+    r"find|train|trained|test|tested|collect|collected|annotat[a-z]*|label[a-z]*|segment[a-z]*|implement[a-z]*|"
+    r"perform[a-z]*|appl[a-z]+|select[a-z]*|evaluat[a-z]*|compar[a-z]*|obtain[a-z]*|download[a-z]*|split|divid[a-z]*|"
+    r"measur[a-z]*|comput[a-z]*|calculat[a-z]*|decided|wanted|then|also)\b"
 )
 
 # Subjects that put a statement on someone else.
@@ -108,8 +118,8 @@ def attribute(text: str, role: str = "body", kind: str = "paragraph") -> Attribu
     """Whose statement `text` is, from its own words and the role of the section it stands in."""
     if kind == "heading":
         return Attribution(THIS_STUDY, "a heading")
-    own = _SELF.search(text)
-    if _TEMPLATE.search(text) and not re.match(r"\s*(?:we|our)\b", text, re.IGNORECASE):
+    own = _SELF.search(text) or _SELF_SINGULAR.search(text)
+    if _TEMPLATE.search(text) and not re.match(r"\s*(?:we|our|my)\b|\s*I\s", text, re.IGNORECASE):
         return Attribution(TEMPLATE, "an instruction or placeholder")
     if _PLAN.search(text):
         return Attribution(PLAN, "future work or a plan")

@@ -279,6 +279,15 @@ def _is_title(headings: list[tuple[int, Block]], blocks: list[Block]) -> bool:
     return heading_role(first.text) is None and not _SECTION_NUMBER.match(first.text)
 
 
+#: a "heading" that is a whole statement: web pages set sentences in heading style for emphasis
+_SENTENCE_END = re.compile(r"[a-z)\]%][.!](?:\s|$)")
+
+
+def _is_sentence(text: str) -> bool:
+    """A heading block that is really a sentence or two: many words and a full stop after a word."""
+    return len(text.split()) >= 14 and bool(_SENTENCE_END.search(text))
+
+
 def assign_sections(blocks: list[Block]) -> list[Block]:
     """Fill in each block's section path and role from the headings before it.
 
@@ -287,7 +296,8 @@ def assign_sections(blocks: list[Block]) -> list[Block]:
     matter never hold the sections after them; the subsections of related work stay related work;
     table-of-contents lines are not headings.
     """
-    blocks = _join_chapter_titles(blocks)
+    blocks = [dataclasses.replace(b, kind="paragraph", level=None) if b.kind == "heading" and _is_sentence(b.text)
+              else b for b in _join_chapter_titles(blocks)]
     headings = [(i, b) for i, b in enumerate(blocks) if b.kind == "heading"]
     moved = _caps_rank(headings)
     levels = {i: moved.get(i, float(b.level or 1)) for i, b in headings}
