@@ -1,11 +1,15 @@
 """Fit each concept's evidence threshold on labelled documents and report leave-one-document-out figures.
 
-    python benchmarks/fit.py [--dev DIR] [--write] [--jobs N]
+    python benchmarks/fit.py [--dev DIR] [--extra DIR ...] [--write] [--needs] [--jobs N]
 
 Every labelled document is checked once with the checklist its label names. For each concept the threshold
 with the most agreement with the labels is chosen from a small grid (checker/many/fitting.py). The figures printed are
 cross-validated: each document is judged with thresholds fitted on all the others. `--write` stores the
 thresholds fitted on all documents in checklists/fitted.yaml, which the verdicts then use.
+
+`--needs` also fits, per checklist item, which facets together make it reported (checker/fitting.py,
+`fit_needs`), prints the cross-validated figures of that procedure and the needs that differ from the written
+ones; a person copies those into the checklists. `--extra DIR` adds another folder of labelled documents.
 """
 
 from __future__ import annotations
@@ -43,10 +47,34 @@ def _figures(rows_with_status, label_files_by_doc):
     return summarize(outcomes, [by_doc[d] for d in docs], resamples=1000)
 
 
+def _report_needs(rows, by_doc, default) -> None:
+    from checker.many.fitting import FOUND_AT, cross_validate_needs, fit_needs
+
+    cv = _figures(cross_validate_needs(rows), by_doc)
+    fitted = fit_needs(rows)
+    same = _figures([(r, r.status_at(FOUND_AT, fitted.get((r.checklist, r.item_id), r.needs))) for r in rows],
+                    by_doc)
+    print()
+    print(f"{'needs (which facets make an item reported)':<44} {'as written':>12} {'fitted, same docs':>18} "
+          f"{'fitted, left out (CV)':>30}")
+    for name in ("macro_f1", "binary_kappa", "three_class_agreement", "four_class_agreement"):
+        vals = [next(x for x in ev.figures if x.name == name) for ev in (default, same, cv)]
+        print(f"{vals[0].title:<44} {vals[0].value:>12.3f} {vals[1].value:>18.3f} {vals[2].value:>30.3f}")
+    written = {(r.checklist, r.item_id): r.needs for r in rows}
+    changed = [(k, n) for k, n in fitted.items() if n != written[k]]
+    print(f"\nneeds that differ from the written ones ({len(changed)}):" if changed else "\nno needs changed")
+    for (checklist, item), n in changed:
+        print(f"  {checklist} {item}: {[list(a) for a in written[(checklist, item)]]} -> {[list(a) for a in n]}")
+
+
 def main(argv: list[str] | None = None) -> int:
     ap = argparse.ArgumentParser(description=__doc__.split("\n\n")[0])
     ap.add_argument("--dev", type=Path, default=ROOT.parent / "shared" / "eval" / "dev",
                     help="a folder with labels/ and the documents they name")
+    ap.add_argument("--extra", type=Path, action="append", default=[],
+                    help="another folder with labels/ and documents, fitted on together with --dev")
+    ap.add_argument("--needs", action="store_true",
+                    help="also fit which facets make each item reported, and print where that differs")
     ap.add_argument("--write", action="store_true", help="store the thresholds in checklists/fitted.yaml")
     ap.add_argument("--jobs", type=int, default=min(2, os.cpu_count() or 1))
     args = ap.parse_args(argv)
@@ -59,6 +87,8 @@ def main(argv: list[str] | None = None) -> int:
     from checker.many.fitting import FOUND_AT, GRID, cross_validate, fit
 
     label_files = load_labels(labels_dir)
+    for extra in args.extra:
+        label_files += load_labels(extra / "labels")
     tasks = [(lf.document, lf.checklist, {it.item_id: it.status for it in lf.items}) for lf in label_files]
     with ProcessPoolExecutor(max_workers=max(1, args.jobs)) as pool:
         results = list(pool.map(_scores, tasks))
@@ -83,6 +113,8 @@ def main(argv: list[str] | None = None) -> int:
             return f"{f.value:.3f}{iv}"
         title = next(x.title for x in cv.figures if x.name == name)
         print(f"{title:<44} {val(default):>12} {val(in_sample):>18} {val(cv):>30}")
+    if args.needs:
+        _report_needs(rows, by_doc, default)
     print()
     print("thresholds fitted on all documents (concepts without labels keep the default):")
     for c, t in fitted_all.items():

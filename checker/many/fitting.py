@@ -31,12 +31,15 @@ class ItemScores:
     needs: tuple[tuple[str, ...], ...]
     #: the item has an `applies_when` and none of its cues occurs: nothing found makes it not applicable
     inapplicable_when_empty: bool
+    #: the checklist the item belongs to (needs are chosen per checklist item)
+    checklist: str = ""
 
-    def status_at(self, threshold: float) -> str:
-        """The status the verdicts give at this threshold."""
+    def status_at(self, threshold: float, needs: tuple[tuple[str, ...], ...] | None = None) -> str:
+        """The status the verdicts give at this threshold (and with these `needs` instead of the item's)."""
         from ..verdicts.decide import decide
 
-        return decide({f for f, s in self.facet_scores if s >= threshold}, self.needs, self.inapplicable_when_empty)
+        return decide({f for f, s in self.facet_scores if s >= threshold},
+                      self.needs if needs is None else needs, self.inapplicable_when_empty)
 
 
 def scores_of(document: str, checklist: str, labels: dict[str, str], limits=None) -> list[ItemScores]:
@@ -58,7 +61,8 @@ def scores_of(document: str, checklist: str, labels: dict[str, str], limits=None
             continue
         per = [facet_hits(scan, ii, fi, f) for fi, f in enumerate(item.facets)]
         out.append(ItemScores(
-            document=document, item_id=item.id, concept=item.concept or item.id, human=labels[item.id],
+            document=document, item_id=item.id, concept=item.concept or item.id, checklist=compiled.checklist.id,
+            human=labels[item.id],
             facet_scores=tuple((fh.facet.id, round(fh.score, 6)) for fh in per), needs=item.needs,
             inapplicable_when_empty=item.applies_when is not None and not scan.hits.get(key(ii, -1, APPLIES)),
         ))
@@ -69,12 +73,12 @@ def _three(status: str) -> str:
     return "missing" if status == "not-applicable" else status
 
 
-def _gain(rows: Sequence[ItemScores], t: float) -> float:
+def _gain(rows: Sequence[ItemScores], t: float, needs: tuple[tuple[str, ...], ...] | None = None) -> float:
     """Agreement at threshold t: a point for the same reported/partial/missing, half a point for the same
     presence (reported or partial, or not), a quarter for the same not-applicable."""
     g = 0.0
     for r in rows:
-        tool = r.status_at(t)
+        tool = r.status_at(t, needs)
         g += _three(tool) == _three(r.human)
         g += 0.5 * ((_three(tool) != "missing") == (_three(r.human) != "missing"))
         g += 0.25 * ((tool == "not-applicable") == (r.human == "not-applicable"))
@@ -106,4 +110,67 @@ def cross_validate(rows: Sequence[ItemScores], grid: Sequence[float] = GRID) -> 
     for d in documents:
         fitted = fit((r for r in rows if r.document != d), grid)
         out += [(r, r.status_at(fitted.get(r.concept, FOUND_AT))) for r in rows if r.document == d]
+    return out
+
+
+# --- which facets make an item reported -------------------------------------------------------------------------
+#
+# A checklist's `needs` say which facets together make an item reported rather than partial. Written by hand they
+# are a guess at what readers call "specific enough"; here they are checked against the labels. Starting from the
+# written needs, one alternative is added ([f] or [f, g]) or removed at a time while that gains at least `margin`
+# points of agreement; the figures that judge the procedure are again from leaving one document out. The result is
+# printed by `benchmarks/fit.py --needs` and copied into the checklists by hand, where it stays readable.
+
+Needs = tuple[tuple[str, ...], ...]
+
+
+def _neighbours(needs: Needs, facets: Sequence[str]) -> list[Needs]:
+    have = {frozenset(n) for n in needs}
+    out: list[Needs] = []
+    singles = [(f,) for f in facets]
+    pairs = [(f, g) for i, f in enumerate(facets) for g in facets[i + 1:]]
+    for alt in singles + pairs:
+        if frozenset(alt) not in have:
+            out.append(needs + (alt,))
+    if len(needs) > 1:
+        out += [needs[:i] + needs[i + 1:] for i in range(len(needs))]
+    return out
+
+
+def fit_needs(rows: Iterable[ItemScores], margin: float = MARGIN, steps: int = 4) -> dict[tuple[str, str], Needs]:
+    """Per checklist item, the needs with the most agreement reachable from the written ones by small steps that
+    each gain at least `margin`; items whose written needs are not beaten keep them."""
+    from ..verdicts.fitted import threshold
+
+    by_item: dict[tuple[str, str], list[ItemScores]] = {}
+    for r in rows:
+        by_item.setdefault((r.checklist, r.item_id), []).append(r)
+    out: dict[tuple[str, str], Needs] = {}
+    for k, rs in sorted(by_item.items()):
+        t = threshold(rs[0].concept)
+        facets = [f for f, _ in rs[0].facet_scores]
+        needs = rs[0].needs
+        score = _gain(rs, t, needs)
+        for _ in range(steps):
+            cands = [(_gain(rs, t, n), -len(n), n) for n in _neighbours(needs, facets)]
+            if not cands:
+                break
+            g, _, best = max(cands, key=lambda c: (c[0], c[1]))
+            if g < score + margin:
+                break
+            needs, score = best, g
+        out[k] = needs
+    return out
+
+
+def cross_validate_needs(rows: Sequence[ItemScores], margin: float = MARGIN) -> list[tuple[ItemScores, str]]:
+    """Each row with the status given by needs fitted on every other document (leave one document out)."""
+    from ..verdicts.fitted import threshold
+
+    documents = sorted({r.document for r in rows})
+    out: list[tuple[ItemScores, str]] = []
+    for d in documents:
+        fitted = fit_needs((r for r in rows if r.document != d), margin)
+        out += [(r, r.status_at(threshold(r.concept), fitted.get((r.checklist, r.item_id), r.needs)))
+                for r in rows if r.document == d]
     return out
