@@ -5,7 +5,7 @@ import pytest
 
 from checker.core.errors import ChecklistError
 from checker.verdicts.fitted import parse_thresholds, threshold
-from checker.many.fitting import ItemScores, cross_validate, fit, scores_of
+from checker.many.fitting import ItemScores, cross_validate, cross_validate_needs, fit, fit_needs, scores_of
 from checker.matching.matcher import FOUND_AT
 
 from .conftest import DEMO  # noqa: F401  (fixtures/demo)
@@ -56,3 +56,25 @@ def test_fitted_file_values_are_checked():
 
 def test_an_item_without_a_concept_keeps_the_default():
     assert threshold("") == FOUND_AT
+
+
+def _two(doc, human, a, b):
+    # an item with facets a and b whose written needs are "a and b together"
+    return ItemScores(doc, "data.source", "data.source", human, (("a", a), ("b", b)), (("a", "b"),), False,
+                      checklist="validation-study")
+
+
+def test_needs_fit_accepts_a_facet_alone_when_readers_call_it_reported():
+    # readers call the item reported in six documents that show facet b alone: b alone should be enough
+    rows = [_two(f"d{i}", "reported", 0.0, 1.0) for i in range(6)]
+    fitted = fit_needs(rows)[("validation-study", "data.source")]
+    assert ("b",) in fitted
+    assert all(status == "reported" for _, status in cross_validate_needs(rows))
+    # with one such document the written needs stay
+    assert fit_needs(rows[:1])[("validation-study", "data.source")] == (("a", "b"),)
+
+
+def test_needs_fit_keeps_written_needs_when_labels_agree_with_them():
+    rows = ([_two(f"p{i}", "partial", 0.0, 1.0) for i in range(4)]
+            + [_two(f"r{i}", "reported", 1.0, 1.0) for i in range(4)])
+    assert fit_needs(rows)[("validation-study", "data.source")] == (("a", "b"),)
