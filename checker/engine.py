@@ -57,7 +57,7 @@ def _choice_matcher(cid: str):
         return None
     matchers = []
     if cues.phrases:
-        texts = sorted({v for p in cues.phrases for v in spelling_variants(p)})
+        texts = sorted({v for p in cues.phrases for v in spelling_variants(p.lstrip("="))})
         m = PhraseMatcher(nlp.vocab, attr="LEMMA")
         m.add("choose", list(nlp.pipe(texts)))
         matchers.append(m)

@@ -28,6 +28,12 @@ from checker.engine import check_text
     ("Chronic kidney disease affects over 800 million people worldwide.", "introduction", BACKGROUND),
     ("Such systems could reduce inter-observer variability in routine reading.", "discussion", BACKGROUND),
     ("The proposed detector is intended as a second reader in emergency care.", "introduction", THIS_STUDY),
+    # theses and student reports speak in the first person singular
+    ("The data set that I used for this project comes from the public archive of a hospital [4].", "introduction",
+     THIS_STUDY),
+    ("In my experiments each scan was read once.", "discussion", THIS_STUDY),
+    ("Table I lists the results of earlier methods [3].", "introduction", OTHER_WORK),
+    ("Type I errors were reported by Okafor et al.", "methods", OTHER_WORK),
 ])
 def test_attribution_of_typical_sentences(text, role, kind):
     assert attribute(text, role).kind == kind

@@ -81,3 +81,34 @@ def test_concept_mistakes_are_located(item_yaml, message):
 def test_a_bad_vocabulary_name_is_located():
     with pytest.raises(ChecklistError, match=r"lib.yaml:4:\d+: vocabulary -> pets: a word list's name"):
         parse_concepts(LIB.replace("PET:", "pets:"), "lib.yaml")
+
+
+def _facet(report, item_id, facet_id):
+    item = next(i for i in report.items if i.id == item_id)
+    return next(f for f in item.facets if f.id == facet_id)
+
+
+def test_a_phrase_marked_exact_is_not_matched_by_its_lemma():
+    # "=mean" in the library: the statistic, not the verb ("this means") nor "meaning"
+    loose = check_text("Methods\n\nThis simply means that the accuracy of the model fluctuates between runs.")
+    assert not _facet(loose, "metrics.aggregation", "statistic").found
+    plain = check_text("Methods\n\nWe report the mean accuracy over all test cases.")
+    assert _facet(plain, "metrics.aggregation", "statistic").found
+
+
+def test_a_lone_equals_sign_is_not_a_phrase():
+    bad = (LIB.replace("phrases: [pets]", "phrases: ['=']"))
+    with pytest.raises(ChecklistError, match="marks a phrase matched as written"):
+        parse_concepts(bad, "lib.yaml")
+
+
+def test_an_item_applies_only_when_text_that_counts_mentions_it():
+    # a dataset description that mentions ranking only in a sentence about other work ranks nothing itself
+    text = ("Data\n\nThe collection holds 240 scans from two hospitals, each labelled by one technician.\n\n"
+            "Related work\n\nOkafor et al. ranked twelve methods on an earlier collection [4].")
+    report = check_text(text, "dataset-description")
+    assert next(i for i in report.items if i.id == "ranking.method").status == "not-applicable"
+    text = text.replace("Okafor et al. ranked twelve methods on an earlier collection [4].",
+                        "We ranked three baseline methods by their mean Dice on the test split.")
+    report = check_text(text, "dataset-description")
+    assert next(i for i in report.items if i.id == "ranking.method").status != "not-applicable"

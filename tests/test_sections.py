@@ -186,3 +186,16 @@ def test_contents_lines_are_front_matter_wherever_they_stand():
                                (P, "The dataset holds forty scans. See the table below .... for details.", None)))
     assert out[1].role == "front-matter"
     assert out[2].role == "introduction"
+
+
+def test_a_heading_that_is_a_whole_sentence_is_read_as_a_paragraph():
+    # web pages set sentences in heading style for emphasis; such a "heading" states something
+    loc = Location("page.md", line=1)
+    blocks = [Block("Stone detection challenge", "heading", loc, level=1),
+              Block("Evaluation and ranking", "heading", loc, level=2),
+              Block("Only teams with results for every test case will appear in the final ranking, and ties "
+                    "share a place.", "heading", loc, level=5),
+              Block("Metrics", "heading", loc, level=3)]
+    out = assign_sections(blocks)
+    assert [b.kind for b in out] == ["heading", "heading", "paragraph", "heading"]
+    assert out[2].role == "evaluation"

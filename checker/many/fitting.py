@@ -12,7 +12,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 from typing import Iterable, Sequence
 
-from ..matching.matcher import APPLIES, FOUND_AT, key
+from ..matching.matcher import FOUND_AT
 
 #: thresholds tried: between the weights a sentence can carry (1.0 methods, 0.9 results, 0.6 framing sections with
 #: "we", 0.5 a general statement in methods, 0.4 a plan, 0.36 a heading, 0.3 background in an introduction)
@@ -48,7 +48,7 @@ def scores_of(document: str, checklist: str, labels: dict[str, str], limits=None
     from ..core.limits import DEFAULT_LIMITS
     from ..matching.nlp import parse_blocks
     from ..reading import read_document
-    from ..verdicts.decide import facet_hits
+    from ..verdicts.decide import applies, facet_hits
 
     limits = limits or DEFAULT_LIMITS
     doc = read_document(document, limits)
@@ -64,7 +64,7 @@ def scores_of(document: str, checklist: str, labels: dict[str, str], limits=None
             document=document, item_id=item.id, concept=item.concept or item.id, checklist=compiled.checklist.id,
             human=labels[item.id],
             facet_scores=tuple((fh.facet.id, round(fh.score, 6)) for fh in per), needs=item.needs,
-            inapplicable_when_empty=item.applies_when is not None and not scan.hits.get(key(ii, -1, APPLIES)),
+            inapplicable_when_empty=not applies(scan, ii, item),
         ))
     return out
 

@@ -355,6 +355,9 @@ _CUE_KEYS = {"phrases", "patterns", "regex"}
 
 def _cues(p: _Problems, fields: dict[str, _Node], path: str) -> Cues:
     phrases = _texts(p, fields.get("phrases"), _join(path, "phrases"))
+    for ph in phrases:
+        if ph.startswith("=") and not ph[1:].strip():
+            p.add(fields["phrases"], _join(path, "phrases"), "'=' marks a phrase matched as written; a phrase must follow it")
     patterns = []
     if "patterns" in fields:
         pnode = fields["patterns"]

@@ -93,6 +93,10 @@ def key(item: int, facet: int, part: str) -> str:
     return f"{item}:{facet}:{part}"
 
 
+#: a phrase written "=word" is matched only as written (lower case), not by its lemma
+EXACT = "="
+
+
 def spelling_variants(phrase: str) -> list[str]:
     """Spelling variants authors mix: hyphen or not, British or American endings."""
     out = {phrase}
@@ -139,9 +143,13 @@ class CompiledChecklist:
                 self._add(key(ii, -1, APPLIES), item.applies_when.cues, phrase_docs)
         self._add("choose", checklist.choose_when, phrase_docs)
         for k, phrases in phrase_docs.items():
-            texts = sorted({v for p in phrases for v in spelling_variants(p)})
-            self.lemma_matcher.add(k, list(self.nlp.pipe(texts)))
-            self.lower_matcher.add(k, [self.nlp.make_doc(t) for t in texts])
+            # "=mean": matched as written, never by its lemma (else "mean" would match "meaning" and "by means of")
+            exact = sorted({v for p in phrases if p.startswith(EXACT) for v in spelling_variants(p[1:])})
+            texts = sorted({v for p in phrases if not p.startswith(EXACT) for v in spelling_variants(p)})
+            if texts:
+                self.lemma_matcher.add(k, list(self.nlp.pipe(texts)))
+            if texts or exact:
+                self.lower_matcher.add(k, [self.nlp.make_doc(t) for t in texts + exact])
         # a regex can only match where its literal words occur: sentences without them are skipped
         self._prefilter = [required_words(src) for _, src in self._regexes]
         self._matchers = [m for m in (self.lemma_matcher, self.lower_matcher, self.token_matcher) if len(m)]

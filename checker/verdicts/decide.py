@@ -120,6 +120,18 @@ def evaluate_item(compiled: CompiledChecklist, scan: Scan, ii: int, item: Item, 
     )
 
 
+#: how much a sentence must count for its `applies_when` cue to make an item apply: a reference list, front
+#: matter and text about other work (weight 0) do not make a document do what they mention
+APPLIES_AT = 0.2
+
+
+def applies(scan: Scan, ii: int, item: Item) -> bool:
+    """Whether an item applies: it has no `applies_when`, or one of those cues occurs in text that counts."""
+    if item.applies_when is None:
+        return True
+    return any(scan.weight(h.sentence) >= APPLIES_AT for h in scan.hits.get(key(ii, -1, APPLIES), ()))
+
+
 def decide(found: set[str], needs: tuple[tuple[str, ...], ...], inapplicable: bool) -> str:
     """The status from the facets found: reported when every facet of one `needs` set is found, partial when
     some facet is, else not-applicable (the item's `applies_when` found nothing) or missing. The one rule that
@@ -132,7 +144,7 @@ def decide(found: set[str], needs: tuple[tuple[str, ...], ...], inapplicable: bo
 def _status(compiled, scan, ii, item, per_facet, found, waivers) -> tuple[str, str]:
     if item.id in waivers:
         return "waived", f"waived in the configuration: {waivers[item.id]}"
-    inapplicable = item.applies_when is not None and not scan.hits.get(key(ii, -1, APPLIES))
+    inapplicable = not applies(scan, ii, item)
     status = decide(found, item.needs, inapplicable)
     if status == "not-applicable":
         return status, f"not applicable: {item.applies_when.reason}"
