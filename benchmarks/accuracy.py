@@ -53,7 +53,7 @@ def main(argv: list[str] | None = None) -> int:
 
     from checker.many.evaluation import evaluate, load_labels, to_json
     from checker.core.output import write_atomic
-    from checker.reports.evaluation import render_evaluation
+    from checker.reports import RenderOptions, render
 
     labels = load_labels(labels_dir)
     start = time.perf_counter()
@@ -61,7 +61,7 @@ def main(argv: list[str] | None = None) -> int:
     seconds = time.perf_counter() - start
 
     if args.disagreements:
-        print(render_evaluation(ev, "terminal", color=False, width=110))
+        print(render("terminal", ev, RenderOptions(color=False, width=110)))
 
     print(f"accuracy on {labels_dir}: {ev.compared_documents} documents compared, {ev.pairs} item pairs, "
           f"{len(ev.errors)} could not be checked ({seconds:.1f} s, {args.jobs} jobs)")

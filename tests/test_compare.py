@@ -9,7 +9,8 @@ from pathlib import Path
 import pytest
 
 from checker.cli import compare as compare_cmd
-from checker.many.compare import align, change_kind, compare_documents, render
+from checker.many.compare import align, change_kind, compare_documents
+from checker.reports import render
 
 DEMO = Path(__file__).resolve().parent.parent / "fixtures" / "demo"
 ANNOTATION = "Two radiologists independently annotated"
@@ -83,12 +84,12 @@ def test_passages_aligned_by_wording():
 
 
 def test_formats_and_command(versions, comparison, tmp_path):
-    data = json.loads(render(comparison, "json"))
+    data = json.loads(render("json", comparison))
     assert data["summary"]["newly-reported"] >= 2 and data["checklist"]["id"] == "validation-study"
-    assert render(comparison, "json") == render(comparison, "json")
-    md = render(comparison, "markdown")
+    assert render("json", comparison) == render("json", comparison)
+    md = render("markdown", comparison)
     assert md.startswith("# What changed") and "**reference.annotators**" in md and "> " in md
-    term = render(comparison, "terminal")
+    term = render("terminal", comparison)
     assert "newly reported" in term and "still missing" in term and "to ask:" in term
 
     parser = argparse.ArgumentParser(prog="studygap")

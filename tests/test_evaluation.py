@@ -284,9 +284,9 @@ def test_parallel_jobs_give_the_same_result(labelled):
 
 
 def test_terminal_rendering_shows_tables_disagreements_and_cautions(evaluation):
-    from checker.reports.evaluation import render_evaluation
+    from checker.reports import RenderOptions, render
 
-    raw = render_evaluation(evaluation, "terminal", color=False, width=110)
+    raw = render("terminal", evaluation, RenderOptions(color=False, width=110))
     assert "\x1b[" not in raw  # plain text when not a terminal
     assert not any(line.endswith(" ") for line in raw.splitlines())
     out = " ".join(raw.split())  # long lines wrap
@@ -296,7 +296,7 @@ def test_terminal_rendering_shows_tables_disagreements_and_cautions(evaluation):
     assert "Quillmoor" in out and "one resident, so the count is implied" in out
     assert "04-delta.yaml" in out
     assert "triage aid" in out and "counts as missing" in out
-    coloured = render_evaluation(evaluation, "terminal", color=True, width=110)
+    coloured = render("terminal", evaluation, RenderOptions(color=True, width=110))
     assert "\x1b[" in coloured
 
 

@@ -14,7 +14,9 @@ import pytest
 
 from checker.cli import audit as audit_cmd
 from checker.cli import screen as screen_cmd
-from checker.many.audit import build_audit, load_meta, plot
+from checker.many.audit import build_audit, load_meta
+from checker.reports import render
+from checker.reports.audit import plot
 from checker.many.batch import run_batch
 from checker.many.screen import build_screen, completeness
 
@@ -173,10 +175,10 @@ def test_audit_command_writes_table_and_plot(corpus, tmp_path, capsys):
 def test_audit_csv_reads_as_one_row_per_rate_with_csv_and_pandas(corpus_results):
     # external reader: pandas.read_csv with its defaults, beside the standard csv module
     pd = pytest.importorskip("pandas", reason="pandas is not installed (it comes with statsmodels, a test extra)")
-    from checker.many.audit import COLUMNS, render
+    from checker.reports.audit import COLUMNS
 
     audit = build_audit(corpus_results[:10], "validation-study, named by the user")
-    text = render(audit, "csv")
+    text = render("csv", audit)
     rows = list(csv.reader(io.StringIO(text)))
     assert rows[0] == list(COLUMNS) and len(rows) == 1 + len(audit.rows)
     assert all(len(r) == len(COLUMNS) for r in rows)
@@ -213,8 +215,6 @@ def mixed_results(corpus_results, tmp_path_factory):
 
 
 def test_audit_of_a_mixed_corpus_gives_rates_per_checklist(mixed_results, corpus_results):
-    from checker.many.audit import render
-
     audit = build_audit(mixed_results)
     assert [(c[0], c[3]) for c in audit.checklists] == [("validation-study", 24), ("benchmark-proposal", 8)]
     manuscripts = {r.item: r for r in audit.rows if r.checklist == "validation-study"}
@@ -226,9 +226,9 @@ def test_audit_of_a_mixed_corpus_gives_rates_per_checklist(mixed_results, corpus
         assert (r.reported, r.partial, r.applicable) == (alone[item].reported, alone[item].partial,
                                                          alone[item].applicable)
     assert all(r.applicable <= 8 for r in proposals.values())
-    term = render(audit, "terminal")
+    term = render("terminal", audit)
     assert "validation-study 1.0 (24 documents)" in term and "(8 documents)" in term
-    data = json.loads(render(audit, "json"))
+    data = json.loads(render("json", audit))
     assert {r["checklist"] for r in data["rates"]} == {"validation-study", "benchmark-proposal"}
 
 
@@ -238,7 +238,7 @@ def test_audit_plot_draws_for_every_corpus_size_from_1_to_60(mixed_results, tmp_
     pytest.importorskip("matplotlib", reason="matplotlib is not installed (pip install 'studygap[plot]')")
     import matplotlib.pyplot as plt
 
-    from checker.many.audit import figure
+    from checker.reports.audit import figure
     from checker.many.batch import BatchResult
 
     edges = 0
@@ -262,7 +262,7 @@ def test_audit_plot_labels_lie_inside_the_figure_and_show_n(mixed_results):
     import matplotlib.pyplot as plt
     from matplotlib.text import Text
 
-    from checker.many.audit import figure
+    from checker.reports.audit import figure
 
     audit = build_audit(mixed_results)
     fig = figure(audit)
@@ -290,7 +290,7 @@ def test_audit_names_unread_and_skipped_files_and_keeps_the_table_when_the_plot_
     (folder / "notes.odt").write_bytes(b"PK\x03\x04 not read")
     out, chart = tmp_path / "rates.json", tmp_path / "rates.png"
 
-    import checker.many.audit as audit_mod
+    import checker.reports.audit as audit_mod
 
     def broken(*_a, **_k):
         raise ValueError("'xerr' must not contain negative values")
@@ -362,19 +362,17 @@ def test_screen_matrix_scores_and_error_row(demo_inputs, tmp_path, capsys):
 def test_screen_csv_html_terminal_carry_notes(demo_inputs, tmp_path, capsys):
     results = run_batch(sorted(str(p) for p in demo_inputs.iterdir()), "validation-study", jobs=1)
     screen = build_screen(results, "validation-study, named by the user", seconds=1.5)
-    from checker.many.screen import render
-
-    text = render(screen, "csv")
+    text = render("csv", screen)
     rows = list(csv.reader(io.StringIO(text)))
     header = rows[0]
     assert header[:4] == ["path", "checklist", "error", "completeness"]
     assert "reference.annotators" in header and "fact: annotators" in header
     assert rows[3][2].startswith(str(demo_inputs / "c-saved-page.pdf"))
-    page = render(screen, "html")
+    page = render("html", screen)
     assert "b-&lt;b&gt;&amp;proposal.md" in page and "<b>&proposal" not in page
     assert page.count("<script>") == 1 and 'id="docfilter"' in page and "half of partial" in page
     assert "triage aid" in page
-    term = render(screen, "terminal")
+    term = render("terminal", screen)
     assert "half of partial" in term and "triage aid" in term and "1.5 s" in term
     assert "venue's own reporting requirements govern" in term
 

@@ -16,7 +16,8 @@ from pathlib import Path
 import pytest
 
 from checker.many.batch import run_batch
-from checker.many.screen import build_screen, render, short_names, sidecar
+from checker.many.screen import build_screen, short_names, sidecar
+from checker.reports import render
 
 DEMO = Path(__file__).resolve().parent.parent / "fixtures" / "demo"
 CHROMIUM = next((shutil.which(n) for n in ("chromium", "chromium-browser") if shutil.which(n)), None)
@@ -54,7 +55,7 @@ def screen(tmp_path_factory):
 def test_csv_has_one_header_row_and_one_row_per_document(screen):
     # external reader: pandas.read_csv with its defaults, beside the standard csv module
     pd = pytest.importorskip("pandas", reason="pandas is not installed (it comes with statsmodels, a test extra)")
-    text = render(screen, "csv")
+    text = render("csv", screen)
     rows = list(csv.reader(io.StringIO(text)))
     assert len(rows) == 1 + len(screen.rows) == 10
     assert len({len(r) for r in rows}) == 1
@@ -102,7 +103,7 @@ def test_short_names_tell_files_apart():
 
 
 def test_page_names_items_shows_groups_and_opens_every_cell(screen):
-    page = render(screen, "html")
+    page = render("html", screen)
     manuscripts = screen.checklists[0]
     # item titles in the headings, ids on hover
     title, iid = manuscripts.items[0][1], manuscripts.items[0][0]
@@ -155,7 +156,7 @@ def _chromium(args: list[str], tmp_path: Path) -> subprocess.CompletedProcess:
 
 @pytest.mark.skipif(CHROMIUM is None, reason="chromium is not installed (apt-get install chromium)")
 def test_page_filters_run_and_the_matrix_fits_1400_px_in_a_real_browser(screen, tmp_path):
-    page = render(screen, "html")
+    page = render("html", screen)
     # start with one group unticked: the page's own script must hide exactly that group's columns
     group = re.search(r'data-group="(0-[^"]+)"', page).group(1)
     page = page.replace(f'checked data-group="{group}"', f'data-group="{group}"', 1)
@@ -168,7 +169,7 @@ def test_page_filters_run_and_the_matrix_fits_1400_px_in_a_real_browser(screen, 
     assert cells and any(g == group for g, _ in cells)
     assert all(h == (g == group) for g, h in cells)
     # width: measured by a copy of the page with one more script (and no script policy), in a 1,400 px window
-    probe = render(screen, "html")
+    probe = render("html", screen)
     probe = re.sub(r'<meta http-equiv="Content-Security-Policy"[^>]*>', "", probe)
     probe = probe.replace("</body>", "<script>document.body.setAttribute('data-width',"
                                      "Math.max.apply(null,[].map.call(document.querySelectorAll('table.matrix'),"
@@ -184,7 +185,7 @@ def test_page_prints_on_a4_landscape(screen, tmp_path):
     from pypdf import PdfReader
 
     target = tmp_path / "screen.html"
-    target.write_text(render(screen, "html"), encoding="utf-8")
+    target.write_text(render("html", screen), encoding="utf-8")
     pdf = tmp_path / "screen.pdf"
     _chromium(["--no-pdf-header-footer", f"--print-to-pdf={pdf}", target.as_uri()], tmp_path)
     reader = PdfReader(pdf)
@@ -214,7 +215,7 @@ def test_screen_docx_is_one_landscape_table_per_checklist(screen, monkeypatch):
     import docx
 
     monkeypatch.setenv("SOURCE_DATE_EPOCH", "1767225600")
-    data = render(screen, "docx")
+    data = render("docx", screen)
     doc = docx.Document(io.BytesIO(data))
     sec = doc.sections[0]
     assert sec.page_width > sec.page_height
@@ -226,7 +227,7 @@ def test_screen_docx_is_one_landscape_table_per_checklist(screen, monkeypatch):
     assert texts[0] == "Item" and "a/revised.md" in texts
     body = "\n".join(c.text for row in table.rows for c in row.cells)
     assert "● reported" in body and "○ missing" in body and "Intended use" in body
-    assert data == render(screen, "docx")  # same inputs, same bytes
+    assert data == render("docx", screen)  # same inputs, same bytes
 
 
 @pytest.mark.skipif(SOFFICE is None, reason="LibreOffice is not installed (apt-get install libreoffice-writer-nogui)")
@@ -235,7 +236,7 @@ def test_screen_docx_opens_in_libreoffice_landscape(screen, tmp_path, monkeypatc
 
     monkeypatch.setenv("SOURCE_DATE_EPOCH", "1767225600")
     path = tmp_path / "screening.docx"
-    path.write_bytes(render(screen, "docx"))
+    path.write_bytes(render("docx", screen))
     reader = PdfReader(_docx_to_pdf(path, tmp_path))
     box = reader.pages[0].mediabox
     assert float(box.width) > float(box.height)
@@ -279,7 +280,7 @@ def test_hostile_text_in_a_cell_does_not_run_in_a_real_browser(tmp_path):
                    encoding="utf-8")
     screen = build_screen(run_batch([str(doc)], "validation-study", jobs=1), "validation-study, named by the user")
     assert any("<script>" in text for row in screen.rows for c in row.cells for text, _ in c.quotes)
-    page = render(screen, "html")
+    page = render("html", screen)
     assert page.count("<script>") == 1 and "<img" not in page
     target = tmp_path / "screen.html"
     target.write_text(page, encoding="utf-8")

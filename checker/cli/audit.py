@@ -7,6 +7,7 @@ import sys
 from pathlib import Path
 
 from ..core.errors import ExitCode, StudygapError, UsageError
+from ..reports import names
 
 DESCRIPTION = """How often each checklist item is reported across a corpus, with Wilson score 95% intervals.
 
@@ -38,7 +39,7 @@ def add_parser(subparsers) -> argparse.ArgumentParser:
     add_batch_options(p)
     p.add_argument("--meta", metavar="FILE.csv", default=None, help="metadata per document (path, then fields)")
     p.add_argument("--by", metavar="FIELD", default=None, help="rates per value of this metadata field")
-    p.add_argument("--format", "-f", choices=["terminal", "csv", "json", "html"], default="terminal",
+    p.add_argument("--format", "-f", choices=names("audit"), default="terminal",
                    help="output format (default terminal)")
     p.add_argument("--plot", metavar="PATH.png|PATH.svg", default=None,
                    help="also draw the rates with their intervals as a bar chart")
@@ -52,9 +53,12 @@ def run(args) -> int:
     The table (or JSON) is written before the plot is drawn, so a plot that cannot be drawn never costs the
     numbers: that failure is one line on stderr and exit code 2, with the table already in place.
     """
-    from ..many.audit import PlotError, build_audit, load_meta, plot, render, sidecar
+    from ..many.audit import build_audit, load_meta, sidecar
+    from ..reports import render
+    from ..reports.audit import PlotError, plot
     from ..core.output import write_atomic
-    from .screen import run_inputs, write_csv, write_output
+    from .options import write_csv, write_output
+    from .screen import run_inputs
 
     try:
         meta = None
@@ -73,9 +77,9 @@ def run(args) -> int:
             print(f"studygap: no metadata row: {path} (counted under \"(no metadata)\")", file=sys.stderr)
         inputs = paths + ([args.meta] if args.meta else [])
         if args.format == "csv":
-            write_csv(render(audit, "csv"), sidecar(audit), args.output, inputs)
+            write_csv(render("csv", audit), sidecar(audit), args.output, inputs)
         else:
-            write_output(render(audit, args.format), args.output, inputs)
+            write_output(render(args.format, audit), args.output, inputs)
     except StudygapError as exc:
         print(exc.line(), file=sys.stderr)
         return int(ExitCode.ERROR)

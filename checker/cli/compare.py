@@ -6,6 +6,7 @@ import argparse
 import sys
 
 from ..core.errors import ExitCode, StudygapError
+from ..reports import names
 
 DESCRIPTION = """What a revision fixed and what it lost: per checklist item, the status in OLD and in NEW (newly
 reported, lost, still missing, partial now reported...), and where its passages went (kept, moved, reworded,
@@ -26,7 +27,7 @@ def add_parser(subparsers) -> argparse.ArgumentParser:
     p.add_argument("new", metavar="NEW", help="the revised version")
     p.add_argument("--checklist", metavar="ID|PATH", default=None,
                    help="checklist for both versions (default: the one chosen for OLD)")
-    p.add_argument("--format", "-f", choices=["terminal", "markdown", "json"], default="terminal",
+    p.add_argument("--format", "-f", choices=names("compare"), default="terminal",
                    help="output format (default terminal)")
     p.add_argument("-o", "--output", metavar="PATH", help="write the result to this file (atomically)")
     p.add_argument("--fail-on", choices=["lost", "missing"], default=None,
@@ -38,8 +39,9 @@ def add_parser(subparsers) -> argparse.ArgumentParser:
 
 def run(args) -> int:
     """Run `studygap compare`; returns the exit code."""
-    from ..many.compare import compare_documents, render
-    from .screen import write_output
+    from ..many.compare import compare_documents
+    from ..reports import render
+    from .options import write_output
 
     try:
         if args.checklist:
@@ -47,7 +49,7 @@ def run(args) -> int:
 
             load_checklist(args.checklist)
         comp = compare_documents(args.old, args.new, args.checklist)
-        write_output(render(comp, args.format), args.output, [args.old, args.new])
+        write_output(render(args.format, comp), args.output, [args.old, args.new])
     except StudygapError as exc:
         print(exc.line(), file=sys.stderr)
         return int(ExitCode.ERROR)

@@ -3,11 +3,12 @@
 from __future__ import annotations
 
 import argparse
-import os
 import sys
 
 from ..core.errors import ExitCode, StudygapError, UsageError
 from ..core.progress import progress_bar
+from ..reports import names
+from .options import color, write_output
 
 DESCRIPTION = """Compare studygap with your own labels, so that you can see how far to trust it on documents like yours.
 
@@ -43,7 +44,7 @@ def add_parser(subparsers) -> argparse.ArgumentParser:
                    help="folder of the documents (default: paths are relative to the folder above LABELS_DIR)")
     p.add_argument("--checklist", metavar="ID|PATH", default=None,
                    help="use this checklist for every document instead of the one each label file names")
-    p.add_argument("--format", "-f", choices=["terminal", "json"], default="terminal",
+    p.add_argument("--format", "-f", choices=names("evaluation"), default="terminal",
                    help="output format (default terminal)")
     p.add_argument("-o", "--output", metavar="PATH", help="write the result to this file (atomically)")
     p.add_argument("--seed", type=int, default=0, metavar="N",
@@ -55,12 +56,6 @@ def add_parser(subparsers) -> argparse.ArgumentParser:
     p.add_argument("--no-color", action="store_true", help="no colour (NO_COLOR is respected too)")
     p.set_defaults(handler=run)
     return p
-
-
-def _color(args) -> bool:
-    if getattr(args, "no_color", False) or os.environ.get("NO_COLOR"):
-        return False
-    return sys.stdout.isatty() and not getattr(args, "output", None)
 
 
 def _evaluate(args):
@@ -82,22 +77,14 @@ def _evaluate(args):
 
 def run(args) -> int:
     """Run `studygap evaluate`; returns the exit code."""
-    from ..reports.evaluation import render_evaluation
+    from ..reports import RenderOptions, render
 
     try:
         ev, labels = _evaluate(args)
         for d in ev.errors:
             print(f"studygap: error: {d.error}", file=sys.stderr)
-        out = render_evaluation(ev, args.format, color=_color(args))
-        if args.output and args.output != "-":
-            from pathlib import Path
-
-            from ..core.output import write_atomic
-
-            write_atomic(Path(args.output), out, [lf.document for lf in labels] + [lf.path for lf in labels])
-        else:
-            sys.stdout.write(out)
-            sys.stdout.flush()
+        out = render(args.format, ev, RenderOptions(color=color(args)))
+        write_output(out, args.output, [lf.document for lf in labels] + [lf.path for lf in labels])
     except StudygapError as exc:
         print(exc.line(), file=sys.stderr)
         return int(ExitCode.ERROR)

@@ -2,11 +2,19 @@
 
 from __future__ import annotations
 
+import argparse
 from dataclasses import dataclass, field
 from typing import Any
 
 from ..reading.document import Document, Location
+from ..core.errors import ExitCode
 from ..core.limits import DEFAULT_LIMITS, Limits
+from .options import add_limit_options, color, limits_from, write_output
+
+
+DESCRIPTION = """What the reader saw in one document: its format, pages and words, the section tree with the
+role of each section (methods, results, references...) and its page or line range, and any warnings. Use it to
+see why an item was or was not found in a section."""
 
 
 @dataclass
@@ -143,3 +151,25 @@ def render_outline(data: dict[str, Any], fmt: str = "terminal", color: bool = Fa
     for w in data["warnings"]:
         lines.append(f"warning: {w}")
     return "\n".join(lines) + "\n"
+
+
+def add_parser(sub) -> argparse.ArgumentParser:
+    """Add `outline` to the command line's subparsers."""
+    o = sub.add_parser("outline", help="what the reader saw: sections, pages, lines, word counts",
+                       description=DESCRIPTION,
+                       epilog="exit codes: 0 done, 2 usage or input error.",
+                       formatter_class=argparse.RawDescriptionHelpFormatter)
+    o.add_argument("file", metavar="FILE", help="PDF, DOCX, LaTeX, Markdown, HTML or text file")
+    o.add_argument("--format", "-f", default="terminal", choices=["terminal", "json"],
+                   help="output format (default terminal)")
+    o.add_argument("-o", "--output", metavar="PATH", help="write the outline to this file (atomically)")
+    add_limit_options(o)
+    o.set_defaults(handler=run)
+    return o
+
+
+def run(args) -> int:
+    """Run `studygap outline`; returns the exit code."""
+    data = outline(args.file, limits_from(args))
+    write_output(render_outline(data, args.format, color=color(args)), args.output, [args.file])
+    return ExitCode.OK

@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 import argparse
-import json
 import os
 import sys
 import time
@@ -11,6 +10,8 @@ from pathlib import Path
 
 from ..core.errors import ExitCode, StudygapError, UsageError
 from ..core.progress import progress_bar
+from ..reports import names
+from .options import add_limit_options, limits_from, write_csv, write_output
 
 DESCRIPTION = """Check many documents against one checklist and show them side by side: a matrix of documents and
 items, a completeness score per document, and the facts found (annotators, test cases, bootstrap samples...).
@@ -46,9 +47,7 @@ def add_batch_options(p: argparse.ArgumentParser) -> None:
     p.add_argument("--no-cache", action="store_true",
                    help="check every file afresh instead of reusing the report of an unchanged file from an "
                         "earlier run")
-    from .main import _limits_options
-
-    _limits_options(p)
+    add_limit_options(p)
 
 
 def add_parser(subparsers) -> argparse.ArgumentParser:
@@ -57,7 +56,7 @@ def add_parser(subparsers) -> argparse.ArgumentParser:
                               description=DESCRIPTION, epilog=EPILOG,
                               formatter_class=argparse.RawDescriptionHelpFormatter)
     add_batch_options(p)
-    p.add_argument("--format", "-f", choices=["terminal", "csv", "html", "json", "docx"], default="terminal",
+    p.add_argument("--format", "-f", choices=names("screen"), default="terminal",
                    help="output format (default terminal); csv writes its notes to NAME.meta.json beside -o NAME.csv; "
                         "docx is a landscape table for a meeting and needs -o")
     p.set_defaults(handler=run)
@@ -151,9 +150,7 @@ def run_inputs(args, limits=None, skipped: list[tuple[str, str]] | None = None):
     Files of the given folders that are not checked are added to ``skipped`` and named on stderr.
     """
     from ..many.batch import run_batch
-    from .main import _limits
-
-    limits = limits or _limits(args)
+    limits = limits or limits_from(args)
     if args.jobs is not None and args.jobs < 1:
         raise UsageError("--jobs must be 1 or more")
     if args.engine == "dask" and not args.scheduler:
@@ -174,34 +171,10 @@ def run_inputs(args, limits=None, skipped: list[tuple[str, str]] | None = None):
     return results, note, time.monotonic() - started, paths
 
 
-def sidecar_path(output: str) -> Path:
-    """Where a CSV's notes go: rates.csv -> rates.meta.json beside it."""
-    p = Path(output)
-    return p.with_name(p.stem + ".meta.json") if p.suffix else p.with_name(p.name + ".meta.json")
-
-
-def write_csv(text: str, meta: dict, output: str | None, inputs: list[str]) -> None:
-    """A CSV table, and beside a named file its notes as JSON (a CSV holds one header row and the rows only)."""
-    write_output(text, output, inputs)
-    if output and output != "-" and (Path(output).is_file() or not Path(output).exists()):
-        from ..core.output import write_atomic
-
-        write_atomic(sidecar_path(output), json.dumps(meta, ensure_ascii=False, indent=2) + "\n", inputs)
-
-
-def write_output(text: str, output: str | None, inputs: list[str]) -> None:
-    if output and output != "-":
-        from ..core.output import write_atomic
-
-        write_atomic(Path(output), text, inputs)
-    else:
-        sys.stdout.write(text)
-        sys.stdout.flush()
-
-
 def run(args) -> int:
     """Run `studygap screen`; returns the exit code."""
-    from ..many.screen import build_screen, render, sidecar
+    from ..many.screen import build_screen, sidecar
+    from ..reports import render
 
     try:
         if getattr(args, "output", None) and os.path.isdir(args.output):
@@ -212,13 +185,9 @@ def run(args) -> int:
         results, note, seconds, paths = run_inputs(args, skipped=skipped)
         screen = build_screen(results, note, seconds, skipped)
         if args.format == "csv":
-            write_csv(render(screen, "csv"), sidecar(screen), args.output, paths)
-        elif args.format == "docx":
-            from ..core.output import write_atomic
-
-            write_atomic(Path(args.output), render(screen, "docx"), paths)
+            write_csv(render("csv", screen), sidecar(screen), args.output, paths)
         else:
-            write_output(render(screen, args.format), args.output, paths)
+            write_output(render(args.format, screen), args.output, paths)
     except StudygapError as exc:
         print(exc.line(), file=sys.stderr)
         return int(ExitCode.ERROR)

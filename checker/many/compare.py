@@ -6,20 +6,14 @@ recognised as the same passage.
 
 from __future__ import annotations
 
-import io
-import json
 from dataclasses import dataclass
-from typing import Any
+from typing import Any, ClassVar
 
 from rapidfuzz import fuzz
 
 from ..verdicts.report import Evidence, ItemResult, Report
+from ..core.cautions import CAUTIONS
 
-CAUTIONS = (
-    "A change of status shows a change of wording that studygap recognises, not that the study itself improved; "
-    "a person must still read the revision.",
-    "The venue's own reporting requirements govern; this checklist does not replace them.",
-)
 #: passages at least this similar (rapidfuzz ratio, 0-100) are the same passage; below REWORDED they are different
 SAME = 90.0
 REWORDED = 70.0
@@ -76,6 +70,7 @@ class ItemChange:
 
 @dataclass(frozen=True)
 class Comparison:
+    KIND: ClassVar[str] = "compare"  # the renderers' key (checker.reports)
     old_path: str
     new_path: str
     checklist_id: str
@@ -97,7 +92,8 @@ class Comparison:
     def to_dict(self) -> dict[str, Any]:
         return {"old": self.old_path, "new": self.new_path,
                 "checklist": {"id": self.checklist_id, "choice": self.checklist_note},
-                "summary": self.counts(), "items": [it.to_dict() for it in self.items], "cautions": list(CAUTIONS)}
+                "summary": self.counts(), "items": [it.to_dict() for it in self.items],
+                "cautions": list(CAUTIONS["compare"])}
 
 
 def change_kind(old: str, new: str) -> str:
@@ -176,71 +172,3 @@ def compare_documents(old_path: str, new_path: str, checklist: str | None = None
             f"{old.checklist_id}, chosen for the old version ({old.checklist_choice}) and used for both")
     new = check_document(new_path, checklist or old.checklist_id, config, limits)
     return compare_reports(old, new, note)
-
-
-# ------------------------------------------------------------------------------------------------ renderers
-
-
-def _short(text: str, n: int = 110) -> str:
-    text = " ".join(text.split())
-    return text if len(text) <= n else text[: n - 1] + "…"
-
-
-def _passage_line(p: PassageChange) -> str:
-    if p.change == "added":
-        return f"added ({p.new.location.describe()}): {_short(p.new.text)}"
-    if p.change == "removed":
-        return f"removed ({p.old.location.describe()}): {_short(p.old.text)}"
-    if p.change == "moved":
-        return f"moved from {p.old.location.describe()} to {p.new.location.describe()}: {_short(p.new.text)}"
-    if p.change == "reworded":
-        return (f"reworded ({p.similarity:.0f}% alike), {p.old.location.describe()} -> "
-                f"{p.new.location.describe()}: {_short(p.new.text)}")
-    return f"kept ({p.new.location.describe()})"
-
-
-def _sections(comp: Comparison):
-    for kind in KINDS:
-        items = [it for it in comp.items if it.kind == kind]
-        if items:
-            yield kind, items
-
-
-def render_terminal(comp: Comparison, markdown: bool = False) -> str:
-    out = io.StringIO()
-    w = out.write
-    if markdown:
-        w(f"# What changed: `{comp.old_path}` → `{comp.new_path}`\n\nChecklist: {comp.checklist_note}\n")
-    else:
-        w(f"What changed from {comp.old_path} to {comp.new_path}\nChecklist: {comp.checklist_note}\n")
-    counts = comp.counts()
-    w(("\n" if markdown else "") + "Summary: " + ", ".join(f"{counts[k]} {KIND_TEXT[k].split(':')[0]}"
-                                                           for k in KINDS if counts[k]) + "\n")
-    for kind, items in _sections(comp):
-        w(f"\n## {KIND_TEXT[kind]} ({len(items)})\n\n" if markdown else f"\n{KIND_TEXT[kind]} ({len(items)})\n")
-        for it in items:
-            from ..reports.words import word
-
-            status = (f"{word(it.old_status)} -> {word(it.new_status)}" if it.old_status != it.new_status
-                      else word(it.new_status))
-            if markdown:
-                w(f"- **{it.id}** {it.title} ({status})\n")
-            else:
-                w(f"  {it.id:<36} {status}\n")
-            shown = [p for p in it.passages if p.change != "kept" or kind in ("lost", "worse")]
-            if kind == "unchanged":
-                shown = [p for p in it.passages if p.change in ("moved", "reworded", "removed", "added")]
-            for p in shown[:4]:
-                w(("  - " if markdown else "      ") + _passage_line(p) + "\n")
-            if kind in ("lost", "worse", "still-missing") and it.ask:
-                w(("  - " if markdown else "      ") + f"to ask: {it.ask}\n")
-    w("\n")
-    for c in CAUTIONS:
-        w(f"> {c}\n" if markdown else f"Note: {c}\n")
-    return out.getvalue()
-
-
-def render(comp: Comparison, fmt: str) -> str:
-    if fmt == "json":
-        return json.dumps(comp.to_dict(), ensure_ascii=False, indent=2, allow_nan=False) + "\n"
-    return render_terminal(comp, markdown=fmt == "markdown")

@@ -11,13 +11,14 @@ import difflib
 import math
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Any, Callable, Sequence
+from typing import Any, Callable, ClassVar, Sequence
 
 import yaml
 
 from .. import __version__
 from ..core.errors import InputError, StudygapError
 from .stats import BinaryScores, BootstrapInterval, binary_scores, bootstrap_ci, cohen_kappa, observed_agreement
+from ..core.cautions import CAUTIONS
 
 STATUSES = ("reported", "partial", "missing", "not-applicable")
 POSITIVE = frozenset({"reported", "partial"})
@@ -33,12 +34,6 @@ NOTE_NOT_APPLICABLE = ("not-applicable is its own class in the confusion table; 
                        "figures it counts as missing (nothing for a reader to find).")
 NOTE_WAIVED = "A waiver in the configuration made some items waived; they are counted as not-applicable."
 
-CAUTIONS = (
-    "These figures describe agreement with your labels on this sample of documents. On other documents, other "
-    "kinds of documents or another labeller they can differ, and with few documents the intervals are wide.",
-    "studygap is a triage aid: it points a person to what to read and decides nothing about a study. A person "
-    "must still read each document.",
-)
 
 
 # ---------------------------------------------------------------------------------------------------- label files
@@ -457,6 +452,7 @@ class Figure:
 
 @dataclass(frozen=True)
 class Evaluation:
+    KIND: ClassVar[str] = "evaluation"  # the renderers' key (checker.reports)
     tool_version: str
     source: str
     checklist_override: str | None
@@ -471,7 +467,7 @@ class Evaluation:
     resamples: int
     level: float
     notes: tuple[str, ...] = ()
-    cautions: tuple[str, ...] = CAUTIONS
+    cautions: tuple[str, ...] = CAUTIONS["evaluation"]
     #: every compared pair, grouped by document (for figures on parts of the sample; not in the JSON)
     pairs_by_document: tuple[tuple[Pair, ...], ...] = ()
 
@@ -744,7 +740,7 @@ def to_json(evaluation: Evaluation) -> str:
 
 
 __all__ = [
-    "CAUTIONS", "Confusion", "DocumentOutcome", "Evaluation", "Figure", "ItemAgreement", "ItemLabel", "LabelError",
+    "Confusion", "DocumentOutcome", "Evaluation", "Figure", "ItemAgreement", "ItemLabel", "LabelError",
     "LabelFile", "Pair", "STATUSES", "binary_kappa", "confusion", "evaluate", "item_agreements", "load_labels",
     "macro_f1", "pairs_for", "summarize", "three_class_agreement", "three_class_kappa", "to_json",
 ]

@@ -1,27 +1,18 @@
 """Screening many documents against one checklist: a matrix of statuses, completeness scores and facts side by side.
 
-Built from batch results; renderers (terminal, CSV, HTML, JSON) only show what the Screen holds.
+Built from batch results; the renderers in checker.reports.screening only show what the Screen holds.
 """
 
 from __future__ import annotations
 
-import csv
-import html
-import io
-import json
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Any, Sequence
+from typing import Any, ClassVar, Sequence
 
 from .batch import BatchResult
 from ..verdicts.report import STATUS_ORDER
+from ..core.cautions import CAUTIONS
 
-CAUTIONS = (
-    "Completeness scores are a triage aid for the people who then read the documents, not a decision about any "
-    "proposal or paper.",
-    "studygap finds what is written, not whether the study is sound; a person must still read each document.",
-    "The venue's own reporting requirements govern; this checklist does not replace them.",
-)
 SCORE_NOTE = ("completeness = (reported + half of partial) / applicable items; not-applicable and waived items "
               "are left out")
 
@@ -69,6 +60,7 @@ class ScreenChecklist:
 
 @dataclass(frozen=True)
 class Screen:
+    KIND: ClassVar[str] = "screen"  # the renderers' key (checker.reports)
     checklist_note: str
     checklists: tuple[ScreenChecklist, ...]
     rows: tuple[ScreenRow, ...]
@@ -128,7 +120,7 @@ class Screen:
             "item_shares": self.item_shares(),
             "summary": {"documents": len(self.rows), "errors": len(self.errors), "skipped": len(self.skipped)},
             "skipped": [{"path": p, "reason": why} for p, why in self.skipped],
-            "cautions": list(CAUTIONS),
+            "cautions": list(CAUTIONS["screen"]),
         }
 
 
@@ -208,105 +200,8 @@ def short_names(paths: Sequence[str]) -> list[str]:
     return [str(p) for p in paths]
 
 
-# ------------------------------------------------------------------------------------------------ renderers
-
-
 def _r(x: float | None, digits: int = 4) -> float | None:
     return None if x is None else round(x, digits)
-
-
-def _pct(x: float | None) -> str:
-    return "n/a" if x is None else f"{100 * x:.0f}%"
-
-
-def _summary_line(screen: Screen, timed: bool) -> str:
-    n, e = len(screen.rows), len(screen.errors)
-    text = f"{n} document{'s' if n != 1 else ''}, {n - e} checked, {e} could not be read"
-    if screen.skipped:
-        k = len(screen.skipped)
-        text += f", {k} other file{'s' if k != 1 else ''} in the folders skipped"
-    return text + (f", {screen.seconds:.1f} s" if timed else "")
-
-
-def render_terminal(screen: Screen) -> str:
-    from ..reports.words import GLYPHS, WORDS, glyph
-
-    out = io.StringIO()
-    w = out.write
-    w(f"Screening against {screen.checklist_id or 'no checklist (no document could be read)'}\n")
-    if screen.checklist_note:
-        w(f"Checklist: {screen.checklist_note}\n")
-    names = short_names([r.path for r in screen.rows])
-    number = {id(r): n for n, r in enumerate(screen.rows, start=1)}
-    w("\nDocuments\n")
-    for n, (row, name) in enumerate(zip(screen.rows, names), start=1):
-        if row.error:
-            w(f"  D{n:<3} could not be read: {row.error}\n")
-        else:
-            c = dict(row.counts)
-            w(f"  D{n:<3} {_pct(row.completeness):>5}  {name}  ({c['reported']} reported, {c['partial']} partial, "
-              f"{c['missing']} missing)" + (f"  [{row.checklist}]" if len(screen.checklists) > 1 else "") + "\n")
-    legend = ", ".join(f"{GLYPHS[s]} {WORDS[s]}" for s in STATUS_ORDER)
-    for c in screen.checklists:
-        rows = screen.rows_of(c.id)
-        if not rows or not c.items:
-            continue
-        w(f"\n{c.title} ({c.id}): items by document ({legend})\n")
-        width = min(44, max(len(t) for _, t in c.items))
-        w(f"  {'':<{width}}  " + " ".join(f"D{number[id(r)]:<3}" for r in rows) + "  reported\n")
-        shares = [s for s in screen.item_shares() if s["checklist"] == c.id]
-        for k, (_iid, title) in enumerate(c.items):
-            cells = " ".join(f"{glyph(r.statuses[k]):<4}" for r in rows)
-            short = title if len(title) <= width else title[: width - 1] + "…"
-            w(f"  {short:<{width}}  {cells}  {_pct(shares[k]['reported_share'])}\n")
-    if screen.skipped:
-        w("\nSkipped\n")
-        for path, why in screen.skipped:
-            w(f"  {path}: {why}\n")
-    ok = [(n, r) for n, r in enumerate(screen.rows, start=1) if not r.error]
-    if screen.fact_names and ok:
-        w("\nFacts found\n")
-        for n, r in ok:
-            if r.facts:
-                w(f"  D{n}: " + "; ".join(f"{k} {v}" for k, v in r.facts) + "\n")
-    w(f"\n{SCORE_NOTE}.\n")
-    w(_summary_line(screen, True) + ".\n")
-    for c in CAUTIONS:
-        w(f"Note: {c}\n")
-    return out.getvalue()
-
-
-COUNT_COLUMNS = tuple(f"{s} items" for s in STATUS_ORDER)
-
-
-def _header(screen: Screen) -> list[str]:
-    return (["path", "checklist", "error", "completeness", *COUNT_COLUMNS]
-            + [i for i, _ in screen.items] + [f"fact: {n}" for n in screen.fact_names])
-
-
-def _cells(screen: Screen, row: ScreenRow) -> list[str]:
-    width = len(_header(screen))
-    if row.error:
-        return [row.path, "", row.error] + [""] * (width - 3)
-    facts = dict(row.facts)
-    mine = dict(zip((i for i, _ in next(c for c in screen.checklists if c.id == row.checklist).items), row.statuses))
-    score = "" if row.completeness is None else f"{row.completeness:.3f}"
-    return ([row.path, row.checklist, "", score, *(str(v) for _, v in row.counts)]
-            + [mine.get(i, "") for i, _ in screen.items] + [facts.get(n, "") for n in screen.fact_names])
-
-
-def render_csv(screen: Screen) -> str:
-    """One header row, then one row per document (an unreadable one with its reason in `error`); nothing else.
-
-    Item cells hold the JSON contract's status values; an item of another checklist is left blank. The notes
-    (checklists, the score's definition, counts, cautions) are in sidecar().
-    """
-    buf = io.StringIO()
-    writer = csv.writer(buf, lineterminator="\n")
-    writer.writerow(_header(screen))
-    for row in screen.rows:
-        writer.writerow(_cells(screen, row))
-    return buf.getvalue()
 
 
 def sidecar(screen: Screen) -> dict[str, Any]:
@@ -317,71 +212,3 @@ def sidecar(screen: Screen) -> dict[str, Any]:
     data["columns"] = {"completeness": SCORE_NOTE, "item columns": "the status of the item in that document: "
                        + ", ".join(STATUS_ORDER) + "; blank where the item belongs to another checklist"}
     return data
-
-
-def render_json(screen: Screen) -> str:
-    return json.dumps(screen.to_dict(), ensure_ascii=False, indent=2, allow_nan=False) + "\n"
-
-
-HTML_SCRIPT = """
-document.querySelectorAll('table.sortable th').forEach(function (th, col) {
-  th.addEventListener('click', function () {
-    var body = th.closest('table').tBodies[0];
-    var rows = Array.prototype.slice.call(body.rows);
-    var up = th.dataset.dir !== 'up'; th.dataset.dir = up ? 'up' : 'down';
-    rows.sort(function (a, b) {
-      var ca = a.cells[col], cb = b.cells[col];
-      var x = ca ? (ca.dataset.key || ca.textContent) : '', y = cb ? (cb.dataset.key || cb.textContent) : '';
-      var nx = parseFloat(x), ny = parseFloat(y);
-      var c = (!isNaN(nx) && !isNaN(ny)) ? nx - ny : x.localeCompare(y);
-      return up ? c : -c;
-    });
-    rows.forEach(function (r) { body.appendChild(r); });
-  });
-});
-var box = document.getElementById('filter');
-if (box) box.addEventListener('input', function () {
-  var words = box.value.toLowerCase().split(/\\s+/).filter(Boolean);
-  document.querySelectorAll('table.sortable tbody tr').forEach(function (r) {
-    var t = r.textContent.toLowerCase();
-    r.hidden = !words.every(function (w) { return t.indexOf(w) >= 0; });
-  });
-});
-"""
-
-# the audit page: the same neutral ink and tints as the screening page
-HTML_STYLE = """body{font:14px/1.45 system-ui,sans-serif;margin:1.2em;color:#1f2733}
-table{border-collapse:collapse;font-size:.9em}th,td{border:1px solid #d5dae2;padding:.25em .45em;text-align:left;
-vertical-align:top}th{cursor:pointer;background:#f2f4f7}td{font-variant-numeric:tabular-nums}
-.note{color:#5b6473;max-width:60em}[hidden]{display:none}td.n{text-align:right}
-td.rate{white-space:nowrap}.rb{display:inline-block;position:relative;width:8em;height:.7em;margin-right:.6em;
-background:#eef1f4;vertical-align:middle}.rb .r{position:absolute;left:0;top:0;bottom:0;background:#9aa5b4}
-.rb .w{position:absolute;top:45%;height:2px;background:#1f2733}"""
-
-
-def html_page(title: str, body: str) -> str:
-    return (f"<!DOCTYPE html>\n<html lang=\"en\"><head><meta charset=\"utf-8\">"
-            "<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\">"
-            f"<title>{html.escape(title)}</title><style>{HTML_STYLE}</style></head><body>\n{body}\n"
-            f"<script>{HTML_SCRIPT}</script></body></html>\n")
-
-
-def render_html(screen: Screen) -> str:
-    from ..reports.screening import render_html as page
-
-    return page(screen)
-
-
-def render_docx(screen: Screen) -> bytes:
-    from ..reports.screening import render_docx as table
-
-    return table(screen)
-
-
-RENDERERS = {"terminal": render_terminal, "csv": render_csv, "html": render_html, "json": render_json,
-             "docx": render_docx}
-BINARY = ("docx",)
-
-
-def render(screen: Screen, fmt: str) -> str | bytes:
-    return RENDERERS[fmt](screen)

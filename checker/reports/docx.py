@@ -8,7 +8,8 @@ import os
 from collections.abc import Sequence
 from datetime import datetime, timezone
 
-from ..verdicts.report import CAUTIONS, Evidence, ItemResult, Report
+from ..core.cautions import CAUTIONS
+from ..verdicts.report import Evidence, ItemResult, Report
 from .words import glyph, word
 
 COLUMNS = ("Item", "Question", "Status", "Where reported", "Quoted evidence", "Request to the authors",
@@ -112,7 +113,7 @@ def _document(doc, r: Report, verbose: bool, when: datetime) -> None:
         cells[0].text = k
         cells[0].paragraphs[0].runs[0].bold = True
         cells[1].text = _clean(v)
-    _widths(meta, (4.0, 23.7))
+    set_widths(meta, (4.0, 23.7))
     for row in meta.rows:
         for cell in row.cells:
             for p in cell.paragraphs:
@@ -130,12 +131,12 @@ def _document(doc, r: Report, verbose: bool, when: datetime) -> None:
     for cell, name in zip(table.rows[0].cells, COLUMNS):
         cell.text = name
         cell.paragraphs[0].runs[0].bold = True
-    _repeat_header(table.rows[0])
+    repeat_header(table.rows[0])
     for status in ROW_ORDER:
         for it in r.items:
             if it.status == status:
                 _row(table, it, r, verbose)
-    _widths(table, WIDTHS)
+    set_widths(table, WIDTHS)
     for row in table.rows:
         for cell, w in zip(row.cells, WIDTHS):
             cell.width = Cm(w)
@@ -155,11 +156,11 @@ def _document(doc, r: Report, verbose: bool, when: datetime) -> None:
                 _quote_runs(q, ev)
                 q.add_run(f" ({_where(ev, r)})").italic = True
     doc.add_heading("Please keep in mind", level=1)
-    for c in CAUTIONS:
+    for c in CAUTIONS["report"]:
         doc.add_paragraph(c, style="List Bullet")
 
 
-def _widths(table, widths_cm) -> None:
+def set_widths(table, widths_cm) -> None:
     """Column widths that both Word and LibreOffice honour: on the grid columns and on every cell."""
     from docx.shared import Cm
 
@@ -184,7 +185,7 @@ def shade(cell, fill: str) -> None:
     tc_pr.append(el)
 
 
-def _repeat_header(row) -> None:
+def repeat_header(row) -> None:
     """Repeat the header row on every page of a long table."""
     from docx.oxml import OxmlElement
     from docx.oxml.ns import qn

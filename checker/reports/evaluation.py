@@ -16,7 +16,6 @@ from rich.text import Text
 
 from ..many.evaluation import STATUSES, Evaluation, Pair, to_json
 
-FORMATS = ("terminal", "json")
 
 #: status -> style, as in the terminal report (words.py's one vocabulary); the word is always printed
 STYLES = {
@@ -175,9 +174,9 @@ def render_terminal(ev: Evaluation, color: bool = False, width: int | None = Non
     return text
 
 
-def render_evaluation(ev: Evaluation, fmt: str = "terminal", color: bool = False, width: int | None = None) -> str:
-    if fmt == "json":
-        return to_json(ev)
-    if fmt == "terminal":
-        return render_terminal(ev, color=color, width=width)
-    raise ValueError(f"unknown evaluation format {fmt!r}; choose {', '.join(FORMATS)}")
+def render_text(ev: Evaluation, options=None) -> str:
+    return render_terminal(ev, color=bool(options and options.color), width=options.width if options else None)
+
+
+def render_json(ev: Evaluation, options=None) -> str:
+    return to_json(ev)

@@ -8,7 +8,8 @@ import hashlib
 from collections.abc import Sequence
 from html import escape
 
-from ..verdicts.report import CAUTIONS, Evidence, ItemResult, Report
+from ..core.cautions import CAUTIONS
+from ..verdicts.report import Evidence, ItemResult, Report
 from .words import GAPS_FIRST, GLYPHS, heading, status_checkboxes
 
 #: status -> (heading word, glyph shown beside the word): the one vocabulary of words.py
@@ -172,7 +173,7 @@ def _document(r: Report, verbose: bool, filters: str = "") -> str:
     out.append("</ul>")
     for w in r.warnings:
         out.append(f'<p class="notes">Note: {e(w)}</p>')
-    out.append('<ul class="cautions">' + "".join(f"<li>{e(c)}</li>" for c in CAUTIONS) + "</ul></div>")
+    out.append('<ul class="cautions">' + "".join(f"<li>{e(c)}</li>" for c in CAUTIONS["report"]) + "</ul></div>")
     if filters:
         out.append(filters)
     for s in LIST_ORDER:

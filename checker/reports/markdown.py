@@ -6,8 +6,9 @@ from __future__ import annotations
 import re
 from collections.abc import Sequence
 
+from ..core.cautions import CAUTIONS
 from ..core.errors import visible
-from ..verdicts.report import CAUTIONS, Evidence, FacetResult, ItemResult, Report
+from ..verdicts.report import Evidence, FacetResult, ItemResult, Report
 from .words import heading, word
 
 #: the order of sections: what needs the authors' attention first; headings are words.py's words
@@ -202,7 +203,7 @@ def render_one(r: Report, verbose: bool = False, level: int = 2, all_requests: b
     out.append("")
     for w in r.warnings:
         out += [f"Note: {escape(w)}", ""]
-    out += ["Please keep in mind:", ""] + [f"- {c}" for c in CAUTIONS] + [""]
+    out += ["Please keep in mind:", ""] + [f"- {c}" for c in CAUTIONS["report"]] + [""]
 
     for status, heading in SECTIONS:
         items = [it for it in r.items if it.status == status]

@@ -1,4 +1,5 @@
-"""The screening page (HTML) and the screening table (DOCX) for a committee reading many documents side by side.
+"""The screening of many documents for a committee: the terminal matrix, CSV, JSON, the screening page (HTML) and
+the screening table (DOCX).
 
 The page: one matrix per checklist, documents as rows and items as columns, grouped in bands that fold into one
 column each; a sticky header and first column; each cell is a glyph of one neutral scale (see words.py) that opens
@@ -9,14 +10,16 @@ and document; a print layout for A4 landscape. Everything is inline; nothing is 
 from __future__ import annotations
 
 import base64
+import csv
 import hashlib
+import io
+import json
 from html import escape
-from typing import TYPE_CHECKING
 
+from ..core.cautions import CAUTIONS
+from ..many.screen import SCORE_NOTE, Screen, ScreenChecklist, ScreenRow, short_names
+from ..verdicts.report import STATUS_ORDER
 from .words import GAPS_FIRST, GLYPHS, MEANINGS, WORDS, glyph, status_checkboxes, word
-
-if TYPE_CHECKING:
-    from ..many.screen import Screen, ScreenChecklist, ScreenRow
 
 STATUSES = ("reported", "partial", "missing", "not-applicable", "waived")
 
@@ -264,9 +267,107 @@ def _detail(num: int, k: int, r: ScreenRow, c: ScreenChecklist, name: str) -> st
     return "".join(parts)
 
 
-def render_html(screen: Screen) -> str:
-    from ..many.screen import CAUTIONS, SCORE_NOTE, _summary_line, short_names
+# ------------------------------------------------------------------------------------------------ text, CSV, JSON
 
+
+def summary_line(screen: Screen, timed: bool) -> str:
+    n, e = len(screen.rows), len(screen.errors)
+    text = f"{n} document{'s' if n != 1 else ''}, {n - e} checked, {e} could not be read"
+    if screen.skipped:
+        k = len(screen.skipped)
+        text += f", {k} other file{'s' if k != 1 else ''} in the folders skipped"
+    return text + (f", {screen.seconds:.1f} s" if timed else "")
+
+
+def render_terminal(screen: Screen, options=None) -> str:
+    out = io.StringIO()
+    w = out.write
+    w(f"Screening against {screen.checklist_id or 'no checklist (no document could be read)'}\n")
+    if screen.checklist_note:
+        w(f"Checklist: {screen.checklist_note}\n")
+    names = short_names([r.path for r in screen.rows])
+    number = {id(r): n for n, r in enumerate(screen.rows, start=1)}
+    w("\nDocuments\n")
+    for n, (row, name) in enumerate(zip(screen.rows, names), start=1):
+        if row.error:
+            w(f"  D{n:<3} could not be read: {row.error}\n")
+        else:
+            c = dict(row.counts)
+            w(f"  D{n:<3} {_pct(row.completeness):>5}  {name}  ({c['reported']} reported, {c['partial']} partial, "
+              f"{c['missing']} missing)" + (f"  [{row.checklist}]" if len(screen.checklists) > 1 else "") + "\n")
+    legend = ", ".join(f"{GLYPHS[s]} {WORDS[s]}" for s in STATUS_ORDER)
+    for c in screen.checklists:
+        rows = screen.rows_of(c.id)
+        if not rows or not c.items:
+            continue
+        w(f"\n{c.title} ({c.id}): items by document ({legend})\n")
+        width = min(44, max(len(t) for _, t in c.items))
+        w(f"  {'':<{width}}  " + " ".join(f"D{number[id(r)]:<3}" for r in rows) + "  reported\n")
+        shares = [s for s in screen.item_shares() if s["checklist"] == c.id]
+        for k, (_iid, title) in enumerate(c.items):
+            cells = " ".join(f"{glyph(r.statuses[k]):<4}" for r in rows)
+            short = title if len(title) <= width else title[: width - 1] + "…"
+            w(f"  {short:<{width}}  {cells}  {_pct(shares[k]['reported_share'])}\n")
+    if screen.skipped:
+        w("\nSkipped\n")
+        for path, why in screen.skipped:
+            w(f"  {path}: {why}\n")
+    ok = [(n, r) for n, r in enumerate(screen.rows, start=1) if not r.error]
+    if screen.fact_names and ok:
+        w("\nFacts found\n")
+        for n, r in ok:
+            if r.facts:
+                w(f"  D{n}: " + "; ".join(f"{k} {v}" for k, v in r.facts) + "\n")
+    w(f"\n{SCORE_NOTE}.\n")
+    w(summary_line(screen, True) + ".\n")
+    for c in CAUTIONS["screen"]:
+        w(f"Note: {c}\n")
+    return out.getvalue()
+
+
+COUNT_COLUMNS = tuple(f"{s} items" for s in STATUS_ORDER)
+
+
+def _header(screen: Screen) -> list[str]:
+    return (["path", "checklist", "error", "completeness", *COUNT_COLUMNS]
+            + [i for i, _ in screen.items] + [f"fact: {n}" for n in screen.fact_names])
+
+
+def _cells(screen: Screen, row: ScreenRow) -> list[str]:
+    width = len(_header(screen))
+    if row.error:
+        return [row.path, "", row.error] + [""] * (width - 3)
+    facts = dict(row.facts)
+    mine = dict(zip((i for i, _ in next(c for c in screen.checklists if c.id == row.checklist).items), row.statuses))
+    score = "" if row.completeness is None else f"{row.completeness:.3f}"
+    return ([row.path, row.checklist, "", score, *(str(v) for _, v in row.counts)]
+            + [mine.get(i, "") for i, _ in screen.items] + [facts.get(n, "") for n in screen.fact_names])
+
+
+def render_csv(screen: Screen, options=None) -> str:
+    """One header row, then one row per document (an unreadable one with its reason in `error`); nothing else.
+
+    Item cells hold the JSON contract's status values; an item of another checklist is left blank. The notes
+    (checklists, the score's definition, counts, cautions) are in sidecar().
+    """
+    buf = io.StringIO()
+    writer = csv.writer(buf, lineterminator="\n")
+    writer.writerow(_header(screen))
+    for row in screen.rows:
+        writer.writerow(_cells(screen, row))
+    return buf.getvalue()
+
+
+def render_json(screen: Screen, options=None) -> str:
+    return json.dumps(screen.to_dict(), ensure_ascii=False, indent=2, allow_nan=False) + "\n"
+
+
+
+
+# ------------------------------------------------------------------------------------------------ page and table
+
+
+def render_html(screen: Screen, options=None) -> str:
     names_list = short_names([r.path for r in screen.rows])
     names = {id(r): n for r, n in zip(screen.rows, names_list)}
     numbers = {id(r): n for n, r in enumerate(screen.rows, start=1)}
@@ -294,7 +395,7 @@ def render_html(screen: Screen) -> str:
     controls.append('<div><button type="button" data-fold="1">fold all groups</button>'
                     '<button type="button" data-fold="0">unfold all</button></div></details></fieldset>')
     body = [f"<h1>{e(title)}</h1>",
-            f'<p class="meta">{e(_summary_line(screen, True))}. Checklist: {e(screen.checklist_note)}</p>',
+            f'<p class="meta">{e(summary_line(screen, True))}. Checklist: {e(screen.checklist_note)}</p>',
             f'<ul class="legend" aria-label="what the signs mean">{legend}</ul>',
             f'<p class="note">Score: {e(SCORE_NOTE)}.</p><p class="note noprint">Each cell opens the passages behind '
             "it, or what was looked for; a group's heading folds its columns into one. Point at a heading for the "
@@ -326,7 +427,7 @@ def render_html(screen: Screen) -> str:
         body += [_detail(num, k, r, c, names[id(r)]) for k in order]
         body.append("</details>")
     body.append("</section>")
-    body.append('<ul class="note">' + "".join(f"<li>{e(x)}</li>" for x in CAUTIONS) + "</ul>")
+    body.append('<ul class="note">' + "".join(f"<li>{e(x)}</li>" for x in CAUTIONS["screen"]) + "</ul>")
     body.append('<dialog id="cell" aria-label="what lies behind the cell"><div class="slot"></div>'
                 '<form method="dialog"><button>Close</button></form></dialog>')
     return "\n".join([
@@ -340,15 +441,14 @@ def render_html(screen: Screen) -> str:
 # ------------------------------------------------------------------------------------------------ DOCX
 
 
-def render_docx(screen: Screen) -> bytes:
+def render_docx(screen: Screen, options=None) -> bytes:
     """One landscape table per checklist: items as rows (with their group), documents as columns, a glyph and a
     word per cell where there is room; a key of the documents and the signs below."""
     from docx.enum.table import WD_TABLE_ALIGNMENT
     from docx.enum.text import WD_ALIGN_PARAGRAPH
     from docx.shared import Pt
 
-    from ..many.screen import CAUTIONS, SCORE_NOTE, _summary_line, short_names
-    from .docx import _repeat_header, _widths, landscape_document, report_date, save, shade
+    from .docx import repeat_header, set_widths, landscape_document, report_date, save, shade
 
     when = report_date()
     doc = landscape_document("studygap screening table", when)
@@ -359,7 +459,7 @@ def render_docx(screen: Screen) -> bytes:
     name_of = {id(r): n for r, n in zip(screen.rows, names)}
     number = {id(r): n for n, r in enumerate(screen.rows, start=1)}
     doc.add_heading("Screening table", level=0)
-    doc.add_paragraph(f"{_summary_line(screen, False)}; {when.strftime('%Y-%m-%d')}. Checklist: "
+    doc.add_paragraph(f"{summary_line(screen, False)}; {when.strftime('%Y-%m-%d')}. Checklist: "
                       f"{screen.checklist_note}")
     doc.add_paragraph("Signs: " + "; ".join(f"{GLYPHS[s]} {WORDS[s]}" for s in STATUSES)
                       + f". Score: {SCORE_NOTE}.")
@@ -402,8 +502,8 @@ def render_docx(screen: Screen) -> bytes:
                         shade(cell, "DCE1E8")
                     elif s == "partial":
                         shade(cell, "EEF1F4")
-        _repeat_header(table.rows[0])
-        _widths(table, (item_w, *([col_w] * len(rows))))
+        repeat_header(table.rows[0])
+        set_widths(table, (item_w, *([col_w] * len(rows))))
         for row in table.rows:
             for cell in row.cells:
                 for p in cell.paragraphs:
@@ -421,9 +521,9 @@ def render_docx(screen: Screen) -> bytes:
             line = f"D{number[id(r)]}: {r.path}" + (f" (could not be read: {r.error})" if r.error else "")
             doc.add_paragraph(line, style="List Bullet")
     doc.add_heading("Please keep in mind", level=1)
-    for x in CAUTIONS:
+    for x in CAUTIONS["screen"]:
         doc.add_paragraph(x, style="List Bullet")
     return save(doc, when)
 
 
-__all__ = ["render_html", "render_docx"]
+__all__ = ["render_terminal", "render_csv", "render_json", "render_html", "render_docx", "summary_line"]

@@ -9,8 +9,9 @@ from rich.console import Console
 from rich.padding import Padding
 from rich.text import Text
 
+from ..core.cautions import CAUTIONS
 from ..core.errors import visible
-from ..verdicts.report import CAUTIONS, STATUS_ORDER, Evidence, Report
+from ..verdicts.report import STATUS_ORDER, Evidence, Report
 from .words import glyph, word
 
 #: status -> style: one neutral scale, gaps in bold; the glyph and the word are always printed, so style is never
@@ -105,7 +106,7 @@ def render_one(r: Report, console: Console, verbose: bool) -> None:  # noqa: C90
                 _indented(console, Text(visible(ev.location.describe(r.document_path)), style="dim"))
                 _indented(console, _quote(ev))
     console.print()
-    for c in CAUTIONS:
+    for c in CAUTIONS["report"]:
         console.print(Text("· " + c, style="dim"))
 
 

@@ -6,13 +6,8 @@ from dataclasses import dataclass, field
 from typing import Any
 
 from ..reading.document import Location
+from ..core.cautions import CAUTIONS
 
-CAUTIONS = (
-    "A complete report does not show that the study is sound: studygap finds what is written, not whether it is "
-    "right.",
-    "A person must still read the document; passages are found by wording and can be missed or misread.",
-    "The journal's or venue's own reporting requirements govern; this checklist does not replace them.",
-)
 
 STATUS_ORDER = ("reported", "partial", "missing", "not-applicable", "waived")
 
@@ -160,5 +155,5 @@ class Report:
             "findings": [f.to_dict() for f in self.findings],
             "summary": self.summary,
             "warnings": list(self.warnings),
-            "cautions": list(CAUTIONS),
+            "cautions": list(CAUTIONS["report"]),
         }
