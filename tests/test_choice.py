@@ -78,3 +78,21 @@ def test_the_choice_and_its_reason_are_in_the_report(tmp_path):
     report = check_document(p)
     assert report.checklist_id == "validation-study"
     assert "built like a paper" in report.checklist_choice
+
+
+def test_an_evaluation_code_readme_is_a_benchmark_proposal():
+    # a metrics repository's README: files and formats, but about scoring predictions against a reference
+    text = ("Lesion metrics\n\n"
+            "This repository holds the evaluation code of the stone detection benchmark.\n\n"
+            "Put your prediction files and the ground truth files in two folders; the script computes the metrics "
+            "for every case and writes one CSV file.\n\n"
+            "Released under the MIT license.")
+    assert _choose(text) == "benchmark-proposal"
+
+
+def test_a_thesis_in_the_first_person_is_checked_as_a_paper():
+    text = ("Segmenting the left atrium\n\n"
+            "In this thesis I compared two networks on a public collection containing 30 patients.\n\n"
+            "I implemented both in a common framework and I trained them on the same folds.\n\n"
+            "The data set is stored as compressed files in the usual file format of the scanner.")
+    assert _choose(text) == "validation-study"
