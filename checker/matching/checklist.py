@@ -13,14 +13,10 @@ from importlib import resources
 from pathlib import Path
 from typing import Any
 
-import yaml
 
 from ..core.errors import ChecklistError, UsageError
+from .marked import Node, Problems, closest, compose, expect_type, fields_of, join_path, text_of, texts_of
 
-#: a YAML file may refer to the same node again (aliases); past this many references it is refused,
-#: so that a file of nested aliases cannot expand to billions of nodes
-MAX_ALIAS_USES = 500
-MAX_NODES = 200_000
 MAX_FILE_BYTES = 5 * 1024 * 1024
 
 #: files beside the checklists that are not checklists: the cross-item rules and the concept library
@@ -128,143 +124,6 @@ class Checklist:
         return next((g.title for g in self.groups if g.id == group_id), group_id)
 
 
-# ---------------------------------------------------------------------------------------------- YAML with marks
-
-
-class _Node:
-    """A YAML value with the place it was written, so every problem can be located."""
-
-    __slots__ = ("value", "line", "column")
-
-    def __init__(self, value: Any, line: int, column: int) -> None:
-        self.value, self.line, self.column = value, line, column
-
-
-class _Loader:
-    def __init__(self, file: str) -> None:
-        self.file = file
-        self.alias_uses = 0
-        self.nodes = 0
-        self.seen: set[int] = set()
-        self.constructor = yaml.constructor.SafeConstructor()
-
-    def convert(self, node: yaml.Node) -> _Node:
-        self.nodes += 1
-        if id(node) in self.seen:
-            self.alias_uses += 1
-            if self.alias_uses > MAX_ALIAS_USES:
-                raise _TooManyAliases(node)
-        if self.nodes > MAX_NODES:
-            raise _TooManyAliases(node)
-        line, col = node.start_mark.line + 1, node.start_mark.column + 1
-        if isinstance(node, yaml.MappingNode):
-            self.seen.add(id(node))
-            out: dict[str, tuple[_Node, _Node]] = {}
-            for k, v in node.value:
-                key = self.convert(k)
-                out[str(key.value)] = (key, self.convert(v))
-            return _Node(out, line, col)
-        if isinstance(node, yaml.SequenceNode):
-            self.seen.add(id(node))
-            return _Node([self.convert(v) for v in node.value], line, col)
-        return _Node(self.constructor.construct_object(node, deep=True), line, col)
-
-
-class _TooManyAliases(Exception):
-    def __init__(self, node: yaml.Node) -> None:
-        self.node = node
-
-
-# ---------------------------------------------------------------------------------------------- validation
-
-
-class _Problems:
-    def __init__(self, file: str, compile_regexes: bool = True) -> None:
-        self.file = file
-        #: compiling is the only full check of a regex, and the slow part of loading; built-in checklists are
-        #: compiled by the test-suite, so at run time theirs are compiled when first needed
-        self.compile_regexes = compile_regexes
-        self.items: list[tuple[int, int, str]] = []
-        #: word lists of the concept library, written {NAME} inside a regex (see expand_vocabulary)
-        self.vocabulary: dict[str, str] = {}
-
-    def add(self, node: _Node | None, path: str, message: str) -> None:
-        line, col = (node.line, node.column) if node is not None else (1, 1)
-        self.items.append((line, col, f"{self.file}:{line}:{col}: {path}: {message}" if path else
-                           f"{self.file}:{line}:{col}: {message}"))
-
-    def lines(self) -> list[str]:
-        return [m for _, _, m in sorted(self.items, key=lambda t: (t[0], t[1]))]
-
-
-_TYPE_WORDS = {str: "text", int: "a whole number", float: "a number", list: "a list", dict: "a mapping", bool: "true or false"}
-
-
-def _expect(p: _Problems, node: _Node, path: str, kind: type) -> bool:
-    v = node.value
-    ok = isinstance(v, kind) and not (kind in (int, float) and isinstance(v, bool))
-    if kind is float and isinstance(v, int) and not isinstance(v, bool):
-        ok = True
-    if not ok:
-        got = "nothing" if v is None else _TYPE_WORDS.get(type(v), type(v).__name__)
-        p.add(node, path, f"expected {_TYPE_WORDS[kind]}, got {got}")
-    return ok
-
-
-def _keys(p: _Problems, node: _Node, path: str, required: set[str], optional: set[str]) -> dict[str, _Node]:
-    """The mapping's values by key, with unknown and missing keys reported."""
-    if not _expect(p, node, path, dict):
-        return {}
-    out: dict[str, _Node] = {}
-    allowed = required | optional
-    for key, (knode, vnode) in node.value.items():
-        if key not in allowed:
-            hint = _closest(key, allowed)
-            p.add(knode, _join(path, key), "unknown key" + (f" (did you mean {hint!r}?)" if hint else ""))
-            continue
-        out[key] = vnode
-    for key in sorted(required - set(out)):
-        if key not in node.value:
-            p.add(node, path, f"missing required key {key!r}")
-    return out
-
-
-def _closest(key: str, allowed: set[str]) -> str | None:
-    from rapidfuzz import process
-
-    best = process.extractOne(key, sorted(allowed), score_cutoff=70)
-    return best[0] if best else None
-
-
-def _join(path: str, key: str) -> str:
-    return f"{path} -> {key}" if path else key
-
-
-def _text(p: _Problems, node: _Node | None, path: str, *, required: bool = True) -> str:
-    if node is None:
-        return ""
-    if not _expect(p, node, path, str):
-        return ""
-    if required and not node.value.strip():
-        p.add(node, path, "must not be empty")
-    return node.value.strip()
-
-
-def _texts(p: _Problems, node: _Node | None, path: str) -> tuple[str, ...]:
-    if node is None:
-        return ()
-    if isinstance(node.value, str):  # one phrase written without a list
-        return (node.value,)
-    if not _expect(p, node, path, list):
-        return ()
-    out = []
-    for i, sub in enumerate(node.value):
-        t = _text(p, sub, f"{path}[{i}]")
-        if t:
-            out.append(t)
-    return tuple(out)
-
-
 #: a group holding an unbounded repetition, itself repeated without bound: '(a+)+', '(\w*\s?)*', '(x+){2,}'
 _CATASTROPHIC = re.compile(r"\((?:[^()\\]|\\.)*(?<!\\)[+*](?:[^()\\]|\\.)*\)(?:[+*]|\{\d+,\})")
 
@@ -280,7 +139,7 @@ def compile_regex(pattern: str):
     return regexcache.compile(expand_macros(pattern), regex.IGNORECASE | regex.V0)
 
 
-def _check_regex(p: _Problems, node: _Node, path: str, pattern: str) -> str | None:
+def _check_regex(p: Problems, node: Node, path: str, pattern: str) -> str | None:
     import regex
 
     from .facts import expand_macros
@@ -306,20 +165,20 @@ def _check_regex(p: _Problems, node: _Node, path: str, pattern: str) -> str | No
     return pattern
 
 
-def _check_pattern(p: _Problems, node: _Node, path: str) -> tuple[dict, ...] | None:
-    if not _expect(p, node, path, list):
+def _check_pattern(p: Problems, node: Node, path: str) -> tuple[dict, ...] | None:
+    if not expect_type(p, node, path, list):
         return None
     tokens = []
     ok = True
     for i, tok in enumerate(node.value):
         tpath = f"{path}[{i}]"
-        if not _expect(p, tok, tpath, dict):
+        if not expect_type(p, tok, tpath, dict):
             ok = False
             continue
         plain = _plain(tok)
         for key, (knode, _v) in tok.value.items():
             if key.upper() not in TOKEN_ATTRS:
-                p.add(knode, _join(tpath, key), f"token attribute not filled by studygap's pipeline "
+                p.add(knode, join_path(tpath, key), f"token attribute not filled by studygap's pipeline "
                                                 f"(use one of {', '.join(sorted(TOKEN_ATTRS - {'SPACY'}))})")
                 ok = False
         tokens.append({k.upper(): v for k, v in plain.items()})
@@ -341,7 +200,7 @@ def _check_pattern(p: _Problems, node: _Node, path: str) -> tuple[dict, ...] | N
     return tuple(tokens) if ok else None
 
 
-def _plain(node: _Node) -> Any:
+def _plain(node: Node) -> Any:
     v = node.value
     if isinstance(v, dict):
         return {k: _plain(vn) for k, (_kn, vn) in v.items()}
@@ -353,69 +212,70 @@ def _plain(node: _Node) -> Any:
 _CUE_KEYS = {"phrases", "patterns", "regex"}
 
 
-def _cues(p: _Problems, fields: dict[str, _Node], path: str) -> Cues:
-    phrases = _texts(p, fields.get("phrases"), _join(path, "phrases"))
+def _cues(p: Problems, fields: dict[str, Node], path: str) -> Cues:
+    phrases = texts_of(p, fields.get("phrases"), join_path(path, "phrases"))
     for ph in phrases:
         if ph.startswith("=") and not ph[1:].strip():
-            p.add(fields["phrases"], _join(path, "phrases"), "'=' marks a phrase matched as written; a phrase must follow it")
+            p.add(fields["phrases"], join_path(path, "phrases"),
+                  "'=' marks a phrase matched as written; a phrase must follow it")
     patterns = []
     if "patterns" in fields:
         pnode = fields["patterns"]
-        if _expect(p, pnode, _join(path, "patterns"), list):
+        if expect_type(p, pnode, join_path(path, "patterns"), list):
             for i, sub in enumerate(pnode.value):
-                pat = _check_pattern(p, sub, f"{_join(path, 'patterns')}[{i}]")
+                pat = _check_pattern(p, sub, f"{join_path(path, 'patterns')}[{i}]")
                 if pat:
                     patterns.append(pat)
     regexes = []
-    for i, r in enumerate(_texts(p, fields.get("regex"), _join(path, "regex"))):
+    for i, r in enumerate(texts_of(p, fields.get("regex"), join_path(path, "regex"))):
         rnode = fields["regex"].value[i] if isinstance(fields["regex"].value, list) else fields["regex"]
         r = expand_vocabulary(r, p.vocabulary)
-        ok = _check_regex(p, rnode, f"{_join(path, 'regex')}[{i}]", r)
+        ok = _check_regex(p, rnode, f"{join_path(path, 'regex')}[{i}]", r)
         if ok:
             regexes.append(ok)
     return Cues(tuple(phrases), tuple(patterns), tuple(regexes))
 
 
-def _cue_block(p: _Problems, node: _Node, path: str, extra: set[str] = frozenset()) -> tuple[Cues, dict[str, _Node]]:
-    fields = _keys(p, node, path, set(), _CUE_KEYS | set(extra))
+def cue_block(p: Problems, node: Node, path: str, extra: set[str] = frozenset()) -> tuple[Cues, dict[str, Node]]:
+    fields = fields_of(p, node, path, set(), _CUE_KEYS | set(extra))
     cues = _cues(p, fields, path)
     if not _CUE_KEYS & set(fields) and isinstance(node.value, dict):
         p.add(node, path, "needs at least one of phrases, patterns or regex")
     return cues, fields
 
 
-def _facet(p: _Problems, node: _Node, path: str) -> Facet | None:
-    fields = _keys(p, node, path, {"id"}, {"title", "near", "unless", "weight"} | _CUE_KEYS)
+def _facet(p: Problems, node: Node, path: str) -> Facet | None:
+    fields = fields_of(p, node, path, {"id"}, {"title", "near", "unless", "weight"} | _CUE_KEYS)
     if not fields and not isinstance(node.value, dict):
         return None
-    fid = _text(p, fields.get("id"), _join(path, "id"))
+    fid = text_of(p, fields.get("id"), join_path(path, "id"))
     if fid and not FACET_ID.match(fid):
-        p.add(fields["id"], _join(path, "id"), "a facet id is lower-case letters, digits, '-' or '_'")
+        p.add(fields["id"], join_path(path, "id"), "a facet id is lower-case letters, digits, '-' or '_'")
     cues = _cues(p, fields, path)
     if not _CUE_KEYS & set(fields) and isinstance(node.value, dict):
         p.add(node, path, "a facet needs at least one of phrases, patterns or regex")
     near = None
     if "near" in fields:
-        ncues, nfields = _cue_block(p, fields["near"], _join(path, "near"), {"within"})
+        ncues, nfields = cue_block(p, fields["near"], join_path(path, "near"), {"within"})
         within = 0
-        if "within" in nfields and _expect(p, nfields["within"], _join(path, "near -> within"), int):
+        if "within" in nfields and expect_type(p, nfields["within"], join_path(path, "near -> within"), int):
             within = nfields["within"].value
             if not 0 <= within <= 20:
-                p.add(nfields["within"], _join(path, "near -> within"), "must be between 0 and 20 sentences")
+                p.add(nfields["within"], join_path(path, "near -> within"), "must be between 0 and 20 sentences")
         near = Near(ncues, within)
     unless = None
     if "unless" in fields:
-        unless, _ = _cue_block(p, fields["unless"], _join(path, "unless"))
+        unless, _ = cue_block(p, fields["unless"], join_path(path, "unless"))
     weight = 1.0
-    if "weight" in fields and _expect(p, fields["weight"], _join(path, "weight"), float):
+    if "weight" in fields and expect_type(p, fields["weight"], join_path(path, "weight"), float):
         weight = float(fields["weight"].value)
         if not 0 < weight <= 2:
-            p.add(fields["weight"], _join(path, "weight"), "must be above 0 and at most 2")
-    title = _text(p, fields.get("title"), _join(path, "title"), required=False) or fid
+            p.add(fields["weight"], join_path(path, "weight"), "must be above 0 and at most 2")
+    title = text_of(p, fields.get("title"), join_path(path, "title"), required=False) or fid
     return Facet(fid, title, cues, near, unless, weight)
 
 
-def _needs(p: _Problems, node: _Node | None, path: str, facet_ids: list[str]) -> tuple[tuple[str, ...], ...]:
+def _needs(p: Problems, node: Node | None, path: str, facet_ids: list[str]) -> tuple[tuple[str, ...], ...]:
     if node is None or node.value == "all":
         return (tuple(facet_ids),)
     v = node.value
@@ -448,96 +308,96 @@ def _needs(p: _Problems, node: _Node | None, path: str, facet_ids: list[str]) ->
     return (tuple(facet_ids),)
 
 
-def _facets(p: _Problems, fields: dict[str, _Node], path: str) -> list[Facet]:
+def _facets(p: Problems, fields: dict[str, Node], path: str) -> list[Facet]:
     facets: list[Facet] = []
-    if "facets" in fields and _expect(p, fields["facets"], _join(path, "facets"), list):
+    if "facets" in fields and expect_type(p, fields["facets"], join_path(path, "facets"), list):
         if not fields["facets"].value:
-            p.add(fields["facets"], _join(path, "facets"), "an item needs at least one facet")
+            p.add(fields["facets"], join_path(path, "facets"), "an item needs at least one facet")
         seen: set[str] = set()
         for i, fnode in enumerate(fields["facets"].value):
-            f = _facet(p, fnode, f"{_join(path, 'facets')}[{i}]")
+            f = _facet(p, fnode, f"{join_path(path, 'facets')}[{i}]")
             if f is None:
                 continue
             if f.id in seen:
-                p.add(fnode, f"{_join(path, 'facets')}[{i}] -> id", f"duplicate facet id {f.id!r}")
+                p.add(fnode, f"{join_path(path, 'facets')}[{i}] -> id", f"duplicate facet id {f.id!r}")
             seen.add(f.id)
             facets.append(f)
     return facets
 
 
-def _applies(p: _Problems, fields: dict[str, _Node], path: str) -> AppliesWhen | None:
+def _applies(p: Problems, fields: dict[str, Node], path: str) -> AppliesWhen | None:
     if "applies_when" not in fields:
         return None
-    cues, afields = _cue_block(p, fields["applies_when"], _join(path, "applies_when"), {"reason"})
-    reason = _text(p, afields.get("reason"), _join(path, "applies_when -> reason"), required=False)
+    cues, afields = cue_block(p, fields["applies_when"], join_path(path, "applies_when"), {"reason"})
+    reason = text_of(p, afields.get("reason"), join_path(path, "applies_when -> reason"), required=False)
     return AppliesWhen(cues, reason or "nothing in the document calls for it")
 
 
-def _item(p: _Problems, node: _Node, path: str, groups: set[str],
+def _item(p: Problems, node: Node, path: str, groups: set[str],
           concepts: dict[str, Concept] | None = None) -> Item | None:
-    if isinstance(node.value, dict) and isinstance(node.value.get("id", (None, _Node(None, 0, 0)))[1].value, str):
+    if isinstance(node.value, dict) and isinstance(node.value.get("id", (None, Node(None, 0, 0)))[1].value, str):
         path = f'item "{node.value["id"][1].value.strip()}"'
     has_concept = isinstance(node.value, dict) and "concept" in node.value
-    fields = _keys(
+    fields = fields_of(
         p, node, path,
         {"id", "group", "title", "question", "why", "ask"} | (set() if has_concept else {"facets"}),
         {"sources", "needs", "applies_when", "examples", "concept", "facets", "uses"},
     )
     if not fields:
         return None
-    iid = _text(p, fields.get("id"), _join(path, "id"))
+    iid = text_of(p, fields.get("id"), join_path(path, "id"))
     if iid:
         if not ITEM_ID.match(iid):
-            p.add(fields["id"], _join(path, "id"), "an item id is a dotted lower-case slug such as 'data.source'")
-    group = _text(p, fields.get("group"), _join(path, "group"))
+            p.add(fields["id"], join_path(path, "id"), "an item id is a dotted lower-case slug such as 'data.source'")
+    group = text_of(p, fields.get("group"), join_path(path, "group"))
     if group and groups and group not in groups:
-        p.add(fields["group"], _join(path, "group"), f"names group {group!r}, which the checklist does not define")
+        p.add(fields["group"], join_path(path, "group"), f"names group {group!r}, which the checklist does not define")
     concept = None
     if "concept" in fields:
-        cid = _text(p, fields["concept"], _join(path, "concept"))
+        cid = text_of(p, fields["concept"], join_path(path, "concept"))
         if "facets" in fields:
-            p.add(fields["facets"], _join(path, "facets"),
+            p.add(fields["facets"], join_path(path, "facets"),
                   "an item takes its facets from its concept or lists its own, not both")
         concept = (concepts or {}).get(cid)
         if cid and concept is None:
-            hint = _closest(cid, set(concepts or ()))
-            p.add(fields["concept"], _join(path, "concept"), f"no concept {cid!r} in the concept library"
+            hint = closest(cid, set(concepts or ()))
+            p.add(fields["concept"], join_path(path, "concept"), f"no concept {cid!r} in the concept library"
                   + (f" (did you mean {hint!r}?)" if hint else ""))
     if "uses" in fields and concept is None and "concept" not in fields:
-        p.add(fields["uses"], _join(path, "uses"), "only an item with a concept can choose which of its facets it uses")
+        p.add(fields["uses"], join_path(path, "uses"), "only an item with a concept can choose which of its facets it uses")
     if concept is not None:
         facets = list(concept.facets)
         if "uses" in fields:
-            wanted = _texts(p, fields["uses"], _join(path, "uses"))
+            wanted = texts_of(p, fields["uses"], join_path(path, "uses"))
             for w in wanted:
                 if w not in {f.id for f in facets}:
-                    p.add(fields["uses"], _join(path, "uses"), f"names facet {w!r}, which concept {concept.id!r} "
+                    p.add(fields["uses"], join_path(path, "uses"), f"names facet {w!r}, which concept {concept.id!r} "
                           f"does not have (it has {', '.join(f.id for f in facets)})")
             facets = [f for f in facets if f.id in wanted]
         ids = {f.id for f in facets}
         if "needs" in fields:
-            needs = _needs(p, fields["needs"], _join(path, "needs"), [f.id for f in facets])
+            needs = _needs(p, fields["needs"], join_path(path, "needs"), [f.id for f in facets])
         else:  # the concept's alternatives that the chosen facets can meet
             needs = tuple(n for n in concept.needs if set(n) <= ids) or (tuple(sorted(ids)),)
         applies = _applies(p, fields, path) if "applies_when" in fields else concept.applies_when
     else:
         facets = _facets(p, fields, path)
-        needs = _needs(p, fields.get("needs"), _join(path, "needs"), [f.id for f in facets])
+        needs = _needs(p, fields.get("needs"), join_path(path, "needs"), [f.id for f in facets])
         applies = _applies(p, fields, path)
     ex_rep: tuple[str, ...] = ()
     ex_mis: tuple[str, ...] = ()
     if "examples" in fields:
-        ef = _keys(p, fields["examples"], _join(path, "examples"), set(), {"reported", "missing"})
-        ex_rep = _texts(p, ef.get("reported"), _join(path, "examples -> reported"))
-        ex_mis = _texts(p, ef.get("missing"), _join(path, "examples -> missing"))
+        ef = fields_of(p, fields["examples"], join_path(path, "examples"), set(), {"reported", "missing"})
+        ex_rep = texts_of(p, ef.get("reported"), join_path(path, "examples -> reported"))
+        ex_mis = texts_of(p, ef.get("missing"), join_path(path, "examples -> missing"))
     return Item(
         id=iid,
         group=group,
-        title=_text(p, fields.get("title"), _join(path, "title")),
-        question=_text(p, fields.get("question"), _join(path, "question")),
-        why=_text(p, fields.get("why"), _join(path, "why")),
-        ask=_text(p, fields.get("ask"), _join(path, "ask")),
-        sources=_texts(p, fields.get("sources"), _join(path, "sources")),
+        title=text_of(p, fields.get("title"), join_path(path, "title")),
+        question=text_of(p, fields.get("question"), join_path(path, "question")),
+        why=text_of(p, fields.get("why"), join_path(path, "why")),
+        ask=text_of(p, fields.get("ask"), join_path(path, "ask")),
+        sources=texts_of(p, fields.get("sources"), join_path(path, "sources")),
         facets=tuple(facets),
         needs=needs,
         applies_when=applies,
@@ -545,32 +405,6 @@ def _item(p: _Problems, node: _Node, path: str, groups: set[str],
         examples_missing=ex_mis,
         concept=concept.id if concept is not None else "",
     )
-
-
-def _compose(text: str, file: str) -> _Node:
-    """The YAML text as marked nodes, or ChecklistError with the place of the problem."""
-    try:
-        root_node = yaml.compose(text, Loader=getattr(yaml, "CSafeLoader", yaml.SafeLoader))  # libyaml when built
-    except yaml.MarkedYAMLError as exc:
-        mark = exc.problem_mark or exc.context_mark
-        line, col = (mark.line + 1, mark.column + 1) if mark else (1, 1)
-        raise ChecklistError([f"{file}:{line}:{col}: not valid YAML: {exc.problem or exc}"]) from None
-    except yaml.YAMLError as exc:
-        raise ChecklistError([f"{file}:1:1: not valid YAML: {exc}"]) from None
-    if root_node is None:
-        raise ChecklistError([f"{file}:1:1: the file is empty"])
-    loader = _Loader(file)
-    try:
-        root = loader.convert(root_node)
-    except _TooManyAliases as exc:
-        m = exc.node.start_mark
-        raise ChecklistError([
-            f"{file}:{m.line + 1}:{m.column + 1}: too many references to repeated YAML nodes (aliases); "
-            f"a checklist needs at most {MAX_ALIAS_USES}"
-        ]) from None
-    except (yaml.YAMLError, ValueError, TypeError) as exc:
-        raise ChecklistError([f"{file}:1:1: not valid YAML: {exc}"]) from None
-    return root
 
 
 _VOCAB_NAME = re.compile(r"^[A-Z][A-Z0-9_]*$")
@@ -583,10 +417,10 @@ def expand_vocabulary(pattern: str, vocabulary: dict[str, str]) -> str:
     return re.sub(r"\{([A-Z][A-Z0-9_]*)\}", lambda m: vocabulary.get(m.group(1), m.group(0)), pattern)
 
 
-def _vocabulary(p: _Problems, node: _Node | None) -> dict[str, str]:
+def _vocabulary(p: Problems, node: Node | None) -> dict[str, str]:
     """Named word lists as regex groups, longest words first (so "scans" is tried before "scan")."""
     out: dict[str, str] = {}
-    if node is None or not _expect(p, node, "vocabulary", dict):
+    if node is None or not expect_type(p, node, "vocabulary", dict):
         return out
     from .facts import MACROS
 
@@ -595,7 +429,7 @@ def _vocabulary(p: _Problems, node: _Node | None) -> dict[str, str]:
             p.add(knode, f"vocabulary -> {name}", "a word list's name is upper-case letters, digits and '_', "
                                                     f"and not one of {', '.join(sorted(MACROS))}")
             continue
-        words = _texts(p, vnode, f"vocabulary -> {name}")
+        words = texts_of(p, vnode, f"vocabulary -> {name}")
         if not words:
             p.add(vnode, f"vocabulary -> {name}", "a word list needs at least one word")
             continue
@@ -606,27 +440,27 @@ def _vocabulary(p: _Problems, node: _Node | None) -> dict[str, str]:
 
 def parse_concepts(text: str, file: str, *, compile_regexes: bool = True) -> dict[str, Concept]:
     """The concept library: every concept by id, validated like a checklist (all problems at once)."""
-    p = _Problems(file, compile_regexes)
-    root = _compose(text, file)
-    top = _keys(p, root, "", {"id", "version", "concepts"}, {"description", "vocabulary"})
+    p = Problems(file, compile_regexes)
+    root = compose(text, file)
+    top = fields_of(p, root, "", {"id", "version", "concepts"}, {"description", "vocabulary"})
     p.vocabulary = _vocabulary(p, top.get("vocabulary"))
     out: dict[str, Concept] = {}
-    if "concepts" in top and _expect(p, top["concepts"], "concepts", list):
+    if "concepts" in top and expect_type(p, top["concepts"], "concepts", list):
         for i, cnode in enumerate(top["concepts"].value):
             path = f"concepts[{i}]"
-            if isinstance(cnode.value, dict) and isinstance(cnode.value.get("id", (None, _Node(None, 0, 0)))[1].value,
+            if isinstance(cnode.value, dict) and isinstance(cnode.value.get("id", (None, Node(None, 0, 0)))[1].value,
                                                             str):
                 path = f'concept "{cnode.value["id"][1].value.strip()}"'
-            fields = _keys(p, cnode, path, {"id", "facets"}, {"needs", "applies_when", "note"})
+            fields = fields_of(p, cnode, path, {"id", "facets"}, {"needs", "applies_when", "note"})
             if not fields:
                 continue
-            cid = _text(p, fields.get("id"), _join(path, "id"))
+            cid = text_of(p, fields.get("id"), join_path(path, "id"))
             if cid and not ITEM_ID.match(cid):
-                p.add(fields["id"], _join(path, "id"), "a concept id is a dotted lower-case slug such as 'data.source'")
+                p.add(fields["id"], join_path(path, "id"), "a concept id is a dotted lower-case slug such as 'data.source'")
             if cid in out:
-                p.add(fields["id"], _join(path, "id"), f"duplicate concept id {cid!r}")
+                p.add(fields["id"], join_path(path, "id"), f"duplicate concept id {cid!r}")
             facets = _facets(p, fields, path)
-            needs = _needs(p, fields.get("needs"), _join(path, "needs"), [f.id for f in facets])
+            needs = _needs(p, fields.get("needs"), join_path(path, "needs"), [f.id for f in facets])
             out[cid] = Concept(cid, tuple(facets), needs, _applies(p, fields, path))
     if p.items:
         raise ChecklistError(p.lines())
@@ -652,14 +486,14 @@ def parse_checklist(text: str, file: str, *, compile_regexes: bool = True,
 
     Items may name a concept of the library (`concept: data.source`); `concepts` defaults to the built-in one.
     """
-    p = _Problems(file, compile_regexes)
-    root = _compose(text, file)
+    p = Problems(file, compile_regexes)
+    root = compose(text, file)
     if concepts is None and "concept:" in text:
         concepts = builtin_concepts(strict=compile_regexes)
 
-    top = _keys(p, root, "", {"id", "title", "version", "items"},
+    top = fields_of(p, root, "", {"id", "title", "version", "items"},
                 {"document_kinds", "groups", "description", "choose_when"})
-    cid = _text(p, top.get("id"), "id")
+    cid = text_of(p, top.get("id"), "id")
     if cid and not SLUG.match(cid):
         p.add(top["id"], "id", "a checklist id is a lower-case slug such as 'validation-study'")
     version_node = top.get("version")
@@ -668,23 +502,23 @@ def parse_checklist(text: str, file: str, *, compile_regexes: bool = True,
         if isinstance(version_node.value, (int, float)) and not isinstance(version_node.value, bool):
             version = str(version_node.value)
         else:
-            version = _text(p, version_node, "version")
+            version = text_of(p, version_node, "version")
     groups: list[Group] = []
-    if "groups" in top and _expect(p, top["groups"], "groups", list):
+    if "groups" in top and expect_type(p, top["groups"], "groups", list):
         for i, gnode in enumerate(top["groups"].value):
-            gf = _keys(p, gnode, f"groups[{i}]", {"id", "title"}, set())
-            gid = _text(p, gf.get("id"), f"groups[{i}] -> id")
+            gf = fields_of(p, gnode, f"groups[{i}]", {"id", "title"}, set())
+            gid = text_of(p, gf.get("id"), f"groups[{i}] -> id")
             if gid and not SLUG.match(gid):
                 p.add(gf["id"], f"groups[{i}] -> id", "a group id is a lower-case slug")
             if gid in {g.id for g in groups}:
                 p.add(gf.get("id"), f"groups[{i}] -> id", f"duplicate group id {gid!r}")
-            groups.append(Group(gid, _text(p, gf.get("title"), f"groups[{i}] -> title")))
+            groups.append(Group(gid, text_of(p, gf.get("title"), f"groups[{i}] -> title")))
     choose = Cues()
     if "choose_when" in top:
-        choose, _ = _cue_block(p, top["choose_when"], "choose_when")
+        choose, _ = cue_block(p, top["choose_when"], "choose_when")
     items: list[Item] = []
-    if "items" in top and _expect(p, top["items"], "items", list):
-        seen: dict[str, _Node] = {}
+    if "items" in top and expect_type(p, top["items"], "items", list):
+        seen: dict[str, Node] = {}
         for i, inode in enumerate(top["items"].value):
             it = _item(p, inode, f"items[{i}]", {g.id for g in groups}, concepts)
             if it is None:
@@ -700,13 +534,13 @@ def parse_checklist(text: str, file: str, *, compile_regexes: bool = True,
         raise ChecklistError(p.lines())
     return Checklist(
         id=cid,
-        title=_text(p, top.get("title"), "title"),
+        title=text_of(p, top.get("title"), "title"),
         version=version,
-        document_kinds=_texts(p, top.get("document_kinds"), "document_kinds"),
+        document_kinds=texts_of(p, top.get("document_kinds"), "document_kinds"),
         groups=tuple(groups) or tuple(Group(g, g) for g in dict.fromkeys(it.group for it in items)),
         items=tuple(items),
         path=file,
-        description=_text(p, top.get("description"), "description", required=False),
+        description=text_of(p, top.get("description"), "description", required=False),
         choose_when=choose,
     )
 

@@ -394,7 +394,7 @@ _IRREGULAR = {
 }
 
 
-def _singular(word: str) -> str:
+def singular(word: str) -> str:
     w = word.lower()
     if w in _IRREGULAR:
         return _IRREGULAR[w]
@@ -476,12 +476,12 @@ def _noun_after(text: str, pos: int, value: float | int | None = None) -> tuple[
             break  # a rate such as "cm/s", not a thing counted
         if lw in _STOP:
             # "left and right adrenal glands": a coordination of modifiers, not of counted things
-            if lw in ("and", "or") and words and not any(_known(_singular(x)) for x, _, _ in words) \
+            if lw in ("and", "or") and words and not any(_known(singular(x)) for x, _, _ in words) \
                     and not _plural_looking(words[-1][0]):
                 i = m.end()
                 continue
             break
-        lem = _singular(w)
+        lem = singular(w)
         if words and not _known(lem) and (
                 (lw.endswith("ly") and len(lw) > 4) or (lw.endswith("ed") and len(lw) > 4)):
             break  # "3 radiologists independently", "3 graders blinded to"
@@ -496,9 +496,9 @@ def _noun_after(text: str, pos: int, value: float | int | None = None) -> tuple[
         # three comparators agrees"), since compounds put their plural last ("image patches", "disease labels");
         # a vendor name before a plural is a modifier ("two Philips scanners")
         if _plural_looking(w) and not (w[:1].isupper() and k + 1 < len(words) and _plural_looking(words[k + 1][0])):
-            return _singular(w), e
+            return singular(w), e
     for w, _s, e in reversed(words):
-        lem = _singular(w)
+        lem = singular(w)
         if _known(lem):
             return lem, e
     w, _s, e = words[-1]
@@ -509,7 +509,7 @@ def _noun_after(text: str, pos: int, value: float | int | None = None) -> tuple[
         return None
     if value == 1 and lw.endswith("er"):
         return None  # "one step closer"
-    return _singular(w), e
+    return singular(w), e
 
 
 # --- contexts where a number is no count ----------------------------------------------------------------------
@@ -1007,9 +1007,9 @@ def _n_facts(text: str) -> list[_Cand]:
             out.append(_cand("count", v, m.start(), noun[1], [(s, e)], noun[0], prio="n"))
             continue
         nb = _NOUN_BEFORE_N.search(text[max(0, m.start() - 40):m.start()])
-        if nb and (_known(_singular(nb.group("w"))) or _plural_looking(nb.group("w"))) \
+        if nb and (_known(singular(nb.group("w"))) or _plural_looking(nb.group("w"))) \
                 and nb.group("w").lower() not in _STOP:
-            out.append(_cand("count", v, m.start(), m.end(), [(s, e)], _singular(nb.group("w")), prio="n"))
+            out.append(_cand("count", v, m.start(), m.end(), [(s, e)], singular(nb.group("w")), prio="n"))
         else:
             out.append(_cand("n", v, m.start(), m.end(), [(s, e)]))
     return out

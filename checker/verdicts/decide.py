@@ -37,14 +37,14 @@ def facet_hits(scan: Scan, ii: int, fi: int, facet: Facet, threshold: float = FO
     for h in cue_hits:
         if h.sentence in unless:
             continue
-        if near_sents is not None and not _near(scan, h.sentence, near_sents, facet.near.within):
+        if near_sents is not None and not is_near(scan, h.sentence, near_sents, facet.near.within):
             continue
         valid.append(h)
     score = max((facet.weight * scan.weight(h.sentence) for h in valid), default=0.0)
     return FacetHits(facet, tuple(valid), score, threshold)
 
 
-def _near(scan: Scan, s: int, others: set[int], within: int) -> bool:
+def is_near(scan: Scan, s: int, others: set[int], within: int) -> bool:
     section = scan.sections[s]
     block = scan.sentences[s].block
     for t in range(s - within, s + within + 1):
