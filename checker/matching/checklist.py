@@ -20,7 +20,7 @@ from .marked import Node, Problems, closest, compose, expect_type, fields_of, jo
 MAX_FILE_BYTES = 5 * 1024 * 1024
 
 #: files beside the checklists that are not checklists: the cross-item rules and the concept library
-NOT_CHECKLISTS = frozenset({"rules.yaml", "concepts.yaml", "fitted.yaml"})
+NOT_CHECKLISTS = frozenset({"rules.yaml", "concepts.yaml", "fitted.yaml", "words.yaml"})
 CONCEPTS_FILE = "concepts.yaml"
 SLUG = re.compile(r"^[a-z0-9][a-z0-9-]*$")
 ITEM_ID = re.compile(r"^[a-z0-9][a-z0-9-]*(\.[a-z0-9][a-z0-9-]*)+$")

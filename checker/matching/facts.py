@@ -14,6 +14,7 @@ from typing import Any
 import regex
 
 from . import regexcache
+from .words import builtin_words
 
 __all__ = [
     "NUMBER", "DECIMAL", "UNIT", "PERCENT", "MACROS", "expand_macros", "parse_number", "Quantity",
@@ -362,36 +363,12 @@ class Fact:
 
 # --- nouns ---------------------------------------------------------------------------------------------------
 
-#: things validation documents count; a head noun from here wins over words after it ("3 radiologists read")
-_KNOWN_NOUNS = frozenset("""
-image patch tile slide frame video scan volume slice series study exam examination case patient subject
-participant volunteer person individual child adult man woman mouse rat animal population sample specimen
-lesion nodule tumor tumour polyp cell nucleus fracture gland organ structure tissue vessel segment landmark region roi
-label class category annotation segmentation mask contour outline box instance object tooth vertebra eye breast kidney
-liver lung heart brain mammogram radiograph x-ray ct mri pet ultrasound biopsy record report recording visit session
-site centre center hospital institution clinic country vendor scanner device machine manufacturer model method
-algorithm approach network architecture submission team group entry baseline competitor fold split set subset dataset
-database collection cohort archive source trial repetition run seed iteration epoch round phase stage task track
-challenge benchmark metric measure score criterion feature parameter layer channel year month week day hour minute
-second reader rater annotator observer grader labeler labeller expert specialist clinician physician doctor surgeon
-resident fellow student technician technologist sonographer nurse analyst scientist researcher worker member
-organiser organizer reviewer author user operator radiologist pathologist ophthalmologist dermatologist cardiologist
-oncologist neurologist endocrinologist neuroradiologist dentist neuroscientist biologist anatomist physicist shape
-pair word sentence document question item page disease diagnosis condition finding abnormality
-pathology type view projection modality sequence protocol point pixel voxel mesh graph node edge
-value gpu cpu core paper computer container folder server filter marker cluster chapter encoder decoder
-""".split())
+#: the word lists below are data: checklists/words.yaml (see checker.matching.words)
+_WORDS_DATA = builtin_words()
+_KNOWN_NOUNS = _WORDS_DATA.set("known-nouns")
 _PERSON_SUFFIX = regexcache.compile(r"(?:ologist|ician|iatrist|ographer|ist)$")
 
-_IRREGULAR = {
-    "children": "child", "people": "person", "men": "man", "women": "woman", "mice": "mouse", "teeth": "tooth",
-    "feet": "foot", "criteria": "criterion", "phenomena": "phenomenon", "data": "data", "nuclei": "nucleus",
-    "foci": "focus", "radii": "radius", "vertebrae": "vertebra", "analyses": "analysis", "diagnoses": "diagnosis",
-    "prognoses": "prognosis", "hypotheses": "hypothesis", "syntheses": "synthesis", "axes": "axis",
-    "indices": "index", "matrices": "matrix", "vertices": "vertex", "appendices": "appendix", "series": "series",
-    "species": "species", "lenses": "lens", "stimuli": "stimulus", "metastases": "metastasis",
-    "stenoses": "stenosis", "viruses": "virus", "statuses": "status", "corpora": "corpus", "bases": "base",
-}
+_IRREGULAR = _WORDS_DATA.maps["irregular-plurals"]
 
 
 def singular(word: str) -> str:
@@ -409,9 +386,7 @@ def singular(word: str) -> str:
     return w
 
 
-#: words ending in s that are not plurals
-_SINGULAR_S = frozenset("atlas bias gas canvas alias pancreas thorax lens news physics diabetes means chaos "
-                        "this its thus perhaps whereas always sometimes".split())
+_SINGULAR_S = _WORDS_DATA.set("singular-words-ending-in-s")
 
 
 def _plural_looking(word: str) -> bool:
@@ -426,21 +401,8 @@ def _known(lemma: str) -> bool:
         len(lemma) >= 6 and _PERSON_SUFFIX.search(lemma) is not None)
 
 
-#: words that end the noun phrase after a number: function words, common verbs and words that make it no count
-_STOP = frozenset("""
-of from with without in into at on onto for to by and or but nor as than then that which who whom whose where when
-while per each every the a an this these those its their our his her my your is are was were be been being has have
-had do does did will would can could may might must should shall not no more less fewer most least about after
-before over under between among across through during via vs versus also only both either all any some such other
-others another out up down here there it we they he she i you so if respectively times time et al ie eg etc
-onwards onward afterwards towards backwards upwards forwards worldwide overall
-denotes represents indicates shows contains includes comprises means refers corresponds yields gives takes makes
-uses requires remains appears becomes describes provides allows needs seems leads depends consists belongs exists
-occurs varies ranges covers produces reaches achieves performs outperforms exceeds receives obtains follows
-""".split())
-#: heads that are never what a number counts
-_BAD_HEAD = frozenset("different separate additional main major minor independent distinct similar same total "
-                      "new old previous further extra various several".split())
+_STOP = _WORDS_DATA.set("noun-phrase-stops")
+_BAD_HEAD = _WORDS_DATA.set("never-counted-heads")
 
 _WORD_TOKEN = regexcache.compile(r"(?:\p{L}[\p{L}\p{N}]*|\p{N}+\p{L}[\p{L}\p{N}]*)(?:[-'’/][\p{L}\p{N}]+)*")
 _ABBREV = regexcache.compile(r"\(\p{Lu}[\p{L}\p{N}\-]{0,9}\)")
@@ -514,17 +476,7 @@ def _noun_after(text: str, pos: int, value: float | int | None = None) -> tuple[
 
 # --- contexts where a number is no count ----------------------------------------------------------------------
 
-_LABELS = (
-    r"fig|figs|figure|figures|table|tables|tab|tabs|eq|eqs|equation|equations|section|sections|sec|secs|§|chapter|"
-    r"chapters|chap|appendix|appendices|app|algorithm|alg|line|lines|page|pages|p|pp|step|steps|theorem|lemma|"
-    r"corollary|proposition|definition|ref|refs|reference|references|no|nr|number|item|task|tasks|"
-    r"track|phase|round|stage|grade|level|levels|class|category|type|group|arm|experiment|exp|setting|scenario|"
-    r"version|ver|v|release|rev|revision|patient|case|subject|participant|slice|layer|epoch|iteration|visit|"
-    r"session|run|trial|site|centre|center|hospital|scanner|dataset|part|unit|module|block|panel|row|column|col|"
-    r"supplementary|suppl|formula|cohort|python|pytorch|tensorflow|matlab|cuda|ubuntu|windows|java|opencv|keras|"
-    r"numpy|itk|slicer|bi-rads|pi-rads|birads|pirads|gleason|isup|grade|tnm|icd|model|option|question|"
-    r"rule|criterion|day|week|month|year"
-)
+_LABELS = "|".join(_WORDS_DATA.lists["number-labels"])
 _LABEL_BEFORE = _back(rf"(?:^|[^\p{{L}}\p{{N}}])(?:{_LABELS})\.?\s*\(?\s*(?:\d+\s*(?:,|and|&|or|[-–])\s*)*$")
 _MONTH = r"(?-i:Jan|Feb|Mar|Apr|May|Jun|Jul|Aug|Sep|Sept|Oct|Nov|Dec)(?-i:[a-z]*)\.?"
 _MONTH_BEFORE = _back(rf"(?:^|\W){_MONTH}\s*$")
@@ -731,7 +683,7 @@ _SPLIT_CTX = _c(r"\b(?:split\w*|partition\w*|divid\w*|division|train\w*|valid\w*
                 r"held[-\s]?out|hold[-\s]?out|holdout|tuning)\b")
 
 
-_SPLIT_WORDS = frozenset("split set subset fold partition ratio proportion".split())
+_SPLIT_WORDS = _WORDS_DATA.set("split-words")
 
 
 def _date_like(vals: list, texts: list[str]) -> bool:

@@ -5,6 +5,10 @@ from __future__ import annotations
 import regex
 
 from ..matching.checklist import compile_regex
+from ..matching.words import builtin_words
+
+#: the word lists are data: checklists/words.yaml (see checker.matching.words)
+_WORDS = builtin_words()
 
 
 def _rx(src: str) -> regex.Pattern:
@@ -37,61 +41,29 @@ def split_of(word: str) -> str:
     return ""
 
 
-#: counted nouns (singular, as facts.py gives them) -> (quantity, unit group)
-CASE_UNITS = {
-   **dict.fromkeys(["patient", "subject", "participant", "individual", "person", "volunteer"], "patient"),
-   "case": "case",
-   **dict.fromkeys(["image", "radiograph", "mammogram", "photograph", "x-ray", "b-scan", "picture"], "image"),
-   **dict.fromkeys(["scan", "volume", "ct", "mri"], "scan"),
-   **dict.fromkeys(["examination", "exam", "study"], "examination"),
-   "series": "series",
-   **dict.fromkeys(["slide", "wsi"], "slide"),
-   **dict.fromkeys(["lesion", "nodule", "tumor", "tumour", "polyp"], "lesion"),
-   "eye": "eye", **dict.fromkeys(["cell", "nucleus"], "cell"), **dict.fromkeys(["patch", "tile"], "patch"),
-   "video": "video", "frame": "frame", "recording": "recording", "sample": "sample", "specimen": "specimen",
-   "gland": "gland", "tooth": "tooth", "sequence": "sequence", "visit": "visit",
-}
+CASE_UNITS = _WORDS.groups["case-units"]
 
 
-ANNOTATOR_UNITS = {
-   **dict.fromkeys(["annotator", "rater", "grader", "observer", "labeler", "labeller"], "annotator"),
-   "reader": "reader", "expert": "expert",
-}
+ANNOTATOR_UNITS = _WORDS.groups["annotator-units"]
 
 
 PROFESSION = regex.compile(r"(?:ologist|iatrist|ographer|ician|surgeon|resident|student|specialist|nurse|"
                            r"technician|technologist)$")
 
 
-SITE_UNITS = {w: "site" for w in ("site", "centre", "center", "hospital", "institution", "clinic", "institute")}
+SITE_UNITS = _WORDS.groups["site-units"]
 
 
-METHOD_UNITS = {
-   **dict.fromkeys(["method", "algorithm", "approach", "model", "detector", "network", "architecture", "pipeline",
-                    "technique", "classifier", "segmenter", "tool", "system"], "method"),
-   **dict.fromkeys(["team", "submission", "entry"], "team"),
-}
+METHOD_UNITS = _WORDS.groups["method-units"]
 
 
-#: words between a number and its noun that make the count a subset, not the size of a split or the whole
-SUBSET_WORDS = frozenset("""
-positive negative malignant benign healthy normal abnormal fractured diseased affected male female excluded
-additional remaining other new misclassified missed failed difficult challenging unlabelled unlabeled extra
-further more fewer synthetic augmented duplicate duplicated low-quality discarded removed rejected incorrect
-correct false true detected undetected small large mild moderate severe first last top best worst selected
-random representative example sample
-""".split())
+SUBSET_WORDS = _WORDS.set("subset-words")
 
 
-SITE_SUBSET = frozenset("other additional external partner new remaining first last further neighbouring "
-                        "neighboring nearby different".split())
+SITE_SUBSET = _WORDS.set("site-subset-words")
 
 
-METHOD_SUBSET = frozenset("""
-other remaining competing published baseline existing previous prior state-of-the-art sota top best first last
-additional alternative comparison reference selected leading winning best-performing top-performing our proposed
-ranked top-ranked best-ranked participating
-""".split())
+METHOD_SUBSET = _WORDS.set("method-subset-words")
 
 
 APPROX_BEFORE = _rx(r"(?:\babout|\bapproximately|\bapprox\.?|\baround|\broughly|\bnearly|\balmost|\bover|"
@@ -159,11 +131,7 @@ SUBSET_AFTER = _rx(r"^\s*(?:,\s*)?(?:with(?!\s+{NUMBER})|without|who|whose|that|
 VERB_AFTER = _rx(r"^\s*(?:were|was|are|is)\s+(?P<verb>[a-z-]+)")
 
 
-STATEMENT_VERBS = frozenset("""
-used included held reserved assigned allocated selected chosen kept set available randomly drawn sampled
-annotated labelled labeled segmented read evaluated analysed analyzed assessed tested split divided
-enrolled collected acquired retained obtained considered provided released given
-""".split())
+STATEMENT_VERBS = _WORDS.set("statement-verbs")
 
 
 BREAKDOWN_AFTER = _rx(r"^[^.;]{0,60}?\b(?:and|while|whereas|,)\s+{NUMBER}\s+(?:(?:were|was|had|on|in|at|from|with|"
@@ -175,11 +143,7 @@ BREAKDOWN_AFTER = _rx(r"^[^.;]{0,60}?\b(?:and|while|whereas|,)\s+{NUMBER}\s+(?:(
 CHAIN = _rx(r"^\s*(?:\(\s*(?:i\.e\.,?\s*|n\s*=\s*)?|from\s+|of\s+|with\s+)$")
 
 
-#: words before "dataset"/"cohort" that make it a part of the collection, not the whole of it
-PART_PRE = frozenset("""
-scoring preliminary evaluation tuning calibration pilot practice sample example subset additional external
-independent second third another synthetic toy small reduced sub hidden leaderboard reader demo debug
-""".split())
+PART_PRE = _WORDS.set("part-of-collection-words")
 
 
 #: a document with several test sets (per task, per dataset) states several test-set sizes that do not conflict
@@ -243,15 +207,10 @@ LIST_NUMS_FIRST = _rx(_NUMS + r"(?:\s+(?P<noun>[\w-]+(?:\s+[\w-]+){0,2}?))?\s+(?
 SKIP_ROLES = frozenset({"introduction", "related-work", "discussion", "limitations", "references"})
 
 
-#: words before "test set" that leave it the one test set of the study
-NEUTRAL_QUALIFIERS = frozenset("""
-the a an our this that its their whole entire full final same separate independent held-out hold-out holdout blind
-blinded hidden sequestered official predefined pre-defined fixed random randomly respective locked untouched in into
-of and with to as for on from comprised consisting containing called named
-""".split())
+NEUTRAL_QUALIFIERS = _WORDS.set("neutral-test-set-qualifiers")
 
 
-LIST_STOP = frozenset("on a an the at per of in for with by and or respectively were are was is to from".split())
+LIST_STOP = _WORDS.set("list-stop-words")
 
 
 SHARE_OF = _rx(r"(?P<n>\d[\d,]*)\s*(?:/|\bof\b|\bout\s+of\b)\s*(?:the\s+)?(?P<m>\d[\d,]*)(?:\s+[\w-]+){0,3}?\s*"
