@@ -32,7 +32,8 @@ from pathlib import Path
 from .core.config import Config
 from .core.limits import Limits
 from .matching.regexcache import cache_dir, pickle_atomically, read_signed
-from .verdicts.report import STATUS_ORDER, Report
+from .core.status import STATUS_ORDER
+from .verdicts.report import Report
 
 _MAX_ENTRIES = 500
 _FORMAT = "2"  # bump when the stored form of a Report changes

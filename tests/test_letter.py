@@ -71,7 +71,8 @@ def test_partial_request_asks_only_for_what_is_missing():
     it = next(i for i in cl.items if i.id == "methods.implementation")
     facets = tuple(FacetResult(f.id, f.title, i == 0, 1.0 if i == 0 else 0.0, 1 if i == 0 else 0)
                    for i, f in enumerate(it.facets))
-    item = ItemResult(it.id, it.group, it.title, it.question, it.ask, "partial", facets, (), (), "found: software")
+    item = ItemResult(it.id, it.group, it.title, it.question, it.ask, "partial", facets, (), (), "found: software",
+                      lacking=(it.facets[1].title,))
     text = request(item, _report("validation-study", (item,)))
     assert f"could you also report {it.facets[1].title}?" in text
     assert " ".join(it.ask.split())[:40] not in text  # the item's whole request (every setting it lists) is not repeated

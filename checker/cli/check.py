@@ -7,6 +7,7 @@ import sys
 from pathlib import Path
 
 from ..core.errors import ExitCode, StudygapError, UsageError
+from ..core.status import MISSING, is_gap
 from .options import add_limit_options, color, limits_from, write_output
 
 DESCRIPTION = """The gap report for each document: per checklist item a status (reported, partial, missing,
@@ -112,7 +113,7 @@ def run(args) -> int:
 
 def _fail_code(reports, fail_on: str | None) -> int:
     if fail_on:
-        bad = {"missing"} if fail_on == "missing" else {"missing", "partial"}
-        if any(it.status in bad for r in reports for it in r.items):
+        over = (lambda s: s == MISSING) if fail_on == "missing" else is_gap
+        if any(over(it.status) for r in reports for it in r.items):
             return ExitCode.ITEMS_OVER_THRESHOLD
     return ExitCode.OK

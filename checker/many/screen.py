@@ -10,7 +10,7 @@ from pathlib import Path
 from typing import Any, ClassVar, Sequence
 
 from .batch import BatchResult
-from ..verdicts.report import STATUS_ORDER
+from ..core.status import PARTIAL, REPORTED, STATUS_ORDER, applies
 from ..core.cautions import CAUTIONS
 
 SCORE_NOTE = ("completeness = (reported + half of partial) / applicable items; not-applicable and waived items "
@@ -126,10 +126,10 @@ class Screen:
 
 def completeness(statuses: Sequence[str]) -> float | None:
     """(reported + half of partial) / applicable; None when no item applies."""
-    applicable = [s for s in statuses if s in ("reported", "partial", "missing")]
+    applicable = [s for s in statuses if applies(s)]
     if not applicable:
         return None
-    return (sum(1 for s in applicable if s == "reported") + 0.5 * sum(1 for s in applicable if s == "partial")) \
+    return (sum(1 for s in applicable if s == REPORTED) + 0.5 * sum(1 for s in applicable if s == PARTIAL)) \
         / len(applicable)
 
 

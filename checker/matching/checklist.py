@@ -25,7 +25,6 @@ CONCEPTS_FILE = "concepts.yaml"
 SLUG = re.compile(r"^[a-z0-9][a-z0-9-]*$")
 ITEM_ID = re.compile(r"^[a-z0-9][a-z0-9-]*(\.[a-z0-9][a-z0-9-]*)+$")
 FACET_ID = re.compile(r"^[a-z0-9][a-z0-9_-]*$")
-STATUSES = ("reported", "partial", "missing", "not-applicable", "waived")
 
 #: token attributes the light pipeline fills (no tagger, parser or entity recogniser)
 TOKEN_ATTRS = frozenset(

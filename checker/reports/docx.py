@@ -9,6 +9,7 @@ from collections.abc import Sequence
 from datetime import datetime, timezone
 
 from ..core.cautions import CAUTIONS
+from ..core.status import GAPS_FIRST, is_gap
 from ..verdicts.report import Evidence, ItemResult, Report
 from .words import glyph, word
 
@@ -18,7 +19,6 @@ COLUMNS = ("Item", "Question", "Status", "Where reported", "Quoted evidence", "R
 #: longest status ("– not applicable") on one line at 9 pt
 WIDTHS = (3.4, 4.4, 2.8, 2.9, 6.4, 4.2, 3.6)
 #: rows in this order: gaps first, so the authors answer them first
-ROW_ORDER = ("missing", "partial", "reported", "not-applicable", "waived")
 
 
 def report_date() -> datetime:
@@ -90,7 +90,7 @@ def _row(table, it: ItemResult, r: Report, verbose: bool) -> None:
     cells[4].text = ""  # quotes only
     for i, ev in enumerate(shown):
         _quote_runs(cells[4].paragraphs[0] if i == 0 else cells[4].add_paragraph(), ev)
-    cells[5].text = _clean(it.ask) if it.status in ("missing", "partial") and it.ask else ""
+    cells[5].text = _clean(it.ask) if is_gap(it.status) and it.ask else ""
     cells[6].text = ""
 
 
@@ -106,7 +106,7 @@ def _document(doc, r: Report, verbose: bool, when: datetime) -> None:
         ("Document", f"{r.document_path} ({r.document_format}{pages}, {r.words:,} words)"),
         ("Checklist", f"{r.checklist_title} ({r.checklist_id}, version {r.checklist_version})"),
         ("Date", when.strftime("%Y-%m-%d")),
-        ("Items", ", ".join(f"{counts[s]} {word(s)}" for s in ROW_ORDER)),
+        ("Items", ", ".join(f"{counts[s]} {word(s)}" for s in GAPS_FIRST)),
         ("Checked by", f"studygap {r.tool_version}"),
     ):
         cells = meta.add_row().cells
@@ -132,7 +132,7 @@ def _document(doc, r: Report, verbose: bool, when: datetime) -> None:
         cell.text = name
         cell.paragraphs[0].runs[0].bold = True
     repeat_header(table.rows[0])
-    for status in ROW_ORDER:
+    for status in GAPS_FIRST:
         for it in r.items:
             if it.status == status:
                 _row(table, it, r, verbose)

@@ -10,7 +10,8 @@ from html import escape
 
 from ..core.cautions import CAUTIONS
 from ..verdicts.report import Evidence, ItemResult, Report
-from .words import GAPS_FIRST, GLYPHS, heading, status_checkboxes
+from ..core.status import GAPS_FIRST, is_gap
+from .words import GLYPHS, heading, status_checkboxes
 
 #: status -> (heading word, glyph shown beside the word): the one vocabulary of words.py
 LABELS = {s: (heading(s), GLYPHS[s]) for s in GAPS_FIRST}
@@ -145,7 +146,7 @@ def _item(it: ItemResult, r: Report, verbose: bool) -> str:
     if it.facts:
         facts = "; ".join(f"{e(name)} = {e(', '.join(x.text for x in fs))}" for name, fs in it.facts)
         parts.append(f'<p class="facts">Facts: {facts}</p>')
-    if it.status in ("missing", "partial") and it.ask:
+    if is_gap(it.status) and it.ask:
         parts.append(f'<p class="ask"><strong>Request:</strong> {e(it.ask)}</p>')
     parts.append("</article>")
     return "\n".join(parts)

@@ -8,6 +8,7 @@ from collections.abc import Sequence
 
 from ..core.cautions import CAUTIONS
 from ..core.errors import visible
+from ..core.status import is_gap
 from ..verdicts.report import Evidence, FacetResult, ItemResult, Report
 from .words import heading, word
 
@@ -101,7 +102,7 @@ def request(item: ItemResult, r: Report) -> str:
             ev = _first_evidence_of(item, f)
             bits.append(f"{_object(f.title)} ({escape(place(ev, r))})" if ev else _object(f.title))
         head = "We found " + _join(bits) if bits else "Part of this is reported"
-        lacking = lacking_parts(item)
+        lacking = item.lacking
         if lacking:
             return f"{title} {head}; could you also report {_join([_object(t) for t in lacking])}?"
         return f"{title} {head}. {_sentence(item.ask) if item.ask else ''}".rstrip()
@@ -120,21 +121,12 @@ def _object(title: str) -> str:
     return f"that this is {text}" if _PARTICIPLE_START.match(text) else text
 
 
-def lacking_parts(item: ItemResult) -> list[str]:
-    """What a partial item still lacks: the parts its reason names after "not found:" (the verdict's best way to
-    complete the item, leaving out other ways it could have been met), else every facet not found."""
-    _, sep, tail = item.reason.partition("not found: ")
-    if sep and tail.strip():
-        return [t.strip() for t in tail.split(";") if t.strip()]
-    return [f.title for f in item.facets if not f.found]
-
-
 def ranked_gaps(r: Report) -> list[ItemResult]:
     """Missing and partial items, most important first: by the group's rank for this kind of document, then missing
     before partial, then checklist order."""
     order = GROUP_PRIORITY.get(r.checklist_id) or tuple(g for g, _ in r.groups)
     rank = {g: i for i, g in enumerate(order)}
-    gaps = [(n, it) for n, it in enumerate(r.items) if it.status in ("partial", "missing")]
+    gaps = [(n, it) for n, it in enumerate(r.items) if is_gap(it.status)]
     gaps.sort(key=lambda p: (rank.get(p[1].group, len(rank)), 0 if p[1].status == "missing" else 1, p[0]))
     return [it for _, it in gaps]
 

@@ -18,10 +18,9 @@ from html import escape
 
 from ..core.cautions import CAUTIONS
 from ..many.screen import SCORE_NOTE, Screen, ScreenChecklist, ScreenRow, short_names
-from ..verdicts.report import STATUS_ORDER
-from .words import GAPS_FIRST, GLYPHS, MEANINGS, WORDS, glyph, status_checkboxes, word
+from ..core.status import GAPS_FIRST, STATUS_ORDER, is_gap
+from .words import GLYPHS, MEANINGS, WORDS, glyph, status_checkboxes, word
 
-STATUSES = ("reported", "partial", "missing", "not-applicable", "waived")
 
 #: the neutral scale shared with the single-document page (html.py): ink and tints of one slate hue
 PALETTE = """--ink:#1f2733;--soft:#5b6473;--line:#d5dae2;--paper:#fff;--band:#f2f4f7;--band2:#e8ecf1;
@@ -259,9 +258,9 @@ def _detail(num: int, k: int, r: ScreenRow, c: ScreenChecklist, name: str) -> st
         parts.append(f'<blockquote>{e(text)}<span class="where">{e(where)}</span></blockquote>')
     if cell.facts:
         parts.append(f'<p class="meta">Facts: {e(cell.facts)}</p>')
-    if cell.status in ("missing", "partial") and cell.looked_for:
+    if is_gap(cell.status) and cell.looked_for:
         parts.append(f"<p><strong>Looked for and not found:</strong> {e('; '.join(cell.looked_for))}.</p>")
-    if cell.status in ("missing", "partial") and cell.question:
+    if is_gap(cell.status) and cell.question:
         parts.append(f'<p class="meta">The item asks: {e(cell.question)}</p>')
     parts.append("</div>")
     return "".join(parts)
@@ -377,7 +376,7 @@ def render_html(screen: Screen, options=None) -> str:
     else:
         title = "Screening: " + (screen.checklist_title or "no document could be read")
     legend = "".join(f'<li><span class="g" style="--t:var(--t-{s})">{GLYPHS[s]}</span> {e(WORDS[s])}: '
-                     f"{e(MEANINGS[s])}</li>" for s in STATUSES)
+                     f"{e(MEANINGS[s])}</li>" for s in STATUS_ORDER)
     controls = ['<fieldset class="controls" id="controls" hidden><legend>Show</legend>',
                 '<div role="group" aria-label="by status"><strong>Status:</strong>']
     controls += status_checkboxes()
@@ -461,7 +460,7 @@ def render_docx(screen: Screen, options=None) -> bytes:
     doc.add_heading("Screening table", level=0)
     doc.add_paragraph(f"{summary_line(screen, False)}; {when.strftime('%Y-%m-%d')}. Checklist: "
                       f"{screen.checklist_note}")
-    doc.add_paragraph("Signs: " + "; ".join(f"{GLYPHS[s]} {WORDS[s]}" for s in STATUSES)
+    doc.add_paragraph("Signs: " + "; ".join(f"{GLYPHS[s]} {WORDS[s]}" for s in STATUS_ORDER)
                       + f". Score: {SCORE_NOTE}.")
     text_width = 27.7
     words_fit = True

@@ -11,7 +11,8 @@ from rich.text import Text
 
 from ..core.cautions import CAUTIONS
 from ..core.errors import visible
-from ..verdicts.report import STATUS_ORDER, Evidence, Report
+from ..core.status import STATUS_ORDER, applies, is_gap
+from ..verdicts.report import Evidence, Report
 from .words import glyph, word
 
 #: status -> style: one neutral scale, gaps in bold; the glyph and the word are always printed, so style is never
@@ -83,7 +84,7 @@ def render_one(r: Report, console: Console, verbose: bool) -> None:  # noqa: C90
         for ev in shown:
             _indented(console, Text(visible(ev.location.describe(r.document_path)), style="dim"))
             _indented(console, _quote(ev, limit=10_000 if verbose else 320))
-        if it.status in ("partial", "missing", "not-applicable", "waived") or verbose:
+        if is_gap(it.status) or not applies(it.status) or verbose:
             _indented(console, Text(it.reason, style="italic"))
         if verbose:
             for f in it.facets:

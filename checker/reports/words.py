@@ -9,6 +9,8 @@ always there too.
 
 from __future__ import annotations
 
+from ..core.status import GAPS_FIRST
+
 #: contract value -> the word shown in every format
 WORDS = {
     "reported": "reported",
@@ -33,8 +35,6 @@ MEANINGS = {
     "not-applicable": "the item does not apply to this document",
     "waived": "the item was waived in the settings, with a reason",
 }
-#: gaps first: the order lists and forms follow
-GAPS_FIRST = ("missing", "partial", "reported", "not-applicable", "waived")
 
 
 def word(status: str) -> str:

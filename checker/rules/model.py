@@ -11,6 +11,7 @@ from ..verdicts.report import Finding
 
 if TYPE_CHECKING:
     from ..matching.matcher import Scan
+    from .numbers import RunContext
 
 
 BUILTIN = "rules.yaml"

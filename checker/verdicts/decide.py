@@ -104,7 +104,7 @@ def evaluate_item(compiled: CompiledChecklist, scan: Scan, ii: int, item: Item, 
                     Fact(name, parse_value(name, text), text.strip(), scan.sentences[h.sentence].location)
                 )
 
-    status, reason = _status(compiled, scan, ii, item, per_facet, found, waivers)
+    status, reason, lacking = _status(compiled, scan, ii, item, per_facet, found, waivers)
     return ItemResult(
         id=item.id,
         group=item.group,
@@ -117,6 +117,7 @@ def evaluate_item(compiled: CompiledChecklist, scan: Scan, ii: int, item: Item, 
         facts=tuple((name, tuple(fs)) for name, fs in sorted(facts.items())),
         reason=reason,
         why=item.why,
+        lacking=lacking,
     )
 
 
@@ -141,30 +142,32 @@ def decide(found: set[str], needs: tuple[tuple[str, ...], ...], inapplicable: bo
     return "reported" if any(set(n) <= found for n in needs) else "partial"
 
 
-def _status(compiled, scan, ii, item, per_facet, found, waivers) -> tuple[str, str]:
+def _status(compiled, scan, ii, item, per_facet, found, waivers) -> tuple[str, str, tuple[str, ...]]:
+    """The status, the reason in words, and what a partial item still lacks (the facets of its best way to
+    completion that were not found: the one place this is decided; the requests to authors ask for these)."""
     if item.id in waivers:
-        return "waived", f"waived in the configuration: {waivers[item.id]}"
+        return "waived", f"waived in the configuration: {waivers[item.id]}", ()
     inapplicable = not applies(scan, ii, item)
     status = decide(found, item.needs, inapplicable)
     if status == "not-applicable":
-        return status, f"not applicable: {item.applies_when.reason}"
+        return status, f"not applicable: {item.applies_when.reason}", ()
     titles = {fh.facet.id: fh.facet.title for fh in per_facet}
     if status == "reported":
-        return "reported", "found: " + "; ".join(titles[f] for f in titles if f in found)
+        return "reported", "found: " + "; ".join(titles[f] for f in titles if f in found), ()
     if found:
         # name what a best alternative still lacks
         best = min(item.needs, key=lambda n: (len(set(n) - found), item.needs.index(n)))
-        lacking = [titles[f] for f in best if f not in found]
+        lacking = tuple(titles[f] for f in best if f not in found)
         return "partial", ("found: " + "; ".join(titles[f] for f in titles if f in found)
-                           + " — not found: " + "; ".join(lacking))
+                           + " — not found: " + "; ".join(lacking)), lacking
     weak = [h.sentence for fh in per_facet for h in fh.hits]
     if weak:
         kinds = {scan.attribution(si).kind for si in weak} - {"this-study"}
         where = [_WEAK_WORDS[k] for k in ("other-work", "background", "plan", "template") if k in kinds]
         if any(scan.attribution(si).kind == "this-study" for si in weak):
             where.append("sections that count little (introduction, discussion, headings)")
-        return "missing", "only mentioned in " + " and ".join(where)
-    return "missing", "nothing found for: " + "; ".join(titles.values())
+        return "missing", "only mentioned in " + " and ".join(where), ()
+    return "missing", "nothing found for: " + "; ".join(titles.values()), ()
 
 
 #: where a cue was found that did not count, in words for the reason

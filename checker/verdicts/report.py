@@ -7,9 +7,9 @@ from typing import Any
 
 from ..reading.document import Location
 from ..core.cautions import CAUTIONS
+from ..core.status import STATUS_ORDER
 
 
-STATUS_ORDER = ("reported", "partial", "missing", "not-applicable", "waived")
 
 
 @dataclass(frozen=True)
@@ -76,6 +76,9 @@ class ItemResult:
     facts: tuple[tuple[str, tuple[Fact, ...]], ...]
     reason: str
     why: str = ""
+    #: what a partial item still lacks, decided by the verdicts (verdicts.decide): the facets of its best way to
+    #: completion that were not found; empty for every other status
+    lacking: tuple[str, ...] = ()
 
     def facts_dict(self) -> dict[str, list[dict[str, Any]]]:
         return {name: [f.to_dict() for f in fs] for name, fs in self.facts}
