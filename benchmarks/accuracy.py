@@ -1,6 +1,7 @@
 """Accuracy on the development set: agreement of studygap with careful human labels, against our targets.
 
     python benchmarks/accuracy.py [--dev DIR] [--extra DIR ...] [--jobs N] [--disagreements] [--false-positives]
+                                  [--choice]
 
 The labelled documents stay where they are (default ../shared/eval/dev from the repository root); only the
 JSON result is written, to benchmarks/out/accuracy.json. Besides the figures over all documents it prints them
@@ -8,7 +9,8 @@ for each part of the set (documents numbered below 60 are the first set, the one
 from; 60 and above were added later), for each kind of document, and for each `--extra` folder of labelled
 documents (for example a set you labelled yourself and never tuned on). It also prints how often the tool's
 quotes cover the labelled passage where both sides found an item, and whose statements the tool's false
-"reported" verdicts quote.
+"reported" verdicts quote. `--choice` also checks what `--checklist auto` chooses for every labelled document
+against the checklist its label names.
 """
 
 from __future__ import annotations
@@ -43,6 +45,8 @@ def main(argv: list[str] | None = None) -> int:
                     help="another folder of labelled documents (labels/ and the documents), reported apart")
     ap.add_argument("--false-positives", action="store_true",
                     help="list every item the tool calls reported that the labels call missing, with its quote")
+    ap.add_argument("--choice", action="store_true",
+                    help="also check the automatic checklist choice against the checklist each label names")
     args = ap.parse_args(argv)
 
     labels_dir = args.dev / "labels"
@@ -110,6 +114,10 @@ def main(argv: list[str] | None = None) -> int:
         _figures_table(xev)
         _breakdown(xev, {lf.path: lf.kind or "?" for lf in xl}, args, parts=False)
 
+    if args.choice:
+        _choice_table([labels] + [load_labels(x / "labels") for x in args.extra if (x / "labels").is_dir()],
+                      args.jobs)
+
     args.out.parent.mkdir(parents=True, exist_ok=True)
     write_atomic(args.out, to_json(ev))
     print(f"written: {args.out}")
@@ -118,6 +126,36 @@ def main(argv: list[str] | None = None) -> int:
         return 1
     print("all targets met")
     return 0
+
+
+def _choose(document: str) -> str:
+    from checker.core.limits import DEFAULT_LIMITS
+    from checker.engine import choose_checklist
+    from checker.matching.nlp import parse_blocks
+    from checker.reading import read_document
+
+    try:
+        doc = read_document(document, DEFAULT_LIMITS)
+        return choose_checklist(list(parse_blocks(b.text for b in doc.blocks)), document=doc)[0]
+    except Exception as exc:  # a document that cannot be read is named, the others go on
+        return f"(not read: {exc})"
+
+
+def _choice_table(label_sets, jobs: int) -> None:
+    """How often `--checklist auto` picks the checklist the label names, per labelled folder."""
+    from concurrent.futures import ProcessPoolExecutor
+
+    print()
+    with ProcessPoolExecutor(max_workers=max(1, jobs)) as pool:
+        for labels in label_sets:
+            if not labels:
+                continue
+            chosen = list(pool.map(_choose, [lf.document for lf in labels]))
+            wrong = [(lf, c) for lf, c in zip(labels, chosen) if c != lf.checklist]
+            folder = Path(labels[0].path).parent.parent
+            print(f"checklist choice on {folder}: right on {len(labels) - len(wrong)} of {len(labels)} documents")
+            for lf, c in wrong:
+                print(f"  {Path(lf.path).name}: chose {c}, the label names {lf.checklist}")
 
 
 def _figures_table(ev, indent: str = "") -> None:
