@@ -124,9 +124,12 @@ def check_document(
     limits: Limits = DEFAULT_LIMITS,
     *,
     cache: bool = False,
+    data: bytes | None = None,
 ) -> Report:
     """The report for one file. With `cache`, an earlier report of the same unchanged file and settings is
-    reused (see checker.resultcache)."""
+    reused (see checker.resultcache). With `data`, the document's bytes are given and `path` only names it (a
+    worker that cannot see the file); such a report is never cached."""
+    import functools
     import hashlib
 
     from .matching import regexcache
@@ -136,19 +139,21 @@ def check_document(
 
     config = config or Config()
     k = None
-    if cache:
+    if cache and data is None:
         from . import resultcache
 
         # a named pipe, a device or a socket is never read here (it could wait forever); the reader refuses it
-        data = resultcache.document_bytes(path, limits.max_bytes)
-        k = resultcache.key(path, data, checklist, config, limits) if data is not None else None
+        seen = resultcache.document_bytes(path, limits.max_bytes)
+        k = resultcache.key(path, seen, checklist, config, limits) if seen is not None else None
         hit = resultcache.get(k)
         if hit is not None:
             return hit
+    # the reader reads the file itself (again): a file changed since `seen` gives a report that is not kept
+    reader = read_document if data is None else functools.partial(read_document, data=data)
     with time_limit(path, limits.seconds):
-        report = _check(path, checklist, config, limits, read_document, parse_blocks)
+        report = _check(path, checklist, config, limits, reader, parse_blocks)
     regexcache.save()  # here too, as batch workers end without running exit handlers
-    if k is not None and report.sha256 == hashlib.sha256(data).hexdigest():  # not changed while being read
+    if k is not None and report.sha256 == hashlib.sha256(seen).hexdigest():  # not changed while being read
         resultcache.put(k, report)
     return report
 

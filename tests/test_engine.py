@@ -116,3 +116,28 @@ def test_every_regex_of_a_facet_is_searched(tmp_path):
     path.write_text(text)
     r = check_text("We compared the methods with 1,000 bootstrap samples.", str(path))
     assert next(i for i in r.items if i.id == "ranking.uncertainty").status == "reported"
+
+
+def test_the_engine_takes_a_documents_bytes_as_well_as_its_path(tmp_path):
+    """Bytes sent to a worker give the report of the file itself, located at the file's name; nothing is
+    written to disk for them, and their size is held to --max-bytes like a file's."""
+    import dataclasses
+
+    import pytest
+
+    from checker.core.errors import InputError
+    from checker.core.limits import DEFAULT_LIMITS
+    from checker.engine import check_document
+
+    doc = tmp_path / "study.md"
+    doc.write_text("# Methods\n\nTwo radiologists annotated 120 scans of the test set.\n", encoding="utf-8")
+    data = doc.read_bytes()
+    from_file = check_document(str(doc), MINI)
+    elsewhere = str(tmp_path / "not-here" / "study.md")  # a name only: the worker cannot see the file
+    from_bytes = check_document(elsewhere, MINI, data=data)
+    assert from_bytes.document_path == elsewhere
+    assert json.dumps(from_bytes.to_dict()).replace(elsewhere, str(doc)) == json.dumps(from_file.to_dict())
+    assert not (tmp_path / "not-here").exists()
+    small = dataclasses.replace(DEFAULT_LIMITS, max_bytes=10)
+    with pytest.raises(InputError, match="over the limit"):
+        check_document(elsewhere, MINI, None, small, data=data)

@@ -5,11 +5,8 @@ Every engine gives the same rows in input order, so that a screen or an audit is
 
 from __future__ import annotations
 
-import dataclasses
 import os
-import shutil
 import signal
-import tempfile
 import threading
 from contextlib import contextmanager
 from dataclasses import dataclass
@@ -118,14 +115,13 @@ def check_one(path: str, checklist: str = "auto", config: Config | None = None, 
 
     With ``data`` the document's bytes come with the task (for workers that cannot see the file); the report
     names ``path`` exactly as if the file had been read there. With ``cache`` a file's report from an earlier
-    run is reused while the file and the settings are unchanged (never for ``data``, whose copy is temporary).
+    run is reused while the file and the settings are unchanged (never for ``data``).
     """
     from ..engine import check_document
 
     try:
-        if data is None:
-            return BatchResult(path, check_document(path, checklist, config, limits, cache=cache))
-        return BatchResult(path, _check_bytes(path, data, checklist, config, limits))
+        return BatchResult(path, check_document(path, checklist, config, limits, cache=cache and data is None,
+                                                data=data))
     except StudygapError as exc:
         return BatchResult(path, error=_one_line(str(exc), path))
     except OSError as exc:
@@ -138,40 +134,6 @@ def check_one(path: str, checklist: str = "auto", config: Config | None = None, 
 def _one_line(text: str, path: str) -> str:
     line = " ".join(text.split())
     return line if line.startswith(path) else f"{path}: {line}"
-
-
-def _check_bytes(path: str, data: bytes, checklist: str, config: Config | None, limits: Limits) -> Report:
-    from ..engine import check_document
-
-    # the readers read files; a private copy under the same file name keeps suffix and sniffing identical
-    folder = tempfile.mkdtemp(prefix="studygap-")
-    try:
-        local = os.path.join(folder, Path(path).name)
-        with open(local, "wb") as fh:
-            fh.write(data)
-        try:
-            report = check_document(local, checklist, config, limits)
-        except StudygapError as exc:
-            raise UsageError(str(exc).replace(local, path)) from None
-        return _relocate(report, local, path)
-    finally:
-        shutil.rmtree(folder, ignore_errors=True)
-
-
-def _relocate(value: Any, old: str, new: str) -> Any:
-    """The same frozen records with every mention of the private copy's path turned back into the original."""
-    if isinstance(value, str):
-        return new if value == old else value.replace(old, new)
-    if isinstance(value, tuple):
-        return tuple(_relocate(v, old, new) for v in value)
-    if isinstance(value, list):
-        return [_relocate(v, old, new) for v in value]
-    if isinstance(value, dict):
-        return {k: _relocate(v, old, new) for k, v in value.items()}
-    if dataclasses.is_dataclass(value) and not isinstance(value, type):
-        changes = {f.name: _relocate(getattr(value, f.name), old, new) for f in dataclasses.fields(value)}
-        return dataclasses.replace(value, **changes)
-    return value
 
 
 def _read_for_sending(path: str, limits: Limits) -> bytes:

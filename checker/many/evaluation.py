@@ -16,7 +16,7 @@ from typing import Any, Callable, ClassVar, Sequence
 import yaml
 
 from .. import __version__
-from ..core.errors import InputError, StudygapError
+from ..core.errors import InputError
 from .stats import BinaryScores, BootstrapInterval, binary_scores, bootstrap_ci, cohen_kappa, observed_agreement
 from ..core.cautions import CAUTIONS
 
@@ -643,21 +643,6 @@ def summarize(
     )
 
 
-def _check_one(document: str, checklist: str, config: Any, limits: Any) -> tuple[Any, str]:
-    """The report for one document, or the one-line reason it could not be checked (run in a worker)."""
-    from ..engine import check_document
-
-    try:
-        return check_document(document, checklist, config, limits), ""
-    except StudygapError as exc:
-        return None, str(exc)
-    except OSError as exc:
-        return None, f"{document}: cannot be read ({exc.strerror or exc})"
-    except Exception as exc:  # noqa: BLE001 - one document's failure must not stop the others
-        return None, (f"{document}: studygap failed on this document ({type(exc).__name__}: {exc}); "
-                      "please report it with the document if you can")
-
-
 def evaluate(
     label_files: Sequence[LabelFile],
     checklist_override: str | None = None,
@@ -670,11 +655,16 @@ def evaluate(
     config: Any = None,
     limits: Any = None,
     source: str = "",
+    engine: str = "local",
+    scheduler: str | None = None,
+    cache: bool = False,
 ) -> Evaluation:
     """Check every labelled document and compare the tool's statuses with the labels.
 
-    ``progress(done, total, document)`` is called after each document. A document that cannot be checked
-    becomes an outcome with its error, and the others go on.
+    The documents are checked by the batch runner (checker.many.batch), one run per checklist the labels name:
+    ``jobs`` local processes, or a Dask cluster with ``engine="dask"`` and ``scheduler``; ``cache`` reuses the
+    reports of unchanged files. ``progress(done, total, document)`` is called after each document. A document
+    that cannot be checked becomes an outcome with its error, and the others go on.
     """
     from ..core.config import Config
     from ..core.limits import DEFAULT_LIMITS
@@ -684,23 +674,26 @@ def evaluate(
     config = config if config is not None else Config()
     limits = limits if limits is not None else DEFAULT_LIMITS
     tasks = [(lf.document, checklist_override or lf.checklist) for lf in label_files]
+    from .batch import run_batch
+
     results: list[tuple[Any, str]] = [(None, "")] * len(tasks)
     total = len(tasks)
-    if jobs == 1 or total <= 1:
-        for i, (doc, cl) in enumerate(tasks):
-            results[i] = _check_one(doc, cl, config, limits)
-            if progress is not None:
-                progress(i + 1, total, doc)
-    else:
-        from concurrent.futures import ProcessPoolExecutor, as_completed
+    by_checklist: dict[str, list[int]] = {}
+    for i, (_doc, cl) in enumerate(tasks):
+        by_checklist.setdefault(cl, []).append(i)
+    done = 0
 
-        with ProcessPoolExecutor(max_workers=min(jobs, total)) as pool:
-            futures = {pool.submit(_check_one, doc, cl, config, limits): i for i, (doc, cl) in enumerate(tasks)}
-            for done, fut in enumerate(as_completed(futures), start=1):
-                i = futures[fut]
-                results[i] = fut.result()
-                if progress is not None:
-                    progress(done, total, tasks[i][0])
+    def step(_done: int, _total: int, document: str) -> None:
+        nonlocal done
+        done += 1
+        if progress is not None:
+            progress(done, total, document)
+
+    for cl, members in by_checklist.items():
+        rows = run_batch([tasks[i][0] for i in members], cl, config, limits, jobs=jobs, engine=engine,
+                         scheduler=scheduler, progress=step, cache=cache)
+        for i, row in zip(members, rows):
+            results[i] = (row.report, "") if row.ok else (None, row.error)
 
     outcomes: list[DocumentOutcome] = []
     units: list[list[Pair]] = []

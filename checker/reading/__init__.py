@@ -72,6 +72,15 @@ def reader_module(fmt: str) -> ModuleType:
     return importlib.import_module(f".{_MODULES[fmt]}", __name__)
 
 
+def _too_large(path: Path, size: int, limits: Limits) -> None:
+    if size > limits.max_bytes:
+        raise InputError(
+            path,
+            f"file is {size / 1e6:.1f} MB, over the limit of {limits.max_bytes / 1e6:.0f} MB",
+            "raise --max-bytes if the file is genuine",
+        )
+
+
 def read_bytes(path: Path, limits: Limits) -> bytes:
     try:
         if not path.exists():
@@ -80,13 +89,7 @@ def read_bytes(path: Path, limits: Limits) -> bytes:
             raise InputError(path, "is a folder, not a document", "name a file, or use 'studygap screen' for folders")
         if not path.is_file():  # a named pipe, a device or a socket: reading could wait forever
             raise InputError(path, "is not a regular file (a pipe, device or socket)", "save the document to a file")
-        size = path.stat().st_size
-        if size > limits.max_bytes:
-            raise InputError(
-                path,
-                f"file is {size / 1e6:.1f} MB, over the limit of {limits.max_bytes / 1e6:.0f} MB",
-                "raise --max-bytes if the file is genuine",
-            )
+        _too_large(path, path.stat().st_size, limits)
         with path.open("rb") as fh:  # read-only: inputs are never opened for writing
             return fh.read(limits.max_bytes + 1)
     except PermissionError:
@@ -95,13 +98,21 @@ def read_bytes(path: Path, limits: Limits) -> bytes:
         raise InputError(path, f"cannot be read: {exc.strerror or exc}") from None
 
 
-def read_document(path: str | Path, limits: Limits = DEFAULT_LIMITS, *, fmt: str | None = None) -> Document:
-    """Read one file into a Document with sections and roles assigned (sentences come later, from nlp)."""
+def read_document(path: str | Path, limits: Limits = DEFAULT_LIMITS, *, fmt: str | None = None,
+                  data: bytes | None = None) -> Document:
+    """Read one file into a Document with sections and roles assigned (sentences come later, from nlp).
+
+    With ``data`` the document's bytes are given (sent to a worker that cannot see the file): ``path`` then only
+    names it, for its format and in every location, as if the file had been read there.
+    """
     from .sections import assign_sections
 
     path = Path(path)
     fmt = fmt or format_for(path)
-    data = read_bytes(path, limits)
+    if data is None:
+        data = read_bytes(path, limits)
+    else:
+        _too_large(path, len(data), limits)
     if not data.strip():
         cause = "the file is empty" if not data else "the file is empty: it holds only blank space"
         raise InputError(path, cause, "nothing to check; is it the right file?")
