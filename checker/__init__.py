@@ -1,7 +1,3 @@
 """studygap: checks whether a validation-study document reports what its readers need."""
 
 __version__ = "0.1.0"
-
-from .matching import spacyimport as _spacyimport
-
-_spacyimport.install()

@@ -43,23 +43,19 @@ def ignore_sections(document: Document, headings: tuple[str, ...]) -> Document:
 @lru_cache(maxsize=8)
 def _choice_matcher(cid: str):
     """A matcher of one built-in checklist's `choose_when` cues (its other cues are not needed to choose)."""
-    from spacy.matcher import PhraseMatcher
-
+    from .matching.matcher import phrase_patterns
     from .matching.nlp import pipeline
 
-    from spacy.matcher import Matcher
+    nlp = pipeline()  # imports spaCy (see checker.matching.spacyimport) before the matchers below
+    from spacy.matcher import Matcher, PhraseMatcher
 
-    from .matching.matcher import spelling_variants
-
-    nlp = pipeline()
     cues = load_checklist(cid).choose_when
     if not cues.phrases and not cues.patterns:
         return None
     matchers = []
     if cues.phrases:
-        texts = sorted({v for p in cues.phrases for v in spelling_variants(p.lstrip("="))})
         m = PhraseMatcher(nlp.vocab, attr="LEMMA")
-        m.add("choose", list(nlp.pipe(texts)))
+        m.add("choose", phrase_patterns(nlp, [p.lstrip("=") for p in cues.phrases]))
         matchers.append(m)
     if cues.patterns:
         t = Matcher(nlp.vocab)

@@ -82,3 +82,41 @@ def test_cached_patterns_match_like_fresh_ones(tmp_path, monkeypatch, flags):
     regexcache.pickle_atomically(path, {(PATTERN, int(flags)): fresh})
     loaded = regexcache._read(path)[(PATTERN, int(flags))]
     assert [m.span() for m in loaded.finditer(TEXT)] == [m.span() for m in fresh.finditer(TEXT)]
+
+
+def test_start_up_data_is_kept_as_signed_json_and_rebuilt_when_damaged(tmp_path, monkeypatch):
+    """The lemma table and the regexes' required words are kept as JSON data; a file that is not ours, or not
+    what the caller accepts, is built afresh."""
+    monkeypatch.setenv("STUDYGAP_CACHE_DIR", str(tmp_path))
+    calls = []
+
+    def build():
+        calls.append(1)
+        return {"annotators": "annotator"}
+
+    assert regexcache.cached_data("demo", "v1", build) == {"annotators": "annotator"}
+    assert regexcache.cached_data("demo", "v1", build) == {"annotators": "annotator"}
+    assert len(calls) == 1  # the second came from the file
+    (path,) = (tmp_path / "data").glob("demo-*.json")
+    assert path.read_bytes().endswith(b'{"annotators":"annotator"}')  # plain JSON behind the signature
+    assert regexcache.cached_data("demo", "v2", build) and len(calls) == 2  # another stamp, another entry
+    path.write_bytes(path.read_bytes().replace(b"annotator", b"planted!!"))  # signature no longer verifies
+    assert regexcache.cached_data("demo", "v1", build) == {"annotators": "annotator"} and len(calls) == 3
+    assert regexcache.cached_data("demo", "v1", build, check=lambda v: False) and len(calls) == 4
+    monkeypatch.setenv("STUDYGAP_CACHE_DIR", "off")
+    assert regexcache.cached_data("demo", "v1", build) and len(calls) == 5
+
+
+def test_cached_lemmas_and_required_words_equal_the_fresh_ones(tmp_path):
+    code = ("from checker.matching import nlp, regexscan\n"
+            "from checker.matching.checklist import load_checklist\n"
+            "t = nlp._lemma_table()\n"
+            "srcs = [s for it in load_checklist('validation-study').items for f in it.facets for s in f.cues.regex]\n"
+            "w = regexscan.required_words_of(srcs)\n"
+            "print(len(t), t['annotators'], t['were'], w == [regexscan.required_words(s) for s in srcs], len(srcs))\n")
+    first, second = _run(str(tmp_path), code), _run(str(tmp_path), code)
+    assert first.returncode == 0, first.stderr
+    assert first.stdout == second.stdout
+    n, annotator, be, same, sources = second.stdout.split()
+    assert int(n) > 10_000 and annotator == "annotator" and be == "be" and same == "True" and int(sources) > 20
+    assert len(list((tmp_path / "data").glob("lemmas-en-*.json"))) == 1

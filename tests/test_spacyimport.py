@@ -27,7 +27,9 @@ def test_checking_a_document_leaves_spacy_cli_unimported():
 
 def test_spacy_cli_is_the_real_one_when_asked_for_later():
     out = _run(
-        "import checker, spacy\n"
+        "from checker.matching.nlp import pipeline\n"
+        "pipeline()\n"
+        "import spacy\n"
         "nlp = spacy.blank('en')\n"
         "import spacy.cli\n"
         "from spacy.cli.info import info\n"
@@ -39,8 +41,22 @@ def test_spacy_cli_is_the_real_one_when_asked_for_later():
 def test_spacy_imported_before_studygap_is_left_alone():
     out = _run(
         "import spacy, sys\n"
-        "import checker\n"
+        "from checker.matching.nlp import pipeline\n"
+        "pipeline()\n"
         "from checker.matching.spacyimport import _Finder\n"
         "print('spacy.cli' in sys.modules, any(isinstance(f, _Finder) for f in sys.meta_path))\n"
     )
     assert out == "True False"
+
+
+def test_importing_studygap_changes_nothing_in_the_import_system():
+    """No import-time side effects: the finder exists only while the pipeline imports spaCy."""
+    out = _run(
+        "import sys\n"
+        "before = list(sys.meta_path)\n"
+        "import checker, checker.cli.main, checker.engine, checker.matching.matcher, checker.matching.nlp\n"
+        "print(sys.meta_path == before, 'spacy' in sys.modules)\n"
+        "checker.matching.nlp.pipeline()\n"
+        "print(sys.meta_path == before, any(m.startswith('spacy.cli') for m in sys.modules))\n"
+    )
+    assert out == "True False\nTrue False"

@@ -186,11 +186,12 @@ def _check_pattern(p: Problems, node: Node, path: str) -> tuple[dict, ...] | Non
         return None
     if ok:
         try:
-            from spacy.matcher import Matcher
-
             from .nlp import pipeline
 
-            m = Matcher(pipeline().vocab, validate=True)
+            vocab = pipeline().vocab  # imports spaCy (see checker.matching.spacyimport) before the matcher
+            from spacy.matcher import Matcher
+
+            m = Matcher(vocab, validate=True)
             m.add("check", [tokens])
         except Exception as exc:  # spaCy's own validation message says what is wrong
             msg = str(exc).strip().splitlines()

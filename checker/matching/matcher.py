@@ -12,7 +12,7 @@ from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, Iterable
 
 from .checklist import Checklist, Cues, compile_regex
-from .regexscan import Sentences, required_words
+from .regexscan import Sentences, required_words_of
 from ..reading.document import Document, Sentence
 from ..core.errors import StudygapError
 
@@ -114,16 +114,25 @@ def spelling_variants(phrase: str) -> list[str]:
     return sorted(out)
 
 
+def phrase_patterns(nlp, phrases: Iterable[str]) -> list["Doc"]:
+    """Cue phrases with their spelling variants as PhraseMatcher patterns, one per distinct text in sorted order;
+    each serves a matcher on LEMMA and one on LOWER alike (tokens and lemmas only: a phrase needs no sentence
+    marks, and running the whole pipeline on a few thousand phrases costs a tenth of a second)."""
+    from .nlp import make_phrase_doc
+
+    return [make_phrase_doc(nlp, t) for t in sorted({v for p in phrases for v in spelling_variants(p)})]
+
+
 class CompiledChecklist:
     """A checklist's cues compiled for one spaCy pipeline; build once, scan many documents."""
 
     def __init__(self, checklist: Checklist, nlp=None) -> None:
-        from spacy.matcher import Matcher, PhraseMatcher
-
         from .nlp import pipeline
 
         self.checklist = checklist
-        self.nlp = nlp or pipeline()
+        self.nlp = nlp or pipeline()  # imports spaCy (see checker.matching.spacyimport) before the matchers below
+        from spacy.matcher import Matcher, PhraseMatcher
+
         vocab = self.nlp.vocab
         self.lemma_matcher = PhraseMatcher(vocab, attr="LEMMA")
         self.lower_matcher = PhraseMatcher(vocab, attr="LOWER")
@@ -144,14 +153,14 @@ class CompiledChecklist:
         self._add("choose", checklist.choose_when, phrase_docs)
         for k, phrases in phrase_docs.items():
             # "=mean": matched as written, never by its lemma (else "mean" would match "meaning" and "by means of")
-            exact = sorted({v for p in phrases if p.startswith(EXACT) for v in spelling_variants(p[1:])})
-            texts = sorted({v for p in phrases if not p.startswith(EXACT) for v in spelling_variants(p)})
-            if texts:
-                self.lemma_matcher.add(k, list(self.nlp.pipe(texts)))
-            if texts or exact:
-                self.lower_matcher.add(k, [self.nlp.make_doc(t) for t in texts + exact])
+            docs = phrase_patterns(self.nlp, [p for p in phrases if not p.startswith(EXACT)])
+            exact = phrase_patterns(self.nlp, [p[1:] for p in phrases if p.startswith(EXACT)])
+            if docs:
+                self.lemma_matcher.add(k, docs)
+            if docs or exact:
+                self.lower_matcher.add(k, docs + exact)
         # a regex can only match where its literal words occur: sentences without them are skipped
-        self._prefilter = [required_words(src) for _, src in self._regexes]
+        self._prefilter = required_words_of([src for _, src in self._regexes])
         self._matchers = [m for m in (self.lemma_matcher, self.lower_matcher, self.token_matcher) if len(m)]
 
     def _add(self, k: str, cues: Cues, phrase_docs: dict[str, list[str]]) -> None:

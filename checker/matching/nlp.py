@@ -100,14 +100,54 @@ def _scientific_sentences(doc: "Doc") -> "Doc":
     return doc
 
 
-@lru_cache(maxsize=1)
-def pipeline() -> "Language":
-    """spacy.blank('en') with a lower-case lookup lemmatizer and our sentence rules (cached per process)."""
-    import spacy
-    from spacy.language import Language
+#: "folds.[12] The": a full stop glued to a citation bracket is its own token
+_CITATION_INFIX = r"(?<=[A-Za-z)])\.(?=\[)"
+
+
+def _lemma_table():
+    """spacy-lookups-data's English lemma table, form -> lemma. The forms read from its JSON file are kept in
+    the cache folder between runs, keyed by the file's place, size and time: reading the table through spaCy's
+    registry of lookups costs a tenth of a second in every process. Without the file spaCy's own loader
+    answers (a Table, looked up by form just the same) or says what is missing."""
+    import importlib.util
+    import os
+
+    from .regexcache import cached_data
+
+    spec = importlib.util.find_spec("spacy_lookups_data")
+    if spec is not None and spec.origin:
+        base = os.path.join(os.path.dirname(spec.origin), "data", "en_lemma_lookup.json")
+        for path in (base, base + ".gz"):
+            try:
+                st = os.stat(path)
+            except OSError:
+                continue
+
+            def build() -> dict[str, str]:
+                from spacy.util import load_language_data  # what spacy.lookups.load_lookups reads it with
+
+                return {str(k): str(v) for k, v in load_language_data(base).items()}
+
+            return cached_data("lemmas-en", f"{path}\0{st.st_size}\0{st.st_mtime_ns}", build,
+                               check=lambda v: isinstance(v, dict) and all(isinstance(x, str) for x in v.values()))
     from spacy.lookups import load_lookups
 
-    table = load_lookups("en", ["lemma_lookup"]).get_table("lemma_lookup")
+    return load_lookups("en", ["lemma_lookup"]).get_table("lemma_lookup")
+
+
+@lru_cache(maxsize=1)
+def pipeline() -> "Language":
+    """spaCy's blank English with a lower-case lookup lemmatizer and our sentence rules (cached per process).
+
+    spaCy is imported here without its command-line tools (checker.matching.spacyimport). The tokenizer is built once,
+    with the citation infix in the language defaults (setting ``infix_finditer`` afterwards makes spaCy load its
+    2,700 special cases a second time).
+    """
+    from .spacyimport import import_spacy
+
+    import_spacy()
+    from spacy.lang.en import English, EnglishDefaults
+    from spacy.language import Language
 
     if "studygap_lemmas" not in Language.factories:
 
@@ -117,17 +157,23 @@ def pipeline() -> "Language":
 
         Language.component("studygap_sentences", func=_scientific_sentences)
 
-    nlp = spacy.blank("en")
-    nlp.max_length = 50_000_000
-    # "folds.[12] The": a full stop glued to a citation bracket is its own token
-    from spacy.util import compile_infix_regex
+    class _Defaults(EnglishDefaults):
+        infixes = list(EnglishDefaults.infixes) + [_CITATION_INFIX]
 
-    infixes = list(nlp.Defaults.infixes) + [r"(?<=[A-Za-z)])\.(?=\[)"]
-    nlp.tokenizer.infix_finditer = compile_infix_regex(infixes).finditer
+    class _English(English):
+        Defaults = _Defaults
+
+    nlp = _English()
+    nlp.max_length = 50_000_000
     nlp.add_pipe("studygap_lemmas", config={})
     nlp.add_pipe("studygap_sentences")
-    nlp.get_pipe("studygap_lemmas").table = table
+    nlp.get_pipe("studygap_lemmas").table = _lemma_table()
     return nlp
+
+
+def make_phrase_doc(nlp: "Language", text: str) -> "Doc":
+    """A cue phrase as the matchers need it: tokens and lemmas, without sentence marks (a phrase is one)."""
+    return nlp.get_pipe("studygap_lemmas")(nlp.make_doc(text))
 
 
 class _LowerLemmas:
@@ -135,7 +181,7 @@ class _LowerLemmas:
 
     def __init__(self, vocab) -> None:
         self.vocab = vocab
-        self.table = None  # spacy.lookups.Table: keys are hashed, so look up by string
+        self.table: dict[str, str] | None = None  # form -> lemma
         self._cache: dict[str, str] = {}
 
     def __call__(self, doc: "Doc") -> "Doc":

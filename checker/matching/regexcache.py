@@ -216,4 +216,35 @@ def pickle_atomically(path: Path, value) -> None:
     write_signed(path, pickle.dumps(value, protocol=pickle.HIGHEST_PROTOCOL))
 
 
+def cached_data(name: str, stamp: str, build, check=None):
+    """JSON data that is costly to build in every process (the lemma table, the words a checklist's regexes
+    need), from a signed file of the cache folder when an earlier run built it under the same stamp.
+
+    ``stamp`` names everything the data depends on (library versions, the source text it was made from); the
+    file is ``data/NAME-<hash of stamp>.json``. Only JSON is stored and read back (strings, numbers, lists,
+    dicts: never code), and ``check(value)`` must accept what is read, or the data is built afresh. Without a
+    cache folder, or when the file cannot be written, the data is simply built.
+    """
+    import json
+
+    d = cache_dir()
+    if d is None:
+        return build()
+    path = d / "data" / f"{name}-{hashlib.sha256(stamp.encode('utf-8')).hexdigest()[:32]}.json"
+    payload = read_signed(path)
+    if payload is not None:
+        try:
+            value = json.loads(payload)
+            if check is None or check(value):
+                return value
+        except ValueError:  # signed by us but not JSON (another studygap): build afresh
+            pass
+    value = build()
+    try:
+        write_signed(path, json.dumps(value, ensure_ascii=False, separators=(",", ":")).encode("utf-8"))
+    except OSError:  # a read-only home, a full disk: the next run builds again
+        pass
+    return value
+
+
 atexit.register(save)

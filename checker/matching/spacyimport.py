@@ -1,10 +1,12 @@
 """spaCy without its command-line tools: importing spaCy also imports ``spacy.cli`` (download, train, package
 and their dependencies), about 0.4 s of every run, for the one name ``spacy.info`` that studygap never uses.
 
-While spaCy's own ``__init__`` runs, a finder answers its import of ``spacy.cli`` and ``spacy.cli.info`` with a
-stand-in whose ``info`` imports the real one when called. As soon as spaCy has finished importing, the
-stand-ins are taken out of ``sys.modules`` and the finder removes itself, so a later ``import spacy.cli`` (by
-the caller's own code) gets the real package.
+``import_spacy()`` is the one place where studygap imports spaCy (``checker.matching.nlp.pipeline`` calls it before
+anything else of spaCy is used). While spaCy's own ``__init__`` runs, a finder answers its import of
+``spacy.cli`` and ``spacy.cli.info`` with a stand-in whose ``info`` imports the real one when called. As soon as
+spaCy has finished importing, the stand-ins are taken out of ``sys.modules`` and the finder is removed, so a
+later ``import spacy.cli`` (by the caller's own code) gets the real package. Importing ``checker`` changes
+nothing in the import system.
 """
 
 from __future__ import annotations
@@ -36,16 +38,17 @@ class _Loader(importlib.abc.Loader):
 
 
 class _Finder(importlib.abc.MetaPathFinder):
+    """Answers spaCy's own imports of its command-line package while spaCy's ``__init__`` runs."""
+
     def find_spec(self, name, path=None, target=None):
         spacy = sys.modules.get("spacy")
         if name in _STANDINS and spacy is not None and not hasattr(spacy, "blank"):
             return importlib.machinery.ModuleSpec(name, _Loader(), is_package=True)
-        if spacy is not None and hasattr(spacy, "blank"):
-            _finish()
         return None
 
 
 def _finish() -> None:
+    """Take the stand-ins out of sys.modules and spaCy's namespace, and the finder out of sys.meta_path."""
     for name in reversed(_STANDINS):
         module = sys.modules.get(name)
         if module is not None and getattr(module, "__studygap_standin__", False):
@@ -56,7 +59,14 @@ def _finish() -> None:
     sys.meta_path[:] = [f for f in sys.meta_path if not isinstance(f, _Finder)]
 
 
-def install() -> None:
-    """Put the finder first, unless spaCy is already imported (then there is nothing to save)."""
-    if "spacy" not in sys.modules and not any(isinstance(f, _Finder) for f in sys.meta_path):
-        sys.meta_path.insert(0, _Finder())
+def import_spacy() -> types.ModuleType:
+    """The spacy module, imported without spacy.cli when this is the first import of spaCy in the process."""
+    spacy = sys.modules.get("spacy")
+    if spacy is not None and hasattr(spacy, "blank"):
+        return spacy
+    sys.meta_path.insert(0, _Finder())
+    try:
+        import spacy
+    finally:
+        _finish()
+    return spacy

@@ -33,18 +33,18 @@ class CompiledRules:
     """Every cue of a rule set compiled once (phrases, token patterns, regexes); match a Scan's sentences."""
 
     def __init__(self, ruleset: RuleSet, nlp=None) -> None:
-        from spacy.matcher import Matcher, PhraseMatcher
-
-        from ..matching.matcher import spelling_variants
-        from ..matching.regexscan import required_words
+        from ..matching.matcher import phrase_patterns
         from ..matching.nlp import pipeline
+        from ..matching.regexscan import required_words_of
 
         self.ruleset = ruleset
-        self.nlp = nlp or pipeline()
+        self.nlp = nlp or pipeline()  # imports spaCy (see checker.matching.spacyimport) before the matchers below
+        from spacy.matcher import Matcher, PhraseMatcher
+
         self.lemma_matcher = PhraseMatcher(self.nlp.vocab, attr="LEMMA")
         self.lower_matcher = PhraseMatcher(self.nlp.vocab, attr="LOWER")
         self.token_matcher = Matcher(self.nlp.vocab)
-        self._regexes: list[tuple[str, regex.Pattern, str, tuple[str, ...]]] = []
+        self._regexes: list[tuple[str, regex.Pattern, str, tuple]] = []
         phrases: dict[str, list[str]] = {}
         for rule in ruleset.rules:
             t = rule.trigger
@@ -63,11 +63,13 @@ class CompiledRules:
                 if cues.patterns:
                     self.token_matcher.add(k, [list(pt) for pt in cues.patterns])
                 for src in cues.regex:
-                    self._regexes.append((k, compile_regex(src), src, required_words(src)))
+                    self._regexes.append((k, compile_regex(src), src, ()))
+        needs = required_words_of([src for _, _, src, _ in self._regexes])
+        self._regexes = [(k, rx, src, need) for (k, rx, src, _), need in zip(self._regexes, needs)]
         for k, ps in phrases.items():
-            texts = sorted({v for ph in ps for v in spelling_variants(ph)})
-            self.lemma_matcher.add(k, list(self.nlp.pipe(texts)))
-            self.lower_matcher.add(k, [self.nlp.make_doc(t) for t in texts])
+            docs = phrase_patterns(self.nlp, ps)
+            self.lemma_matcher.add(k, docs)
+            self.lower_matcher.add(k, docs)
         self._matchers = [m for m in (self.lemma_matcher, self.lower_matcher, self.token_matcher) if len(m)]
 
     def match(self, scan: "Scan", regex_seconds: float = 2.0) -> dict[str, Hits]:
