@@ -112,8 +112,8 @@ def test_cached_lemmas_and_required_words_equal_the_fresh_ones(tmp_path):
             "from checker.matching.checklist import load_checklist\n"
             "t = nlp._lemma_table()\n"
             "srcs = [s for it in load_checklist('validation-study').items for f in it.facets for s in f.cues.regex]\n"
-            "w = regexscan.required_words_of(srcs)\n"
-            "print(len(t), t['annotators'], t['were'], w == [regexscan.required_words(s) for s in srcs], len(srcs))\n")
+            "w = regexscan.required_word_sets_of(srcs)\n"
+            "print(len(t), t['annotators'], t['were'], w == [regexscan.required_word_sets(s) for s in srcs], len(srcs))\n")
     first, second = _run(str(tmp_path), code), _run(str(tmp_path), code)
     assert first.returncode == 0, first.stderr
     assert first.stdout == second.stdout

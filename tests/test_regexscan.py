@@ -10,7 +10,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from checker.matching.checklist import builtin_ids, compile_regex
-from checker.matching.regexscan import Sentences, joinable, required_words
+from checker.matching.regexscan import Sentences, joinable, required_word_sets, required_words
 
 ROOT = Path(__file__).resolve().parent.parent
 
@@ -20,7 +20,9 @@ def naive(rx, texts):
 
 
 def fast(rx, src, texts):
-    return [(si, m.span(), m.groups()) for si, m in Sentences(texts).search(rx, required_words(src), 5.0)]
+    sets = required_word_sets(src)
+    return [(si, m.span(), m.groups())
+            for si, m in Sentences(texts).search(rx, required_words(src), 5.0, also=sets[1:])]
 
 
 def all_sources() -> list[str]:
@@ -92,6 +94,17 @@ def test_required_words(src, words):
     assert required_words(src) == words
 
 
+def test_a_sentence_must_hold_a_word_of_every_required_set():
+    src = r"\b{NUMBER}\s+(?:annotators|readers)\s+per\s+(?:case|image)\b"
+    first, second, third, number = required_word_sets(src)
+    assert (first, second, third) == (("annotators", "readers"), ("case", "image"), ("per",))
+    assert "\\d" in number and "three" in number  # {NUMBER}: a digit or a number word
+    texts = ["Two readers per case.", "Two readers saw each image.", "One image per case.", "3 annotators per image",
+             "Some readers per case."]
+    rx = compile_regex(src)
+    assert fast(rx, src, texts) == naive(rx, texts) == [(0, (0, 20), ()), (3, (0, 22), ())]
+
+
 @pytest.mark.parametrize("src, ok", [
     (r"\b\d+\s+sites\b", True),
     (r"(?<![\d.,])\d+(?![.,]?\d)", True),
@@ -127,3 +140,22 @@ def test_generated_regexes_agree_with_the_sentence_by_sentence_search(parts, tex
     except regex.error:
         return
     assert fast(rx, src, texts) == naive(rx, texts)
+
+
+@settings(max_examples=300, deadline=None)
+@given(st.lists(st.sampled_from(["3", "٣", "12.5", ".5", "one", "Twenty-five", "a single", "a dozen", "ſingle",
+                                 "hundred", "%", "per cent", "PERCENT", "pct", "of", "cases", " ", "-", "k", "x"]),
+                max_size=8))
+def test_every_macro_match_holds_a_string_of_each_of_its_sets(parts):
+    """facts.MACRO_NEEDS lets sentences without a digit or a number word be passed over: no match may lack one
+    (the regex module's \\d also matches other scripts' digits, hence the DIGIT stand-in)."""
+    from checker.matching.facts import DIGIT, MACRO_NEEDS, MACROS
+
+    text = " ".join(parts)
+    for name, sets in MACRO_NEEDS.items():
+        for m in regex.finditer(MACROS[name], text, regex.IGNORECASE | regex.V0):
+            if m.end() == m.start():
+                continue
+            found = m.group().casefold()
+            for words in sets:
+                assert any(regex.search(r"\d", found) if w == DIGIT else w in found for w in words), (name, text)

@@ -81,6 +81,18 @@ PERCENT = rf"(?:(?:{DECIMAL}|{_WORDS_COMPACT}){_SP}?(?:%|(?i:per{_SP}?cent|perce
 
 MACROS: dict[str, str] = {"NUMBER": NUMBER, "DECIMAL": DECIMAL, "UNIT": UNIT, "PERCENT": PERCENT}
 
+#: stands for "any decimal digit, as the regex module's \\d sees one" in MACRO_NEEDS
+DIGIT = "\\d"
+_COUNT_WORDS = (DIGIT, "single", "dozen", *_ONES, *_TENS, "hundred", "thousand", "million", "billion")
+#: for each macro, the sets of strings (case-folded) of which every match holds one; regexscan uses them to pass
+#: over sentences that cannot match (a {NUMBER} needs a digit or a number word)
+MACRO_NEEDS: dict[str, tuple[tuple[str, ...], ...]] = {
+    "NUMBER": (_COUNT_WORDS,),
+    "DECIMAL": ((DIGIT,),),
+    "PERCENT": (_COUNT_WORDS, ("%", "per", "pct")),
+    "UNIT": (),
+}
+
 _MACRO = regexcache.compile(r"(?<!\\)\{(NUMBER|DECIMAL|UNIT|PERCENT)\}")
 
 

@@ -12,7 +12,7 @@ from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, Iterable
 
 from .checklist import Checklist, Cues, compile_regex
-from .regexscan import Sentences, required_words_of
+from .regexscan import Sentences, required_word_sets_of
 from ..reading.document import Document, Sentence
 from ..core.errors import StudygapError
 
@@ -160,7 +160,7 @@ class CompiledChecklist:
             if docs or exact:
                 self.lower_matcher.add(k, docs + exact)
         # a regex can only match where its literal words occur: sentences without them are skipped
-        self._prefilter = required_words_of([src for _, src in self._regexes])
+        self._prefilter = required_word_sets_of([src for _, src in self._regexes])
         self._matchers = [m for m in (self.lemma_matcher, self.lower_matcher, self.token_matcher) if len(m)]
 
     def _add(self, k: str, cues: Cues, phrase_docs: dict[str, list[str]]) -> None:
@@ -206,7 +206,8 @@ class CompiledChecklist:
         import regex
 
         texts = Sentences([s.text for s in sentences])
-        for (k, src), need in zip(self._regexes, self._prefilter):
+        for (k, src), sets in zip(self._regexes, self._prefilter):
+            need = sets[0] if sets else ()
             if not texts.mentions(need):
                 continue  # its word occurs nowhere: no need even to compile it
             try:
@@ -215,7 +216,7 @@ class CompiledChecklist:
                 raise StudygapError(f"{self.checklist.path}: checklist regex {src!r} is not valid: {exc}") from None
             names = sorted(rx.groupindex, key=lambda n: rx.groupindex[n])
             try:
-                for si, m in texts.search(rx, need, seconds):
+                for si, m in texts.search(rx, need, seconds, also=sets[1:]):
                     groups = tuple((name, m.group(name), m.start(name), m.end(name))
                                    for name in names if m.group(name) is not None)
                     hits.setdefault(k, []).append(Hit(si, m.start(), m.end(), groups))

@@ -20,6 +20,7 @@ from dataclasses import dataclass, field
 from functools import lru_cache
 
 _SEP = "\n"
+_DIGIT_MARK = "\\d"  # facts.DIGIT, not imported here: facts compiles its patterns when imported
 
 #: constructs whose result can differ at a newline and at the string's edge, or that stop backtracking
 _EDGE_SENSITIVE = re.compile(
@@ -174,27 +175,44 @@ def required_words(src: str) -> tuple[str, ...]:
 
     Sentences without any of them need no search: most regexes name words such as 'bootstrap' or one of
     'hospitals|centres|sites'. Worked out from the parse of the unexpanded source ({NUMBER} and the like stand
-    for no literal); a source Python's own parser cannot read gives ().
+    for no literal); a source Python's own parser cannot read gives (). The rarest-looking of
+    required_word_sets().
     """
+    sets = required_word_sets(src)
+    return sets[0] if sets else ()
+
+
+@lru_cache(maxsize=8192)
+def required_word_sets(src: str) -> tuple[tuple[str, ...], ...]:
+    """Every set of literal strings (case-folded) of which a match must contain one, rarest-looking first: a
+    sentence can match only if it holds a string of each set ("{NUMBER} (annotators|readers) per (case|image)"
+    needs one of the first two words and one of the last two)."""
     try:
         import re._parser as sre_parse  # Python 3.11 and later
     except ImportError:  # Python 3.10
         import sre_parse  # type: ignore[no-redef]
 
-    plain = re.sub(r"\{[A-Z]+\}", r"\\d", src)
+    # the macros become characters of their own (their sets are added below); other {NAME}s stand for no literal
+    plain = _MACRO.sub(lambda m: _MACRO_CHAR[m.group(1)], src)
+    plain = re.sub(r"\{[A-Z]+\}", r"\\d", plain)
     plain = re.sub(r"\\[pP]\{[^}]*\}", r"\\w", plain)
     try:
         parsed = sre_parse.parse(plain, re.IGNORECASE)
     except (re.error, RecursionError, OverflowError, ValueError):
         return ()
-    found = _needs(list(parsed))
-    return tuple(sorted(found)) if found else ()
+    candidates = _candidates(list(parsed))
+    useful = sorted(set(_useful(candidates)), key=_rank, reverse=True)
+    if not useful:
+        return ()
+    # the macros' sets only narrow the sentences that hold a word of the first set (see Sentences.search)
+    macros = [f for f in dict.fromkeys(candidates) if isinstance(f, _MacroNeed)]
+    return tuple(tuple(sorted(f)) for f in useful + macros)
 
 
-def required_words_of(sources: Sequence[str]) -> list[tuple[str, ...]]:
-    """required_words() of each source, kept in the cache folder between runs as JSON (Python's regex parser
-    takes about a tenth of a second over a checklist's few hundred long regexes), keyed by the sources, this
-    module's file and the Python version."""
+def required_word_sets_of(sources: Sequence[str]) -> list[tuple[tuple[str, ...], ...]]:
+    """required_word_sets() of each source, kept in the cache folder between runs as JSON (Python's regex
+    parser takes about a tenth of a second over a checklist's few hundred long regexes), keyed by the sources,
+    this module's file and the Python version."""
     import os
     import sys
 
@@ -205,16 +223,52 @@ def required_words_of(sources: Sequence[str]) -> list[tuple[str, ...]]:
         st = os.stat(__file__)
         code = f"{__file__}\0{st.st_size}\0{st.st_mtime_ns}"
     except OSError:
-        return [required_words(s) for s in sources]
+        return [required_word_sets(s) for s in sources]
+
+    def sound(v) -> bool:
+        return isinstance(v, list) and len(v) == len(sources) and all(
+            isinstance(sets, list) and all(isinstance(w, list) and w and all(isinstance(x, str) and x for x in w)
+                                           for w in sets) for sets in v)
+
     found = cached_data("required-words", "\0".join([sys.version, code, *sources]),
-                        lambda: [list(required_words(s)) for s in sources],
-                        check=lambda v: isinstance(v, list) and len(v) == len(sources)
-                        and all(isinstance(w, list) and all(isinstance(x, str) for x in w) for w in v))
-    return [tuple(w) for w in found]
+                        lambda: [[list(w) for w in required_word_sets(s)] for s in sources], check=sound)
+    return [tuple(tuple(w) for w in sets) for sets in found]
 
 
 def _needs(items: list) -> frozenset[str] | None:
     """The best set of strings of which every match of this sequence contains one, or None."""
+    useful = _useful(_candidates(items))
+    # the rarest-looking: long strings (or symbols such as "τ" or "±"), few of them
+    return max(useful, key=_rank) if useful else None
+
+
+class _MacroNeed(frozenset):
+    """A set of strings a macro's match needs (facts.MACRO_NEEDS); it may hold facts.DIGIT, which no text search
+    finds, so it narrows candidates but never picks them."""
+
+
+def _macro_needs() -> dict[str, tuple[_MacroNeed, ...]]:
+    from .facts import MACRO_NEEDS
+
+    return {name: tuple(_MacroNeed(w) for w in sets) for name, sets in MACRO_NEEDS.items()}
+
+
+_MACRO = re.compile(r"(?<!\\)\{(NUMBER|DECIMAL|UNIT|PERCENT)\}")
+#: each macro as a private-use character while the source is parsed
+_MACRO_CHAR = {"NUMBER": "\ue000", "DECIMAL": "\ue001", "UNIT": "\ue002", "PERCENT": "\ue003"}
+_CHAR_MACRO = {v: k for k, v in _MACRO_CHAR.items()}
+
+
+def _useful(candidates: list[frozenset[str]]) -> list[frozenset[str]]:
+    return [f for f in candidates if not isinstance(f, _MacroNeed) and min(_rarity(w) for w in f) >= 3]
+
+
+def _rank(f: frozenset[str]):
+    return min(_rarity(w) for w in f), -len(f), sorted(f)
+
+
+def _candidates(items: list) -> list[frozenset[str]]:
+    """Sets of strings of which every match of this sequence contains one (each set on its own)."""
     try:
         from re import _constants as c  # Python 3.11 and later
     except ImportError:  # Python 3.10
@@ -229,29 +283,27 @@ def _needs(items: list) -> frozenset[str] | None:
             run.clear()
 
     for op, av in items:
-        if op is c.LITERAL:
+        if op is c.LITERAL and chr(av) not in _CHAR_MACRO:
             run.append(chr(av))
             continue
         flush()
         found = None
-        if op is c.SUBPATTERN:
-            found = _needs(list(av[-1]))
+        if op is c.LITERAL:  # a macro
+            candidates.extend(_macro_needs()[_CHAR_MACRO[chr(av)]])
+        elif op is c.SUBPATTERN:  # a group that must match: whatever its content needs, the whole needs
+            candidates.extend(_candidates(list(av[-1])))
         elif op is getattr(c, "ATOMIC_GROUP", None):  # 3.11 and later
-            found = _needs(list(av))
+            candidates.extend(_candidates(list(av)))
         elif op is c.BRANCH:
             sets = [_needs(list(b)) for b in av[1]]
             if all(sets):
                 found = frozenset().union(*sets)
         elif op in (c.MAX_REPEAT, c.MIN_REPEAT, getattr(c, "POSSESSIVE_REPEAT", None)) and av[0] >= 1:
-            found = _needs(list(av[2]))
+            candidates.extend(_candidates(list(av[2])))
         if found:
             candidates.append(found)
     flush()
-    useful = [f for f in candidates if min(_rarity(w) for w in f) >= 3]
-    if not useful:
-        return None
-    # the rarest-looking: long strings (or symbols such as "τ" or "±"), few of them
-    return max(useful, key=lambda f: (min(_rarity(w) for w in f), -len(f), sorted(f)))
+    return candidates
 
 
 def _rarity(w: str) -> int:
@@ -268,14 +320,33 @@ class Sentences:
     starts: list[int] = field(init=False)
     folded: str = field(init=False)
     folded_starts: list[int] = field(init=False)
+    folded_texts: list[str] = field(init=False, repr=False)
+    _digits: list[bool] | None = field(init=False, default=None, repr=False)
 
     def __post_init__(self) -> None:
         self.joined, self.starts = _join(self.texts)
         # case-folded, as the regexes match without case ("ſ" folds to "s" as the regex module sees it)
-        self.folded, self.folded_starts = _join([t.casefold() for t in self.texts])
+        self.folded_texts = [t.casefold() for t in self.texts]
+        self.folded, self.folded_starts = _join(self.folded_texts)
 
     def mentions(self, need: tuple[str, ...]) -> bool:
         return not need or any(w in self.folded for w in need)
+
+    def _holds(self, si: int, words: tuple[str, ...]) -> bool:
+        """Whether sentence si holds one of the strings (facts.DIGIT: any digit the regex module's \\d matches)."""
+        text = self.folded_texts[si]
+        for w in words:
+            if w == _DIGIT_MARK:
+                if self._digits is None:
+                    import regex
+
+                    digit = regex.compile(r"\d")
+                    self._digits = [digit.search(t) is not None for t in self.texts]
+                if self._digits[si]:
+                    return True
+            elif w in text:
+                return True
+        return False
 
     def _with_words(self, need: tuple[str, ...]) -> list[int]:
         """Sentences that contain one of the strings."""
@@ -301,15 +372,21 @@ class Sentences:
             seen.update(range(first, last + 1))
         return sorted(seen)
 
-    def search(self, rx, need: tuple[str, ...], seconds: float) -> Iterator[tuple[int, object]]:
+    def search(self, rx, need: tuple[str, ...], seconds: float,
+               also: Sequence[tuple[str, ...]] = ()) -> Iterator[tuple[int, object]]:
         """(sentence index, match) for every non-empty match of rx in each sentence, sentence by sentence.
 
         The same matches as searching every sentence alone, found faster; TimeoutError after `seconds`.
-        `need` is the regex's required_words().
+        `need` is the regex's required_words(), `also` the other sets of its required_word_sets(): a sentence
+        without a string of each cannot match.
         """
         started = time.monotonic()
         if need:
             candidates: Sequence[int] = self._with_words(need)
+            for words in also:
+                if not candidates:
+                    break
+                candidates = [si for si in candidates if self._holds(si, words)]
         elif joinable(rx.pattern):
             candidates = self._touched(rx, max(seconds, 0.001))
         else:

@@ -35,7 +35,7 @@ class CompiledRules:
     def __init__(self, ruleset: RuleSet, nlp=None) -> None:
         from ..matching.matcher import phrase_patterns
         from ..matching.nlp import pipeline
-        from ..matching.regexscan import required_words_of
+        from ..matching.regexscan import required_word_sets_of
 
         self.ruleset = ruleset
         self.nlp = nlp or pipeline()  # imports spaCy (see checker.matching.spacyimport) before the matchers below
@@ -64,7 +64,7 @@ class CompiledRules:
                     self.token_matcher.add(k, [list(pt) for pt in cues.patterns])
                 for src in cues.regex:
                     self._regexes.append((k, compile_regex(src), src, ()))
-        needs = required_words_of([src for _, _, src, _ in self._regexes])
+        needs = required_word_sets_of([src for _, _, src, _ in self._regexes])
         self._regexes = [(k, rx, src, need) for (k, rx, src, _), need in zip(self._regexes, needs)]
         for k, ps in phrases.items():
             docs = phrase_patterns(self.nlp, ps)
@@ -89,11 +89,12 @@ class CompiledRules:
             for mkey, si, a, b in hits:
                 found.setdefault(mkey, {}).setdefault(si, set()).add((a, b))
         texts = Sentences([s.text for s in sentences])
-        for k, rx, src, need in self._regexes:
+        for k, rx, src, sets in self._regexes:
+            need = sets[0] if sets else ()
             if not texts.mentions(need):
                 continue
             try:
-                for si, m in texts.search(rx, need, regex_seconds):
+                for si, m in texts.search(rx, need, regex_seconds, also=sets[1:]):
                     # a group named "seen" marks the words to quote ("sensitivity" of "sensitivity of 0.8")
                     span = m.span("seen") if "seen" in rx.groupindex and m.group("seen") else m.span()
                     found.setdefault(k, {}).setdefault(si, set()).add(span)
