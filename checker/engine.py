@@ -43,11 +43,11 @@ def ignore_sections(document: Document, headings: tuple[str, ...]) -> Document:
 @lru_cache(maxsize=8)
 def _choice_matcher(cid: str):
     """A matcher of one built-in checklist's `choose_when` cues (its other cues are not needed to choose)."""
-    from .matching.matcher import phrase_patterns
+    from .matching.matcher import TokenPatterns, phrase_patterns
     from .matching.nlp import pipeline
 
     nlp = pipeline()  # imports spaCy (see checker.matching.spacyimport) before the matchers below
-    from spacy.matcher import Matcher, PhraseMatcher
+    from spacy.matcher import PhraseMatcher
 
     cues = load_checklist(cid).choose_when
     if not cues.phrases and not cues.patterns:
@@ -58,7 +58,7 @@ def _choice_matcher(cid: str):
         m.add("choose", phrase_patterns(nlp, [p.lstrip("=") for p in cues.phrases]))
         matchers.append(m)
     if cues.patterns:
-        t = Matcher(nlp.vocab)
+        t = TokenPatterns(nlp.vocab)
         t.add("choose", [list(p) for p in cues.patterns])
         matchers.append(t)
     return lambda doc: [hit for m in matchers for hit in m(doc)]

@@ -123,6 +123,84 @@ def phrase_patterns(nlp, phrases: Iterable[str]) -> list["Doc"]:
     return [make_phrase_doc(nlp, t) for t in sorted({v for p in phrases for v in spelling_variants(p)})]
 
 
+class TokenPatterns:
+    """Token patterns, matched as spaCy's Matcher matches them: (key hash, start, end) of every match, each once
+    per key.
+
+    A pattern whose tokens each only ask for ORTH, LOWER or LEMMA to be a value or one of a set ("plain"; most
+    checklist patterns) is looked up by its first token's values in one pass over the block's attribute
+    columns: spaCy's Matcher calls a Python predicate per token for every set, which made five such patterns
+    cost more than all phrase matching. Any other pattern (operators, LIKE_NUM, REGEX, ...) goes to spaCy's
+    Matcher.
+    """
+
+    _ATTRS = ("ORTH", "LOWER", "LEMMA")
+
+    def __init__(self, vocab) -> None:
+        self.vocab = vocab
+        #: attribute -> value hash -> (key hash, width, tests) of the plain patterns whose first token may be it;
+        #: tests are (token offset, attribute, the allowed hashes)
+        self._first: dict[int, dict[int, list[tuple[int, int, tuple[tuple[int, int, frozenset[int]], ...]]]]] = {}
+        self._matcher = None
+        self._keys: set[str] = set()
+
+    @classmethod
+    def _is_plain(cls, pattern) -> bool:
+        def value_ok(v) -> bool:
+            return isinstance(v, str) or (isinstance(v, dict) and set(v) == {"IN"} and isinstance(v["IN"], list)
+                                          and all(isinstance(x, str) for x in v["IN"]))
+
+        return bool(pattern) and all(isinstance(t, dict) and t and all(k in cls._ATTRS and value_ok(v)
+                                                                       for k, v in t.items()) for t in pattern)
+
+    def add(self, key: str, patterns) -> None:
+        self._keys.add(key)
+        strings = self.vocab.strings
+        other = []
+        for pattern in patterns:
+            if not self._is_plain(pattern):
+                other.append(pattern)
+                continue
+            tests = tuple((i, self._ATTRS.index(attr), frozenset(strings.add(x) for x in
+                                                                 ([v] if isinstance(v, str) else v["IN"])))
+                          for i, tok in enumerate(pattern) for attr, v in tok.items())
+            _, attr, values = tests[0]
+            entry = (strings.add(key), len(pattern), tests)
+            index = self._first.setdefault(attr, {})
+            for h in values:
+                index.setdefault(h, []).append(entry)
+        if other:
+            if self._matcher is None:
+                from spacy.matcher import Matcher
+
+                self._matcher = Matcher(self.vocab)
+            self._matcher.add(key, other)
+
+    def __len__(self) -> int:
+        return len(self._keys)
+
+    def __call__(self, doc) -> list[tuple[int, int, int]]:
+        from spacy.attrs import LEMMA, LOWER, ORTH
+
+        found: set[tuple[int, int, int]] = set()
+        n = len(doc)
+        if self._first and n:
+            columns = [c.tolist() for c in doc.to_array([ORTH, LOWER, LEMMA]).T]
+            for attr, index in self._first.items():
+                for start, h in enumerate(columns[attr]):
+                    entries = index.get(h)
+                    if entries is None:
+                        continue
+                    for key, width, tests in entries:
+                        if start + width <= n and all(columns[a][start + i] in values for i, a, values in tests):
+                            found.add((key, start, start + width))
+        out = sorted(found, key=lambda m: (m[1], m[2], m[0]))
+        if self._matcher is not None:
+            out.extend(m for m in self._matcher(doc) if (m[0], m[1], m[2]) not in found)
+            out.sort(key=lambda m: (m[1], m[2]))
+        return out
+
+
 class CompiledChecklist:
     """A checklist's cues compiled for one spaCy pipeline; build once, scan many documents."""
 
@@ -131,12 +209,12 @@ class CompiledChecklist:
 
         self.checklist = checklist
         self.nlp = nlp or pipeline()  # imports spaCy (see checker.matching.spacyimport) before the matchers below
-        from spacy.matcher import Matcher, PhraseMatcher
+        from spacy.matcher import PhraseMatcher
 
         vocab = self.nlp.vocab
         self.lemma_matcher = PhraseMatcher(vocab, attr="LEMMA")
         self.lower_matcher = PhraseMatcher(vocab, attr="LOWER")
-        self.token_matcher = Matcher(vocab)
+        self.token_matcher = TokenPatterns(vocab)
         #: (match key, regex source); compiled when a document first needs one (see _scan_regexes)
         self._regexes: list[tuple[str, str]] = []
         self.keys: set[str] = set()

@@ -33,17 +33,17 @@ class CompiledRules:
     """Every cue of a rule set compiled once (phrases, token patterns, regexes); match a Scan's sentences."""
 
     def __init__(self, ruleset: RuleSet, nlp=None) -> None:
-        from ..matching.matcher import phrase_patterns
+        from ..matching.matcher import TokenPatterns, phrase_patterns
         from ..matching.nlp import pipeline
         from ..matching.regexscan import required_word_sets_of
 
         self.ruleset = ruleset
         self.nlp = nlp or pipeline()  # imports spaCy (see checker.matching.spacyimport) before the matchers below
-        from spacy.matcher import Matcher, PhraseMatcher
+        from spacy.matcher import PhraseMatcher
 
         self.lemma_matcher = PhraseMatcher(self.nlp.vocab, attr="LEMMA")
         self.lower_matcher = PhraseMatcher(self.nlp.vocab, attr="LOWER")
-        self.token_matcher = Matcher(self.nlp.vocab)
+        self.token_matcher = TokenPatterns(self.nlp.vocab)
         self._regexes: list[tuple[str, regex.Pattern, str, tuple]] = []
         phrases: dict[str, list[str]] = {}
         for rule in ruleset.rules:
