@@ -178,12 +178,14 @@ def check_together(
 def main_documents(paths: list[str]) -> tuple[list[str], list[str]]:
     """The files to check for these paths: a LaTeX section file is replaced by the main files that read it
     (each checked once, in the order first named), and a sentence for each replacement."""
-    from .reading.latex import main_files_for
-
     out: list[str] = []
     notes: list[str] = []
     for p in paths:
-        mains = main_files_for(Path(p)) if str(p).lower().endswith(".tex") else []
+        mains = []
+        if str(p).lower().endswith(".tex"):  # the LaTeX reader (and what it imports) only when there is LaTeX
+            from .reading.latex import main_files_for
+
+            mains = main_files_for(Path(p))
         if not mains:
             targets = [p]
         else:

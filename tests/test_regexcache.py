@@ -120,3 +120,15 @@ def test_cached_lemmas_and_required_words_equal_the_fresh_ones(tmp_path):
     n, annotator, be, same, sources = second.stdout.split()
     assert int(n) > 10_000 and annotator == "annotator" and be == "be" and same == "True" and int(sources) > 20
     assert len(list((tmp_path / "data").glob("lemmas-en-*.json"))) == 1
+
+
+def test_only_the_patterns_a_run_asks_for_are_unpickled(tmp_path):
+    other = r"\b(?P<k>\d+)\s+readers\b"
+    fill = ("import regex; from checker.matching import regexcache as r; r.compile(%r, regex.I); r.compile(%r); "
+            "r.save()" % (PATTERN, other))
+    assert _run(str(tmp_path), fill).returncode == 0
+    one = _run(str(tmp_path), "import regex; from checker.matching import regexcache as r; "
+                              "rx = r.compile(%r, regex.I); print(rx.search(%r).group('n'), r._new, len(r._memo), "
+                              "sorted(k[0] for k in r._stored) == [%r])" % (PATTERN, TEXT, other))
+    assert one.returncode == 0, one.stderr
+    assert one.stdout.split() == ["3", "0", "1", "True"]  # from the file, the other pattern left packed

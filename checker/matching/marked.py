@@ -4,11 +4,12 @@ concept library, rules): expected types, known and required keys, texts; each pr
 
 from __future__ import annotations
 
-from typing import Any
-
-import yaml
+from typing import TYPE_CHECKING, Any
 
 from ..core.errors import ChecklistError
+
+if TYPE_CHECKING:  # imported where YAML is parsed: a run served from the parsed-checklist cache never needs it
+    import yaml
 
 #: a YAML file may refer to the same node again (aliases); past this many references it is refused,
 #: so that a file of nested aliases cannot expand to billions of nodes
@@ -30,7 +31,10 @@ class Loader:
         self.alias_uses = 0
         self.nodes = 0
         self.seen: set[int] = set()
+        import yaml
+
         self.constructor = yaml.constructor.SafeConstructor()
+        self.mapping, self.sequence = yaml.MappingNode, yaml.SequenceNode
 
     def convert(self, node: yaml.Node) -> Node:
         self.nodes += 1
@@ -41,14 +45,14 @@ class Loader:
         if self.nodes > MAX_NODES:
             raise TooManyAliases(node)
         line, col = node.start_mark.line + 1, node.start_mark.column + 1
-        if isinstance(node, yaml.MappingNode):
+        if isinstance(node, self.mapping):
             self.seen.add(id(node))
             out: dict[str, tuple[Node, Node]] = {}
             for k, v in node.value:
                 key = self.convert(k)
                 out[str(key.value)] = (key, self.convert(v))
             return Node(out, line, col)
-        if isinstance(node, yaml.SequenceNode):
+        if isinstance(node, self.sequence):
             self.seen.add(id(node))
             return Node([self.convert(v) for v in node.value], line, col)
         return Node(self.constructor.construct_object(node, deep=True), line, col)
@@ -151,6 +155,8 @@ def texts_of(p: Problems, node: Node | None, path: str) -> tuple[str, ...]:
 
 def compose(text: str, file: str) -> Node:
     """The YAML text as marked nodes, or ChecklistError with the place of the problem."""
+    import yaml
+
     try:
         root_node = yaml.compose(text, Loader=getattr(yaml, "CSafeLoader", yaml.SafeLoader))  # libyaml when built
     except yaml.MarkedYAMLError as exc:

@@ -2,7 +2,8 @@
 
 The regex module compiles in Python: the checklists' and the fact extractor's few hundred patterns (the number
 patterns are long) cost about half a second in every process. A compiled pattern pickles to its compiled code,
-so the second and later runs load them in milliseconds. The file sits in the user's cache folder
+so the second and later runs load them in milliseconds; each is pickled on its own and unpickled only when a run
+first asks for it. The file sits in the user's cache folder
 (``$STUDYGAP_CACHE_DIR``, else ``$XDG_CACHE_HOME/studygap``, else ``~/.cache/studygap``), is named after the
 regex and Python versions, and is only ever read back as regex patterns; when it is missing, stale, damaged
 or cannot be written, patterns are simply compiled as usual. ``STUDYGAP_CACHE_DIR=off`` turns it off.
@@ -61,7 +62,9 @@ class _PatternsOnly(pickle.Unpickler):
         raise pickle.UnpicklingError(f"{module}.{name} is not a regex pattern")
 
 
-def _read(path: Path) -> dict[tuple[str, int], regex.Pattern]:
+def _entries(path: Path) -> dict[tuple[str, int], object]:
+    """The file's entries as stored: each pattern pickled on its own (bytes), or a pattern itself (files written
+    before patterns were stored one by one); {} when the file is missing, damaged or not ours."""
     try:
         data = read_signed(path)
         if data is None:  # missing, damaged, planted or from another version: compile afresh
@@ -73,7 +76,34 @@ def _read(path: Path) -> dict[tuple[str, int], regex.Pattern]:
         return {}
     return {k: v for k, v in found.items()
             if isinstance(k, tuple) and len(k) == 2 and isinstance(k[0], str) and isinstance(k[1], int)
-            and isinstance(v, regex.Pattern) and v.pattern == k[0] and v.flags & k[1] == k[1]}
+            and isinstance(v, (bytes, regex.Pattern))}
+
+
+def _pattern(key: tuple[str, int], stored) -> regex.Pattern | None:
+    """The pattern of one entry, if it is a sound pattern for its key; unpickled only now, when first needed (a
+    run uses a fraction of the few hundred patterns kept, and unpickling them all cost a tenth of a second)."""
+    if isinstance(stored, bytes):
+        try:
+            stored = _PatternsOnly(io.BytesIO(stored)).load()
+        except Exception:  # noqa: BLE001 - not a pattern: compile afresh
+            return None
+    if isinstance(stored, regex.Pattern) and stored.pattern == key[0] and stored.flags & key[1] == key[1]:
+        return stored
+    return None
+
+
+def _read(path: Path) -> dict[tuple[str, int], regex.Pattern]:
+    """Every sound pattern of the file."""
+    out = {}
+    for k, v in _entries(path).items():
+        rx = _pattern(k, v)
+        if rx is not None:
+            out[k] = rx
+    return out
+
+
+#: entries of the cache file not unpickled yet
+_stored: dict[tuple[str, int], object] = {}
 
 
 def _load() -> None:
@@ -81,8 +111,9 @@ def _load() -> None:
     _loaded = True
     path = _file()
     if path is not None:
-        for k, v in _read(path).items():
-            _memo.setdefault(k, v)
+        for k, v in _entries(path).items():
+            if k not in _memo:
+                _stored[k] = v
 
 
 def compile(pattern: str, flags: int = 0) -> regex.Pattern:  # noqa: A001 - named as regex.compile is
@@ -92,6 +123,10 @@ def compile(pattern: str, flags: int = 0) -> regex.Pattern:  # noqa: A001 - name
         _load()
     k = (pattern, int(flags))  # a plain int: the file holds nothing but patterns, strings and numbers
     hit = _memo.get(k)
+    if hit is None and k in _stored:
+        hit = _pattern(k, _stored.pop(k))
+        if hit is not None:
+            _memo[k] = hit
     if hit is None:
         if "){" in pattern:  # only a repeated group can multiply repeats inside it (see limits.regex_expansion)
             from ..core.limits import regex_size_problem
@@ -105,18 +140,21 @@ def compile(pattern: str, flags: int = 0) -> regex.Pattern:  # noqa: A001 - name
 
 
 def save() -> None:
-    """Write the patterns compiled in this process to the cache (merged with what other runs wrote)."""
+    """Write the patterns compiled in this process to the cache (merged with what other runs wrote), each
+    pickled on its own so that a later run unpickles only those it uses."""
     global _new
     path = _file()
     if not _new or path is None:
         return
     _new = 0
     try:
-        merged = _read(path)
+        merged = _entries(path)
+        merged.update(_stored)
         merged.update(_memo)
         if len(merged) > _MAX_ENTRIES:
             merged = dict(_memo)
-        pickle_atomically(path, merged)
+        pickle_atomically(path, {k: v if isinstance(v, bytes) else pickle.dumps(v, protocol=pickle.HIGHEST_PROTOCOL)
+                                 for k, v in merged.items()})
     except (OSError, pickle.PicklingError):  # a read-only home, a full disk: the next run compiles again
         pass
 

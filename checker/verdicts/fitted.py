@@ -10,8 +10,6 @@ from __future__ import annotations
 from functools import lru_cache
 from importlib import resources
 
-import yaml
-
 from ..core.errors import ChecklistError
 from ..matching.matcher import FOUND_AT
 
@@ -20,6 +18,8 @@ FITTED_FILE = "fitted.yaml"
 
 def parse_thresholds(text: str, file: str) -> dict[str, float]:
     """The thresholds of a fitted file, checked: every value a number above 0 and at most 1."""
+    import yaml
+
     try:
         data = yaml.safe_load(text) or {}
     except yaml.YAMLError as exc:
@@ -45,7 +45,12 @@ def thresholds() -> dict[str, float]:
     res = resources.files("checker.checklists") / FITTED_FILE
     if not res.is_file():
         return {}
-    return parse_thresholds(res.read_text(encoding="utf-8"), f"checklists/{FITTED_FILE}")
+    from ..matching.regexcache import cached_data
+
+    text, file = res.read_text(encoding="utf-8"), f"checklists/{FITTED_FILE}"
+    # kept as JSON between runs, keyed by the file's text: reading YAML costs more than the rest of this module
+    return cached_data("fitted", text, lambda: parse_thresholds(text, file),
+                       check=lambda v: isinstance(v, dict) and all(isinstance(x, float) for x in v.values()))
 
 
 def threshold(concept: str) -> float:
