@@ -5,6 +5,7 @@ Every engine gives the same rows in input order, so that a screen or an audit is
 
 from __future__ import annotations
 
+import gc
 import os
 import signal
 import threading
@@ -197,12 +198,18 @@ def _run_pool(names: list[str], checklist: str, config: Config, limits: Limits, 
     from concurrent.futures.process import BrokenProcessPool
 
     results: list[BatchResult | None] = [None] * len(names)
-    if multiprocessing.get_start_method() == "fork":
-        # forked workers share what this process has built (copy-on-write), so build it once here
+    frozen = multiprocessing.get_start_method() == "fork"
+    if frozen:
+        # forked workers share what this process has built (copy-on-write), so build it once here; frozen, those
+        # objects are left alone by the workers' garbage collections, which would otherwise copy their pages
         warm(checklist)
+        gc.freeze()
     pool = ProcessPoolExecutor(max_workers=jobs, initializer=_start_worker, initargs=(checklist, os.getpid()))
     try:
         futures = {pool.submit(check_one, p, checklist, config, limits, None, cache): i for i, p in enumerate(names)}
+        if frozen:  # all workers are forked at the first submit
+            gc.unfreeze()
+            frozen = False
         for done, fut in enumerate(as_completed(futures), start=1):
             i = futures[fut]
             try:
@@ -213,6 +220,8 @@ def _run_pool(names: list[str], checklist: str, config: Config, limits: Limits, 
             if progress is not None:
                 progress(done, len(names), names[i])
     except BaseException:  # Ctrl-C, SIGTERM, a failing progress display: the workers stop now, not at the end
+        if frozen:
+            gc.unfreeze()
         _stop_pool(pool)
         raise
     pool.shutdown(wait=True)

@@ -294,6 +294,8 @@ def _candidates(items: list) -> list[frozenset[str]]:
             candidates.extend(_candidates(list(av[-1])))
         elif op is getattr(c, "ATOMIC_GROUP", None):  # 3.11 and later
             candidates.extend(_candidates(list(av)))
+        elif op is c.IN and av and all(o is c.LITERAL for o, _ in av):  # [∩⋂]: one of these characters
+            found = frozenset(chr(v).casefold() for _, v in av)
         elif op is c.BRANCH:
             sets = [_needs(list(b)) for b in av[1]]
             if all(sets):
