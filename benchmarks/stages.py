@@ -33,44 +33,53 @@ out = {}
 def lap(name):
     global t0
     t = time.perf_counter(); out[name] = t - t0; t0 = t
-import checker.cli.main, checker.engine
+def first(*names):
+    import importlib
+    for name in names:  # the module's place now, then where older checkouts kept it
+        try:
+            return importlib.import_module(name)
+        except ImportError:
+            continue
+    raise ImportError(names[0])
+first("checker.cli.main", "checker.cli"); engine = first("checker.engine")
 lap("import studygap (cli, engine)")
-from checker.matching import nlp
+nlp = first("checker.matching.nlp", "checker.nlp")
+try:  # as studygap imports spaCy (older checkouts did it when checker was imported)
+    first("checker.matching.spacyimport").import_spacy()
+except (ImportError, AttributeError):
+    pass
 import spacy.tokens  # what the pipeline needs of spaCy
 lap("import spaCy")
 nlp.pipeline()
 lap("spaCy pipeline (tokenizer, lemmas, sentences)")
-from checker.engine import compiled_for, _check, build_report, ignore_sections, choose_checklist
-from checker.reading import read_document
-from checker.core.limits import DEFAULT_LIMITS
-from checker.core.config import Config
-ref = sys.argv[2]
-compiled = compiled_for(ref)
+read_document = first("checker.reading", "checker.readers").read_document
+DEFAULT_LIMITS = first("checker.core.limits", "checker.limits").DEFAULT_LIMITS
+Config = first("checker.core.config", "checker.config").Config
+compiled = engine.compiled_for(sys.argv[2])
 lap("checklist loaded and compiled")
-document = ignore_sections(read_document(sys.argv[1], DEFAULT_LIMITS), ())
+document = engine.ignore_sections(read_document(sys.argv[1], DEFAULT_LIMITS), ())
 lap("read document")
 docs = list(nlp.parse_blocks(b.text for b in document.blocks))
 lap("tokenize, lemmas, sentences")
 scan = compiled.scan(document, regex_seconds=DEFAULT_LIMITS.regex_seconds, docs=docs)
 lap("match cues")
-from checker.verdicts.decide import evaluate
-items = evaluate(compiled, scan, {})
+items = first("checker.verdicts.decide", "checker.verdicts").evaluate(compiled, scan, {})
 lap("verdicts")
-report = build_report(document, compiled.checklist, items, "x", tuple(document.warnings), scan=scan, config=Config())
+report = engine.build_report(document, compiled.checklist, items, "x", tuple(document.warnings), scan=scan,
+                             config=Config())
 lap("rules and report")
-from checker.reports import render, RenderOptions
-render("json", [report], RenderOptions())
+reports = first("checker.reports")
+reports.render("json", [report], reports.RenderOptions())
 lap("render JSON")
-from checker.matching import regexcache
-regexcache.save()
+first("checker.matching.regexcache", "checker.regexcache").save()
 print(json.dumps(out))
 """
 
 
 def run_steps(path: Path, checklist: str, env: dict[str, str]) -> dict[str, float]:
     start = time.perf_counter()
-    proc = subprocess.run([sys.executable, "-c", STEPS, str(path), checklist], capture_output=True, text=True,
-                          env=env, cwd=ROOT)
+    proc = subprocess.run([sys.executable, "-c", STEPS, str(path.resolve()), checklist], capture_output=True,
+                          text=True, env=env, cwd=env.get("PYTHONPATH", str(ROOT)).split(os.pathsep)[0])
     wall = time.perf_counter() - start
     if proc.returncode:
         raise SystemExit(proc.stderr)
@@ -91,33 +100,47 @@ def main(argv: list[str] | None = None) -> int:
     ap.add_argument("--runs", type=int, default=5)
     ap.add_argument("--checklist", default="validation-study")
     ap.add_argument("--cold-caches", action="store_true", help="an empty cache folder for every run")
+    ap.add_argument("--against", type=Path, metavar="DIR",
+                    help="also time another checkout of studygap (for example an older commit unpacked with "
+                         "git archive), in the same rounds, to compare before and after under the same load")
     args = ap.parse_args(argv)
     files = args.files or [p for p in (ROOT / "fixtures/demo/wrist-fracture-manuscript.md",
                                        ROOT / "benchmarks/out/speed/manuscript-30p-2col.pdf") if p.exists()]
     print(f"load: {os.getloadavg()[0]:.2f} {os.getloadavg()[1]:.2f} {os.getloadavg()[2]:.2f} (1, 5, 15 min); "
           f"{os.cpu_count()} CPUs; median of {args.runs} runs")
+    roots = {"this checkout": ROOT}
+    if args.against:
+        roots[f"{args.against}"] = args.against.resolve()
     with tempfile.TemporaryDirectory(prefix="studygap-stages-") as tmp:
-        base = dict(os.environ, PYTHONPATH=str(ROOT) + os.pathsep + os.environ.get("PYTHONPATH", ""))
         for path in files:
-            samples: dict[str, list[float]] = {}
+            samples: dict[str, dict[str, list[float]]] = {name: {} for name in roots}
             refs: dict[str, list[float]] = {"python -c pass": [], "import spacy; spacy.blank('en')": []}
-            warm = dict(base, STUDYGAP_CACHE_DIR=str(Path(tmp) / "warm"))
-            if not args.cold_caches:
-                run_steps(path, args.checklist, warm)
+            envs = {}
+            for i, (name, root) in enumerate(roots.items()):
+                base = dict(os.environ, PYTHONPATH=str(root))
+                envs[name] = [dict(base, STUDYGAP_CACHE_DIR=str(Path(tmp) / f"cold-{i}-{r}")) if args.cold_caches
+                              else dict(base, STUDYGAP_CACHE_DIR=str(Path(tmp) / f"warm-{i}"))
+                              for r in range(args.runs)]
+                if not args.cold_caches:
+                    run_steps(path, args.checklist, envs[name][0])
             for r in range(args.runs):
-                env = dict(base, STUDYGAP_CACHE_DIR=str(Path(tmp) / f"cold-{r}")) if args.cold_caches else warm
-                for k, v in run_steps(path, args.checklist, env).items():
-                    samples.setdefault(k, []).append(v)
+                for name in roots:
+                    for k, v in run_steps(path, args.checklist, envs[name][r]).items():
+                        samples[name].setdefault(k, []).append(v)
+                env = envs["this checkout"][r]
                 refs["python -c pass"].append(wall([sys.executable, "-c", "pass"], env))
                 refs["import spacy; spacy.blank('en')"].append(
                     wall([sys.executable, "-c", "import spacy; spacy.blank('en')"], env))
-            print(f"\n{path.name} ({'empty' if args.cold_caches else 'filled'} caches)")
-            total = sum(statistics.median(v) for k, v in samples.items() if k != "wall time of the process")
-            for k, v in samples.items():
-                print(f"  {k:<48}{statistics.median(v):>8.3f} s   ({min(v):.3f}-{max(v):.3f})")
-            print(f"  {'sum of the steps':<48}{total:>8.3f} s")
+            print(f"\n{path.name} ({'empty' if args.cold_caches else 'filled'} caches); median seconds (min-max)")
+            print(f"  {'':<48}" + "".join(f"{name[-22:]:>24}" for name in roots))
+            for k in samples["this checkout"]:
+                print(f"  {k:<48}" + "".join(f"{statistics.median(samples[n][k]):>9.3f} ({min(samples[n][k]):.2f}-"
+                                             f"{max(samples[n][k]):.2f})" for n in roots))
+            print(f"  {'sum of the steps':<48}" + "".join(
+                f"{sum(statistics.median(v) for k, v in samples[n].items() if k != 'wall time of the process'):>9.3f}"
+                f"{'':>15}" for n in roots))
             for k, v in refs.items():
-                print(f"  {'reference: ' + k:<48}{statistics.median(v):>8.3f} s   ({min(v):.3f}-{max(v):.3f})")
+                print(f"  {'reference: ' + k:<48}{statistics.median(v):>9.3f} ({min(v):.2f}-{max(v):.2f})")
     print(f"load: {os.getloadavg()[0]:.2f} {os.getloadavg()[1]:.2f} {os.getloadavg()[2]:.2f}")
     return 0
 
