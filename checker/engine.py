@@ -43,7 +43,7 @@ def ignore_sections(document: Document, headings: tuple[str, ...]) -> Document:
 @lru_cache(maxsize=8)
 def _choice_matcher(cid: str):
     """A matcher of one built-in checklist's `choose_when` cues (its other cues are not needed to choose)."""
-    from .matching.matcher import TokenPatterns, phrase_patterns
+    from .matching.matcher import TokenPatterns, add_phrases
     from .matching.nlp import pipeline
 
     nlp = pipeline()  # imports spaCy (see checker.matching.spacyimport) before the matchers below
@@ -55,7 +55,7 @@ def _choice_matcher(cid: str):
     matchers = []
     if cues.phrases:
         m = PhraseMatcher(nlp.vocab, attr="LEMMA")
-        m.add("choose", phrase_patterns(nlp, [p.lstrip("=") for p in cues.phrases]))
+        add_phrases(nlp, {"choose": [p.lstrip("=") for p in cues.phrases]}, m)
         matchers.append(m)
     if cues.patterns:
         t = TokenPatterns(nlp.vocab)

@@ -132,3 +132,18 @@ def test_only_the_patterns_a_run_asks_for_are_unpickled(tmp_path):
                               "sorted(k[0] for k in r._stored) == [%r])" % (PATTERN, TEXT, other))
     assert one.returncode == 0, one.stderr
     assert one.stdout.split() == ["3", "0", "1", "True"]  # from the file, the other pattern left packed
+
+
+def test_cached_phrase_tokens_equal_the_tokenizers(tmp_path):
+    """The cue phrases' lemmas and lower-case forms kept between runs are what the pipeline gives them."""
+    code = ("from checker.matching import nlp\n"
+            "texts = ['inter-rater agreement', 'Annotators', \"readers' consensus\", 'e.g. ground truth', '']\n"
+            "n = nlp.pipeline()\n"
+            "table = nlp.phrase_tokens(n, texts)\n"
+            "fresh = {t: [[x.lemma_ for x in nlp.make_phrase_doc(n, t)], [x.lower_ for x in nlp.make_phrase_doc(n, t)]]"
+            " for t in texts}\n"
+            "print(table == fresh, table['Annotators'])\n")
+    first, second = _run(str(tmp_path), code), _run(str(tmp_path), code)
+    assert first.returncode == 0, first.stderr
+    assert first.stdout == second.stdout == "True [['annotator'], ['annotators']]\n"
+    assert len(list((tmp_path / "data").glob("phrases-*.json"))) == 1

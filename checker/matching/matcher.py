@@ -114,13 +114,25 @@ def spelling_variants(phrase: str) -> list[str]:
     return sorted(out)
 
 
-def phrase_patterns(nlp, phrases: Iterable[str]) -> list["Doc"]:
-    """Cue phrases with their spelling variants as PhraseMatcher patterns, one per distinct text in sorted order;
-    each serves a matcher on LEMMA and one on LOWER alike (tokens and lemmas only: a phrase needs no sentence
-    marks, and running the whole pipeline on a few thousand phrases costs a tenth of a second)."""
-    from .nlp import make_phrase_doc
+def add_phrases(nlp, phrases: dict[str, list[str]], lemma_matcher, lower_matcher=None) -> None:
+    """Each key's cue phrases with their spelling variants (one pattern per distinct text, in sorted order) added
+    to a PhraseMatcher on LEMMA and one on LOWER, as the hashes of their tokens' lemmas and lower-case forms
+    (nlp.phrase_tokens, kept between runs): what the matchers would take from a Doc of each phrase. A phrase
+    written "=mean" is matched as written, never by its lemma (else "mean" would match "meaning" and "by means
+    of"): it goes to the LOWER matcher only."""
+    from .nlp import phrase_tokens
 
-    return [make_phrase_doc(nlp, t) for t in sorted({v for p in phrases for v in spelling_variants(p)})]
+    texts = {k: sorted({v for p in ps if not p.startswith(EXACT) for v in spelling_variants(p)})
+             for k, ps in phrases.items()}
+    exact = {k: sorted({v for p in ps if p.startswith(EXACT) for v in spelling_variants(p[len(EXACT):])})
+             for k, ps in phrases.items()}
+    table = phrase_tokens(nlp, sorted({t for group in (texts, exact) for ts in group.values() for t in ts}))
+    add = nlp.vocab.strings.add
+    for k in phrases:
+        if texts[k]:
+            lemma_matcher.add(k, [[add(w) for w in table[t][0]] for t in texts[k]])
+        if lower_matcher is not None and (texts[k] or exact[k]):
+            lower_matcher.add(k, [[add(w) for w in table[t][1]] for t in texts[k] + exact[k]])
 
 
 class TokenPatterns:
@@ -229,14 +241,7 @@ class CompiledChecklist:
             if item.applies_when is not None:
                 self._add(key(ii, -1, APPLIES), item.applies_when.cues, phrase_docs)
         self._add("choose", checklist.choose_when, phrase_docs)
-        for k, phrases in phrase_docs.items():
-            # "=mean": matched as written, never by its lemma (else "mean" would match "meaning" and "by means of")
-            docs = phrase_patterns(self.nlp, [p for p in phrases if not p.startswith(EXACT)])
-            exact = phrase_patterns(self.nlp, [p[1:] for p in phrases if p.startswith(EXACT)])
-            if docs:
-                self.lemma_matcher.add(k, docs)
-            if docs or exact:
-                self.lower_matcher.add(k, docs + exact)
+        add_phrases(self.nlp, phrase_docs, self.lemma_matcher, self.lower_matcher)
         # a regex can only match where its literal words occur: sentences without them are skipped
         self._prefilter = required_word_sets_of([src for _, src in self._regexes])
         self._matchers = [m for m in (self.lemma_matcher, self.lower_matcher, self.token_matcher) if len(m)]

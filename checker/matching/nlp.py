@@ -135,6 +135,54 @@ def _lemma_table():
     return load_lookups("en", ["lemma_lookup"]).get_table("lemma_lookup")
 
 
+def _stamp() -> str | None:
+    """What the tokens and lemmas of a text depend on: spaCy's version, this module and the lemma data file."""
+    import importlib.util
+    import os
+
+    import spacy
+
+    spec = importlib.util.find_spec("spacy_lookups_data")
+    try:
+        here = os.stat(__file__)
+        data = [os.path.join(os.path.dirname(spec.origin), "data", "en_lemma_lookup.json" + gz)
+                for gz in ("", ".gz")] if spec is not None and spec.origin else []
+        parts = [spacy.__version__, f"{__file__}\0{here.st_size}\0{here.st_mtime_ns}"]
+        for d in data:
+            if os.path.exists(d):
+                st = os.stat(d)
+                parts.append(f"{d}\0{st.st_size}\0{st.st_mtime_ns}")
+    except OSError:
+        return None
+    return "\0".join(parts)
+
+
+def phrase_tokens(nlp: "Language", texts: list[str]) -> dict[str, list[list[str]]]:
+    """For each cue phrase, the lemmas and the lower-case forms of its tokens ([lemmas, lowers]) as
+    make_phrase_doc gives them. Kept in the cache folder between runs for studygap's own pipeline: in a fresh
+    process, tokenizing a checklist's few thousand phrases costs a few tenths of a second."""
+    from .regexcache import cached_data
+
+    def build() -> dict[str, list[list[str]]]:
+        out = {}
+        for t in texts:
+            doc = make_phrase_doc(nlp, t)
+            out[t] = [[tok.lemma_ for tok in doc], [tok.lower_ for tok in doc]]
+        return out
+
+    ours = pipeline.cache_info().currsize > 0 and nlp is pipeline()  # a caller's own pipeline is not cached
+    stamp = _stamp() if ours else None
+    if stamp is None:
+        return build()
+
+    def sound(v) -> bool:
+        return isinstance(v, dict) and set(v) == set(texts) and all(
+            isinstance(x, list) and len(x) == 2 and len(x[0]) == len(x[1])
+            and all(isinstance(w, str) for w in x[0] + x[1]) for x in v.values())
+
+    return cached_data("phrases", "\0".join([stamp, *texts]), build, check=sound)
+
+
 @lru_cache(maxsize=1)
 def pipeline() -> "Language":
     """spaCy's blank English with a lower-case lookup lemmatizer and our sentence rules (cached per process).

@@ -33,7 +33,7 @@ class CompiledRules:
     """Every cue of a rule set compiled once (phrases, token patterns, regexes); match a Scan's sentences."""
 
     def __init__(self, ruleset: RuleSet, nlp=None) -> None:
-        from ..matching.matcher import TokenPatterns, phrase_patterns
+        from ..matching.matcher import TokenPatterns, add_phrases
         from ..matching.nlp import pipeline
         from ..matching.regexscan import required_word_sets_of
 
@@ -66,10 +66,7 @@ class CompiledRules:
                     self._regexes.append((k, compile_regex(src), src, ()))
         needs = required_word_sets_of([src for _, _, src, _ in self._regexes])
         self._regexes = [(k, rx, src, need) for (k, rx, src, _), need in zip(self._regexes, needs)]
-        for k, ps in phrases.items():
-            docs = phrase_patterns(self.nlp, ps)
-            self.lemma_matcher.add(k, docs)
-            self.lower_matcher.add(k, docs)
+        add_phrases(self.nlp, phrases, self.lemma_matcher, self.lower_matcher)
         self._matchers = [m for m in (self.lemma_matcher, self.lower_matcher, self.token_matcher) if len(m)]
 
     def match(self, scan: "Scan", regex_seconds: float = 2.0) -> dict[str, Hits]:
