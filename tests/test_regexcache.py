@@ -108,12 +108,15 @@ def test_start_up_data_is_kept_as_signed_json_and_rebuilt_when_damaged(tmp_path,
 
 
 def test_cached_lemmas_and_required_words_equal_the_fresh_ones(tmp_path):
-    code = ("from checker.matching import nlp, regexscan\n"
+    code = ("from checker.matching import nlp, regexscan, matcher\n"
             "from checker.matching.checklist import load_checklist\n"
+            "from checker.matching.facts import MACRO_NEEDS\n"
             "t = nlp._lemma_table()\n"
             "srcs = [s for it in load_checklist('validation-study').items for f in it.facets for s in f.cues.regex]\n"
-            "w = regexscan.required_word_sets_of(srcs)\n"
-            "print(len(t), t['annotators'], t['were'], w == [regexscan.required_word_sets(s) for s in srcs], len(srcs))\n")
+            "w = matcher.required_word_sets_of(srcs)\n"
+            "m = tuple(sorted(MACRO_NEEDS.items()))\n"
+            "print(len(t), t['annotators'], t['were'], w == [regexscan.required_word_sets(s, m) for s in srcs], "
+            "len(srcs))\n")
     first, second = _run(str(tmp_path), code), _run(str(tmp_path), code)
     assert first.returncode == 0, first.stderr
     assert first.stdout == second.stdout

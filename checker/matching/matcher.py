@@ -12,7 +12,7 @@ from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, Iterable
 
 from .checklist import Checklist, Cues, compile_regex
-from .regexscan import Sentences, required_word_sets_of
+from .regexscan import Sentences, required_word_sets
 from ..reading.document import Document, Sentence
 from ..core.errors import StudygapError
 
@@ -112,6 +112,36 @@ def spelling_variants(phrase: str) -> list[str]:
             if b in v:
                 out.add(v.replace(b, a))
     return sorted(out)
+
+
+def required_word_sets_of(sources: list[str]) -> list[tuple[tuple[str, ...], ...]]:
+    """regexscan.required_word_sets() of each regex source, with what the macros need (facts.MACRO_NEEDS), kept
+    in the cache folder between runs as JSON (Python's regex parser takes about a tenth of a second over a
+    checklist's few hundred long regexes), keyed by the sources, regexscan's file, the macros' needs and the
+    Python version."""
+    import json
+    import os
+    import sys
+
+    from . import regexscan
+    from .facts import MACRO_NEEDS
+    from .regexcache import cached_data
+
+    macros = tuple(sorted(MACRO_NEEDS.items()))
+    try:
+        st = os.stat(regexscan.__file__)
+        code = f"{regexscan.__file__}\0{st.st_size}\0{st.st_mtime_ns}\0{json.dumps(macros)}"
+    except OSError:
+        return [required_word_sets(s, macros) for s in sources]
+
+    def sound(v) -> bool:
+        return isinstance(v, list) and len(v) == len(sources) and all(
+            isinstance(sets, list) and all(isinstance(w, list) and w and all(isinstance(x, str) and x for x in w)
+                                           for w in sets) for sets in v)
+
+    found = cached_data("required-words", "\0".join([sys.version, code, *sources]),
+                        lambda: [[list(w) for w in required_word_sets(s, macros)] for s in sources], check=sound)
+    return [tuple(tuple(w) for w in sets) for sets in found]
 
 
 def add_phrases(nlp, phrases: dict[str, list[str]], lemma_matcher, lower_matcher=None) -> None:

@@ -183,10 +183,11 @@ def required_words(src: str) -> tuple[str, ...]:
 
 
 @lru_cache(maxsize=8192)
-def required_word_sets(src: str) -> tuple[tuple[str, ...], ...]:
+def required_word_sets(src: str, macro_needs: tuple = ()) -> tuple[tuple[str, ...], ...]:
     """Every set of literal strings (case-folded) of which a match must contain one, rarest-looking first: a
     sentence can match only if it holds a string of each set ("{NUMBER} (annotators|readers) per (case|image)"
-    needs one of the first two words and one of the last two)."""
+    needs one of the first two words and one of the last two). ``macro_needs`` gives, as (name, sets) pairs,
+    what each macro's match needs (facts.MACRO_NEEDS); those sets come last and never pick the sentences."""
     try:
         import re._parser as sre_parse  # Python 3.11 and later
     except ImportError:  # Python 3.10
@@ -200,39 +201,15 @@ def required_word_sets(src: str) -> tuple[tuple[str, ...], ...]:
         parsed = sre_parse.parse(plain, re.IGNORECASE)
     except (re.error, RecursionError, OverflowError, ValueError):
         return ()
-    candidates = _candidates(list(parsed))
+    macros = {_MACRO_CHAR[name]: tuple(_MacroNeed(w) for w in sets) for name, sets in macro_needs
+              if name in _MACRO_CHAR}
+    candidates = _candidates(list(parsed), macros)
     useful = sorted(set(_useful(candidates)), key=_rank, reverse=True)
     if not useful:
         return ()
     # the macros' sets only narrow the sentences that hold a word of the first set (see Sentences.search)
     macros = [f for f in dict.fromkeys(candidates) if isinstance(f, _MacroNeed)]
     return tuple(tuple(sorted(f)) for f in useful + macros)
-
-
-def required_word_sets_of(sources: Sequence[str]) -> list[tuple[tuple[str, ...], ...]]:
-    """required_word_sets() of each source, kept in the cache folder between runs as JSON (Python's regex
-    parser takes about a tenth of a second over a checklist's few hundred long regexes), keyed by the sources,
-    this module's file and the Python version."""
-    import os
-    import sys
-
-    from .regexcache import cached_data
-
-    sources = list(sources)
-    try:
-        st = os.stat(__file__)
-        code = f"{__file__}\0{st.st_size}\0{st.st_mtime_ns}"
-    except OSError:
-        return [required_word_sets(s) for s in sources]
-
-    def sound(v) -> bool:
-        return isinstance(v, list) and len(v) == len(sources) and all(
-            isinstance(sets, list) and all(isinstance(w, list) and w and all(isinstance(x, str) and x for x in w)
-                                           for w in sets) for sets in v)
-
-    found = cached_data("required-words", "\0".join([sys.version, code, *sources]),
-                        lambda: [[list(w) for w in required_word_sets(s)] for s in sources], check=sound)
-    return [tuple(tuple(w) for w in sets) for sets in found]
 
 
 def _needs(items: list) -> frozenset[str] | None:
@@ -245,12 +222,6 @@ def _needs(items: list) -> frozenset[str] | None:
 class _MacroNeed(frozenset):
     """A set of strings a macro's match needs (facts.MACRO_NEEDS); it may hold facts.DIGIT, which no text search
     finds, so it narrows candidates but never picks them."""
-
-
-def _macro_needs() -> dict[str, tuple[_MacroNeed, ...]]:
-    from .facts import MACRO_NEEDS
-
-    return {name: tuple(_MacroNeed(w) for w in sets) for name, sets in MACRO_NEEDS.items()}
 
 
 _MACRO = re.compile(r"(?<!\\)\{(NUMBER|DECIMAL|UNIT|PERCENT)\}")
@@ -267,8 +238,10 @@ def _rank(f: frozenset[str]):
     return min(_rarity(w) for w in f), -len(f), sorted(f)
 
 
-def _candidates(items: list) -> list[frozenset[str]]:
-    """Sets of strings of which every match of this sequence contains one (each set on its own)."""
+def _candidates(items: list, macros: dict | None = None) -> list[frozenset[str]]:
+    """Sets of strings of which every match of this sequence contains one (each set on its own); `macros` maps
+    the character standing for a macro to the sets its match needs."""
+    macros = macros or {}
     try:
         from re import _constants as c  # Python 3.11 and later
     except ImportError:  # Python 3.10
@@ -289,11 +262,11 @@ def _candidates(items: list) -> list[frozenset[str]]:
         flush()
         found = None
         if op is c.LITERAL:  # a macro
-            candidates.extend(_macro_needs()[_CHAR_MACRO[chr(av)]])
+            candidates.extend(macros.get(chr(av), ()))
         elif op is c.SUBPATTERN:  # a group that must match: whatever its content needs, the whole needs
-            candidates.extend(_candidates(list(av[-1])))
+            candidates.extend(_candidates(list(av[-1]), macros))
         elif op is getattr(c, "ATOMIC_GROUP", None):  # 3.11 and later
-            candidates.extend(_candidates(list(av)))
+            candidates.extend(_candidates(list(av), macros))
         elif op is c.IN and av and all(o is c.LITERAL for o, _ in av):  # [∩⋂]: one of these characters
             found = frozenset(chr(v).casefold() for _, v in av)
         elif op is c.BRANCH:
@@ -301,7 +274,7 @@ def _candidates(items: list) -> list[frozenset[str]]:
             if all(sets):
                 found = frozenset().union(*sets)
         elif op in (c.MAX_REPEAT, c.MIN_REPEAT, getattr(c, "POSSESSIVE_REPEAT", None)) and av[0] >= 1:
-            candidates.extend(_candidates(list(av[2])))
+            candidates.extend(_candidates(list(av[2]), macros))
         if found:
             candidates.append(found)
     flush()

@@ -33,9 +33,8 @@ class CompiledRules:
     """Every cue of a rule set compiled once (phrases, token patterns, regexes); match a Scan's sentences."""
 
     def __init__(self, ruleset: RuleSet, nlp=None) -> None:
-        from ..matching.matcher import TokenPatterns, add_phrases
+        from ..matching.matcher import TokenPatterns, add_phrases, required_word_sets_of
         from ..matching.nlp import pipeline
-        from ..matching.regexscan import required_word_sets_of
 
         self.ruleset = ruleset
         self.nlp = nlp or pipeline()  # imports spaCy (see checker.matching.spacyimport) before the matchers below
