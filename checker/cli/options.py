@@ -18,7 +18,8 @@ def add_limit_options(p: argparse.ArgumentParser) -> None:
     g.add_argument("--max-bytes", type=int, default=None, metavar="N", help="largest input file read (default 100 MB)")
     g.add_argument("--max-pages", type=int, default=None, metavar="N", help="most PDF pages read (default 2000)")
     g.add_argument("--max-inflated-bytes", type=int, default=None, metavar="N",
-                   help="largest uncompressed size of a DOCX's parts (default 200 MB)")
+                   help="largest unpacked size of a DOCX's parts or a PDF's compressed streams, counted while "
+                        "unpacking (default 500 MB)")
     g.add_argument("--regex-seconds", type=float, default=None, metavar="S",
                    help="time bound for one checklist regex over one document (default 2)")
     g.add_argument("--seconds", type=float, default=None, metavar="S",

@@ -16,7 +16,7 @@ from .errors import InputError
 @dataclass(frozen=True)
 class Limits:
     max_bytes: int = 100 * 1024 * 1024  # size of the input file
-    max_inflated_bytes: int = 200 * 1024 * 1024  # total uncompressed size of a DOCX's parts
+    max_inflated_bytes: int = 500_000_000  # total unpacked size of a DOCX's parts or a PDF's streams
     max_pages: int = 2000  # PDF pages read
     max_blocks: int = 200_000  # blocks (paragraphs, rows, headings) in one document
     seconds: float = 300.0  # wall time for one document in a batch

@@ -431,6 +431,9 @@ def _open_zip(path: Path, data: bytes, limits: Limits) -> zipfile.ZipFile:
         )
     if any(i.flag_bits & 0x1 for i in infos):
         raise InputError(path, "the DOCX is encrypted", "save it again without a password")
+    from .inflate import check_zip
+
+    check_zip(path, data, infos, limits)  # what the directory declares is not trusted: inflated and counted
     return zf
 
 

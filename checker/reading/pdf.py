@@ -277,6 +277,9 @@ class _PdfminerNotes(logging.Handler):
 
 def read(path: Path, data: bytes, limits: Limits) -> Parsed:
     _check_complete(path, data)
+    from .inflate import check_pdf
+
+    check_pdf(path, data, limits)  # PDFium and pdfminer then unpack no more than was counted
     pages = None
     if limits.pdf_engine == "pdfium":
         from . import pdfium_layout
