@@ -20,7 +20,7 @@ from checker.reading import inflate
 from tests.test_bad_input import _limit_memory, assert_one_error, make_bad, run
 
 ROOT = Path(__file__).resolve().parent.parent
-BOMBS = ["pdf_flate_bomb", "pdf_image_labelled_bomb", "pdf_double_flate_bomb", "docx_understated_sizes"]
+BOMBS = ["pdf_flate_bomb", "pdf_image_labelled_bomb", "pdf_double_flate_bomb", "docx_understated_sizes", "huge_text"]
 
 
 @pytest.fixture(scope="module")
@@ -40,6 +40,14 @@ def test_bomb_is_refused_with_one_line_under_a_memory_limit(bombs, key, cause):
     proc = run(["check", path.name, "-f", "json"], cwd=path.parent, timeout=120, preexec_fn=_limit_memory)
     m = assert_one_error(proc, path.name, cause)
     assert "--max-inflated-bytes" in m["hint"] or "save it again" in m["hint"]
+
+
+def test_text_over_the_bound_is_refused_at_once(bombs):
+    # before the bound, spaCy took the 21 million characters on and the check ran for many minutes
+    path = bombs["huge_text"]
+    proc = run(["check", path.name, "-f", "json"], cwd=path.parent, timeout=60, preexec_fn=_limit_memory)
+    m = assert_one_error(proc, path.name, "million characters of text, over the limit of 20 million")
+    assert "in parts" in m["hint"]
 
 
 def test_the_limit_is_the_option(bombs):

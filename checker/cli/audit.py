@@ -58,7 +58,7 @@ def run(args) -> int:
     from ..reports.audit import PlotError, plot
     from ..core.output import write_atomic
     from .options import write_csv, write_output
-    from .screen import run_inputs
+    from .screen import exit_code, run_inputs
 
     try:
         meta = None
@@ -93,4 +93,4 @@ def run(args) -> int:
             print(f"studygap: error: {args.plot}: the plot could not be drawn ({exc}); the rates were written all "
                   "the same", file=sys.stderr)
             return int(ExitCode.ERROR)
-    return int(ExitCode.SOME_INPUTS_FAILED if audit.errors else ExitCode.OK)
+    return int(exit_code(results))

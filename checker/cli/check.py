@@ -6,15 +6,16 @@ import argparse
 import sys
 from pathlib import Path
 
-from ..core.errors import ExitCode, StudygapError, UsageError
+from ..core.errors import ExitCode, InputError, StudygapError, UsageError
 from ..core.status import MISSING, is_gap
-from .options import add_limit_options, color, limits_from, write_output
+from .options import add_limit_options, color, limits_from, print_internal, write_output
 
 DESCRIPTION = """The gap report for each document: per checklist item a status (reported, partial, missing,
 not applicable, waived), the passages found with their page, section and line, and the facts extracted."""
 
 EPILOG = """exit codes: 0 done (nothing over --fail-on), 1 items over --fail-on, 2 usage, checklist or input error,
-3 a batch ran but some inputs could not be read.
+3 a batch ran but some inputs could not be read, 4 internal error (a bug in studygap; --debug shows the traceback),
+130 interrupted.
 A complete report does not show that a study is sound; a person must still read the document."""
 
 
@@ -85,16 +86,27 @@ def run(args) -> int:
     args.files, notes = main_documents(args.files)
     for note in notes:
         print(f"studygap: {note}", file=sys.stderr)
+    internal = 0
     try:
         with progress_bar("checking documents", len(args.files), args.quiet) as progress:
             for f in args.files:
                 try:
-                    reports.append(check_document(f, checklist, config, limits, cache=not args.no_cache))
+                    try:
+                        reports.append(check_document(f, checklist, config, limits, cache=not args.no_cache))
+                    except MemoryError:
+                        raise InputError(f, "checking it needed more memory than this machine allowed",
+                                         "check it in parts, each part as its own file") from None
                 except StudygapError as exc:
                     if len(args.files) == 1 or getattr(exc, "path", None) is None:
                         raise
                     errors.append(exc)
                     print(exc.line(), file=sys.stderr)
+                except Exception as exc:  # noqa: BLE001 - a bug on one document must not cost the others
+                    if len(args.files) == 1:
+                        raise
+                    errors.append(exc)
+                    internal += 1
+                    print_internal(exc, args, f)
                 if progress is not None:
                     progress(len(reports) + len(errors))
     except KeyboardInterrupt:
@@ -106,6 +118,8 @@ def run(args) -> int:
         out = render(args.format, reports, RenderOptions(verbose=args.verbose, color=color(args),
                                                          many=len(args.files) > 1, all_requests=args.all_requests))
         write_output(out, args.output, args.files)
+    if internal:
+        return ExitCode.INTERNAL_ERROR
     if errors:
         return ExitCode.SOME_INPUTS_FAILED
     return _fail_code(reports, fail_on)

@@ -13,9 +13,12 @@ from typing import Sequence
 
 from .. import __version__
 from ..core.errors import ExitCode, StudygapError
+from .options import print_internal
 
-EPILOG = """exit codes: 0 done (nothing over --fail-on), 1 items over --fail-on, 2 usage, checklist or input error,
-3 a batch ran but some inputs could not be read.
+#: the exit codes every command shares, added to each command's own
+COMMON_EXITS = "4 internal error (a bug in studygap; --debug shows the traceback), 130 interrupted."
+EPILOG = f"""exit codes: 0 done (nothing over --fail-on), 1 items over --fail-on, 2 usage, checklist or input error,
+3 a batch ran but some inputs could not be read, {COMMON_EXITS}
 A complete report does not show that a study is sound; a person must still read the document."""
 
 
@@ -53,8 +56,22 @@ def build_parser() -> argparse.ArgumentParser:
     for command in (check, outline, screen, audit, compare, evaluate, checklists):
         p = command.add_parser(sub)
         name = p.prog.split()[-1]
-        p.epilog = f"example:\n  {EXAMPLES[name]}" + (f"\n\n{p.epilog}" if p.epilog else "")
+        epilog = p.epilog
+        if epilog and COMMON_EXITS not in " ".join(epilog.split()):
+            epilog = f"{epilog}\nAlso {COMMON_EXITS}"
+        p.epilog = f"example:\n  {EXAMPLES[name]}" + (f"\n\n{epilog}" if epilog else "")
+    _debug_option(parser)
     return parser
+
+
+def _debug_option(parser: argparse.ArgumentParser) -> None:
+    """--debug on every command, before or after its name: an internal error then shows its traceback."""
+    parser.add_argument("--debug", action="store_true", default=argparse.SUPPRESS,
+                        help="on an internal error (exit 4), show the traceback")
+    for action in parser._actions:
+        if isinstance(action, argparse._SubParsersAction):
+            for command in action.choices.values():
+                _debug_option(command)
 
 
 def main(argv: Sequence[str] | None = None) -> int:
@@ -80,6 +97,14 @@ def _dispatch(args) -> int:
         return ExitCode.INTERRUPTED
     except BrokenPipeError:
         return ExitCode.OK
+    except MemoryError:
+        print("studygap: error: studygap ran out of the memory this machine allows (check fewer or smaller "
+              "documents at once)", file=sys.stderr)
+        return ExitCode.ERROR
+    except Exception as exc:  # noqa: BLE001 - a bug: one line and its own exit code, the traceback on --debug
+        files = getattr(args, "files", None) or [getattr(args, "file", None)]
+        print_internal(exc, args, files[0] if len(files) == 1 else None)
+        return ExitCode.INTERNAL_ERROR
 
 
 if __name__ == "__main__":  # pragma: no cover

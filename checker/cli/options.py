@@ -10,7 +10,7 @@ import sys
 from pathlib import Path
 from typing import Sequence
 
-from ..core.errors import UsageError
+from ..core.errors import UsageError, internal_error_line
 
 
 def add_limit_options(p: argparse.ArgumentParser) -> None:
@@ -79,3 +79,12 @@ def write_csv(text: str, meta: dict, output: str | None, inputs: Sequence[str]) 
         from ..core.output import write_atomic
 
         write_atomic(sidecar_path(output), json.dumps(meta, ensure_ascii=False, indent=2) + "\n", inputs)
+
+
+def print_internal(exc: BaseException, args, path: str | None = None) -> None:
+    """One line for a bug (exit code 4); with --debug its traceback first."""
+    if getattr(args, "debug", False):
+        import traceback
+
+        traceback.print_exception(type(exc), exc, exc.__traceback__, file=sys.stderr)
+    print(internal_error_line(exc, path), file=sys.stderr)

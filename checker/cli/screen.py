@@ -166,8 +166,10 @@ def run_inputs(args, limits=None, skipped: list[tuple[str, str]] | None = None):
                             scheduler=args.scheduler, send=args.send, progress=progress,
                             cache=not getattr(args, "no_cache", False))
     for r in results:
+        if r.traceback and getattr(args, "debug", False):
+            print(r.traceback, end="", file=sys.stderr)
         if not r.ok:
-            print(f"studygap: error: {r.error}", file=sys.stderr)
+            print(f"studygap: {'internal error' if r.traceback else 'error'}: {r.error}", file=sys.stderr)
     return results, note, time.monotonic() - started, paths
 
 
@@ -191,4 +193,11 @@ def run(args) -> int:
     except StudygapError as exc:
         print(exc.line(), file=sys.stderr)
         return int(ExitCode.ERROR)
-    return int(ExitCode.SOME_INPUTS_FAILED if screen.errors else ExitCode.OK)
+    return int(exit_code(results))
+
+
+def exit_code(results) -> ExitCode:
+    """4 when studygap itself failed on a document (a bug), 3 when some could not be checked, else 0."""
+    if any(r.traceback for r in results):
+        return ExitCode.INTERNAL_ERROR
+    return ExitCode.SOME_INPUTS_FAILED if any(not r.ok for r in results) else ExitCode.OK

@@ -14,6 +14,8 @@ class ExitCode(IntEnum):
     ERROR = 2
     #: a batch ran, but some inputs could not be read (their rows say why)
     SOME_INPUTS_FAILED = 3
+    #: studygap itself failed (a bug): the one line says so and --debug shows the traceback
+    INTERNAL_ERROR = 4
     INTERRUPTED = 130
 
 
@@ -25,6 +27,16 @@ def visible(text: str) -> str:
     """Text with control and escape characters written out ("\\n", "\\x1b"), so that a file name or a message
     can neither break one record into two lines nor send escape sequences to a terminal or a CI log."""
     return text.translate(_CONTROL)
+
+
+def internal_error_line(exc: BaseException, path: str | None = None) -> str:
+    """The one line for an unexpected error (a bug in studygap), naming the document it happened on."""
+    where = f"{visible(path)}: " if path else ""
+    detail = visible(" ".join(str(exc).split()))
+    detail = detail if len(detail) <= 200 else detail[:197] + "..."
+    return (f"studygap: internal error: {where}studygap failed ({type(exc).__name__}"
+            f"{': ' + detail if detail else ''}); this is a bug in studygap: rerun with --debug to see the "
+            "traceback, and please report it")
 
 
 class StudygapError(Exception):

@@ -19,6 +19,9 @@ class Limits:
     max_inflated_bytes: int = 500_000_000  # total unpacked size of a DOCX's parts or a PDF's streams
     max_pages: int = 2000  # PDF pages read
     max_blocks: int = 200_000  # blocks (paragraphs, rows, headings) in one document
+    #: characters of text in one document, after reading: a 2,000-page thesis has about 6 million; spaCy and
+    #: the matchers hold every token of a document at once, so far more would take gigabytes
+    max_text_chars: int = 20_000_000
     seconds: float = 300.0  # wall time for one document in a batch
     regex_seconds: float = 2.0  # time bound for one checklist regex over one document
     #: how PDF text is laid out: "pdfium" (fast, the default) or "pdfminer" (pdfminer.six layout analysis).

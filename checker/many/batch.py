@@ -36,6 +36,8 @@ class BatchResult:
     path: str
     report: Report | None = None
     error: str = ""
+    #: the error is studygap's own (a bug), with its traceback for --debug
+    traceback: str = ""
 
     @property
     def ok(self) -> bool:
@@ -127,9 +129,16 @@ def check_one(path: str, checklist: str = "auto", config: Config | None = None, 
         return BatchResult(path, error=_one_line(str(exc), path))
     except OSError as exc:
         return BatchResult(path, error=f"{path}: cannot be read ({exc.strerror or exc})")
+    except MemoryError:
+        return BatchResult(path, error=f"{path}: checking it needed more memory than this machine allowed (check "
+                                       "it in parts, each part as its own file)")
     except Exception as exc:  # noqa: BLE001 - one document's failure must not stop the others
-        return BatchResult(path, error=f"{path}: studygap failed on this document ({type(exc).__name__}: {exc}); "
-                                       "please report it with the document if you can")
+        import traceback
+
+        from ..core.errors import internal_error_line
+
+        return BatchResult(path, error=internal_error_line(exc, path).removeprefix("studygap: internal error: "),
+                           traceback="".join(traceback.format_exception(type(exc), exc, exc.__traceback__)))
 
 
 def _one_line(text: str, path: str) -> str:

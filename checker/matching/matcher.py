@@ -14,7 +14,7 @@ from typing import TYPE_CHECKING, Iterable
 from .checklist import Checklist, Cues, compile_regex
 from .regexscan import Sentences, required_word_sets
 from ..reading.document import Document, Sentence
-from ..core.errors import StudygapError
+from ..core.errors import InputError, StudygapError
 
 if TYPE_CHECKING:
     from spacy.tokens import Doc
@@ -334,10 +334,8 @@ class CompiledChecklist:
                                    for name in names if m.group(name) is not None)
                     hits.setdefault(k, []).append(Hit(si, m.start(), m.end(), groups))
             except TimeoutError:
-                raise StudygapError(
-                    f"{path}: the checklist regex {src!r} took longer than {seconds:g} s "
-                    "(it backtracks too much on this text; simplify it, or raise --regex-seconds)"
-                ) from None
+                raise InputError(path, f"the checklist regex {src!r} took longer than {seconds:g} s",
+                                 "it backtracks too much on this text; simplify it, or raise --regex-seconds") from None
 
 
 def match_sentences(matchers, strings, docs: list["Doc"], spans: list[tuple[int, int, int]],

@@ -98,6 +98,18 @@ def read_bytes(path: Path, limits: Limits) -> bytes:
         raise InputError(path, f"cannot be read: {exc.strerror or exc}") from None
 
 
+def _refuse_oversized(path: Path, blocks: list[Block], limits: Limits, where: str) -> None:
+    """One document's text over the bounds is refused before spaCy sees it."""
+    if len(blocks) > limits.max_blocks:
+        raise InputError(path, f"more than {limits.max_blocks:,} blocks of text{where}",
+                         "check it in parts, each part as its own file")
+    chars = sum(len(b.text) for b in blocks)
+    if chars > limits.max_text_chars:
+        raise InputError(path, f"it holds {chars / 1e6:,.1f} million characters of text{where}, over the limit of "
+                               f"{limits.max_text_chars / 1e6:,.0f} million for one document",
+                         "check it in parts, each part as its own file")
+
+
 def read_document(path: str | Path, limits: Limits = DEFAULT_LIMITS, *, fmt: str | None = None,
                   data: bytes | None = None) -> Document:
     """Read one file into a Document with sections and roles assigned (sentences come later, from nlp).
@@ -131,8 +143,7 @@ def read_document(path: str | Path, limits: Limits = DEFAULT_LIMITS, *, fmt: str
                          "flatten its nesting, or save it in another format") from None
     except MemoryError:
         raise InputError(path, "reading it needed more memory than allowed") from None
-    if len(parsed.blocks) > limits.max_blocks:
-        raise InputError(path, f"more than {limits.max_blocks} blocks of text", "raise --max-blocks if genuine")
+    _refuse_oversized(path, parsed.blocks, limits, "")
     from .hygiene import clean_blocks
 
     cleaned, hygiene_warnings = clean_blocks(parsed.blocks)
@@ -175,9 +186,7 @@ def read_together(paths: list[str | Path], limits: Limits = DEFAULT_LIMITS) -> D
     if len(docs) == 1:
         return docs[0]
     blocks: list[Block] = [b for d in docs for b in d.blocks]
-    if len(blocks) > limits.max_blocks:
-        raise InputError(Path(paths[0]), f"more than {limits.max_blocks} blocks of text in the files together",
-                         "raise --max-blocks if genuine")
+    _refuse_oversized(Path(paths[0]), blocks, limits, " in the files together")
     pages = [d.pages for d in docs]
     digest = hashlib.sha256()
     for d in docs:

@@ -8,7 +8,7 @@ from typing import TYPE_CHECKING, Iterable
 
 import regex
 
-from ..core.errors import StudygapError
+from ..core.errors import InputError
 from ..matching.checklist import Cues, compile_regex
 from ..verdicts.report import Finding
 
@@ -95,10 +95,8 @@ class CompiledRules:
                     span = m.span("seen") if "seen" in rx.groupindex and m.group("seen") else m.span()
                     found.setdefault(k, {}).setdefault(si, set()).add(span)
             except TimeoutError:
-                raise StudygapError(
-                    f"{scan.document.path}: the rule regex {src!r} took longer than {regex_seconds:g} s on this "
-                    "text (it backtracks too much; simplify it)"
-                ) from None
+                raise InputError(scan.document.path, f"the rule regex {src!r} took longer than {regex_seconds:g} s "
+                                 "on this text", "it backtracks too much; simplify it") from None
         return {k: Hits({si: tuple(sorted(spans)) for si, spans in v.items()}) for k, v in found.items()}
 
 
