@@ -8,6 +8,7 @@ import re
 import pytest
 
 from checker.matching.checklist import builtin_ids, load_checklist
+from checker.core.output import MARKDOWN_MARK
 from checker.verdicts.report import FacetResult, ItemResult, Report
 from checker.reports import RenderOptions, render
 from checker.reports.markdown import MAX_REQUESTS, ranked_gaps, request
@@ -170,7 +171,7 @@ def test_letter_format_holds_only_the_requests_by_section():
     r = report_of(MANUSCRIPT)
     text = render("letter", [r], RenderOptions(color=False))
     gaps = ranked_gaps(r)
-    assert text.startswith(f"# Requests to the authors: {r.document_path}")
+    assert text.startswith(f"{MARKDOWN_MARK}\n# Requests to the authors: {r.document_path}")  # the mark: see output.py
     assert len(re.findall(r"^\d+\. \*\*", text, re.MULTILINE)) == min(len(gaps), MAX_REQUESTS)
     heads = re.findall(r"^## (.+)$", text, re.MULTILINE)
     assert heads == list(dict.fromkeys(r.group_title(it.group) for it in gaps[:MAX_REQUESTS]))

@@ -67,8 +67,10 @@ def collect_inputs(inputs: list[str], skipped: list[tuple[str, str]] | None = No
     """Files as given, and each folder's readable documents (sorted); a missing input stays, to become an error row.
 
     Files in a folder that are not checked are added to ``skipped`` as (path, reason), so that outputs can name
-    them: a kind studygap does not read, a hidden file or folder, a LaTeX part of a main file.
+    them: a kind studygap does not read, a hidden file or folder, a LaTeX part of a main file, and (named or in a
+    folder) a report studygap wrote, known by the mark in its content (an earlier screening page in the folder).
     """
+    from ..core.output import written_by_studygap
     from ..reading import supported_suffixes
 
     suffixes = set(supported_suffixes())
@@ -88,7 +90,9 @@ def collect_inputs(inputs: list[str], skipped: list[tuple[str, str]] | None = No
                     continue
                 if not p.is_file():
                     continue
-                if p.suffix.lower() in suffixes:
+                if p.suffix.lower() in suffixes and written_by_studygap(p):
+                    skips.append((str(p), OWN_OUTPUT))
+                elif p.suffix.lower() in suffixes:
                     found.append(str(p))
                 else:
                     skips.append((str(p), f"not a kind of file studygap reads ({p.suffix or 'no suffix'})"))
@@ -99,9 +103,14 @@ def collect_inputs(inputs: list[str], skipped: list[tuple[str, str]] | None = No
                 raise UsageError(f"{name}: no documents found in this folder (studygap reads "
                                  f"{', '.join(sorted(suffixes))})")
             out.extend(kept)
+        elif written_by_studygap(path):
+            skips.append((name, OWN_OUTPUT))
         else:
             out.append(name)
     return out
+
+
+OWN_OUTPUT = "written by studygap (a report, not a document to check)"
 
 
 def _without_latex_parts(paths: list[str]) -> list[str]:

@@ -10,6 +10,37 @@ from typing import Sequence
 from .errors import UsageError
 
 
+#: every report studygap writes in a format it also reads carries a mark, so that `screen` and `audit` know their
+#: own earlier outputs in a folder by their content, whatever they are named: a meta tag in HTML, a comment on the
+#: first line of Markdown, the author of a DOCX (CSV and JSON are never read as documents)
+GENERATOR = "studygap"
+HTML_MARK = f'<meta name="generator" content="{GENERATOR}">'
+MARKDOWN_MARK = f"<!-- written by {GENERATOR}: a report, not a document to check -->"
+_DOCX_MARK = f"<dc:creator>{GENERATOR}</dc:creator>".encode()
+
+
+def written_by_studygap(path: str | Path) -> bool:
+    """Whether the file is a report studygap wrote (by the mark in its first bytes, or a DOCX's author)."""
+    path = Path(path)
+    try:
+        if not path.is_file():
+            return False
+        with path.open("rb") as fh:
+            head = fh.read(4096)
+        if head.startswith(b"PK\x03\x04"):
+            import zipfile
+
+            with zipfile.ZipFile(path) as zf:
+                info = zf.getinfo("docProps/core.xml")
+                if info.file_size > 65536:
+                    return False
+                with zf.open(info) as part:
+                    return _DOCX_MARK in part.read(65536)
+        return HTML_MARK.encode() in head or head.lstrip(b"\xef\xbb\xbf").startswith(MARKDOWN_MARK.encode())
+    except (OSError, KeyError, ValueError, RuntimeError, EOFError, __import__("zipfile").BadZipFile):
+        return False  # not readable as a report: the reader says what is wrong with it
+
+
 def _umask() -> int:
     mask = os.umask(0)
     os.umask(mask)

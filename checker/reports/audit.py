@@ -13,6 +13,7 @@ from pathlib import Path
 
 from ..core.cautions import CAUTIONS
 from ..core.errors import UsageError
+from ..core.output import HTML_MARK
 from ..many.audit import RATE_NOTE, Audit, RateRow, group_key
 
 
@@ -177,7 +178,7 @@ background:#eef1f4;vertical-align:middle}.rb .r{position:absolute;left:0;top:0;b
 
 
 def html_page(title: str, body: str) -> str:
-    return (f"<!DOCTYPE html>\n<html lang=\"en\"><head><meta charset=\"utf-8\">"
+    return (f"<!DOCTYPE html>\n<html lang=\"en\"><head><meta charset=\"utf-8\">{HTML_MARK}"
             "<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\">"
             f"<title>{html.escape(title)}</title><style>{HTML_STYLE}</style></head><body>\n{body}\n"
             f"<script>{HTML_SCRIPT}</script></body></html>\n")

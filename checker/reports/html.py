@@ -9,6 +9,7 @@ from collections.abc import Sequence
 from html import escape
 
 from ..core.cautions import CAUTIONS
+from ..core.output import HTML_MARK
 from ..verdicts.report import Evidence, ItemResult, Report
 from ..core.status import GAPS_FIRST, is_gap
 from .words import GLYPHS, heading, status_checkboxes
@@ -233,6 +234,7 @@ def render(reports: Sequence[Report], options) -> str:
         '<html lang="en">',
         "<head>",
         '<meta charset="utf-8">',
+        HTML_MARK,
         f'<meta http-equiv="Content-Security-Policy" content="{CSP}">',
         '<meta name="viewport" content="width=device-width, initial-scale=1">',
         f"<title>{e(title)}</title>",

@@ -5,6 +5,7 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 
+from ..core.output import MARKDOWN_MARK
 from ..verdicts.report import Report
 from .markdown import MAX_REQUESTS, escape, letter, ranked_gaps
 
@@ -30,4 +31,4 @@ def render_one(r: Report, all_requests: bool = False) -> str:
 
 def render(reports: Sequence[Report], options) -> str:
     every = getattr(options, "all_requests", False)
-    return "\n".join(render_one(r, every) for r in reports)
+    return "\n".join([MARKDOWN_MARK] + [render_one(r, every) for r in reports])

@@ -8,6 +8,7 @@ from collections.abc import Sequence
 
 from ..core.cautions import CAUTIONS
 from ..core.errors import visible
+from ..core.output import MARKDOWN_MARK
 from ..core.status import is_gap
 from ..verdicts.report import Evidence, FacetResult, ItemResult, Report
 from .words import heading, word
@@ -219,7 +220,7 @@ def render_one(r: Report, verbose: bool = False, level: int = 2, all_requests: b
 def render(reports: Sequence[Report], options) -> str:
     every = getattr(options, "all_requests", False)
     if len(reports) == 1:
-        return render_one(reports[0], options.verbose, all_requests=every)
-    parts = ["# studygap reports", ""]
+        return MARKDOWN_MARK + "\n" + render_one(reports[0], options.verbose, all_requests=every)
+    parts = [MARKDOWN_MARK, "# studygap reports", ""]
     parts += [render_one(r, options.verbose, level=2, all_requests=every) for r in reports]
     return "\n".join(parts)

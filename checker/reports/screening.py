@@ -17,6 +17,7 @@ import json
 from html import escape
 
 from ..core.cautions import CAUTIONS
+from ..core.output import HTML_MARK
 from ..many.screen import SCORE_NOTE, Screen, ScreenChecklist, ScreenRow, short_names
 from ..core.status import GAPS_FIRST, STATUS_ORDER, is_gap
 from .words import GLYPHS, MEANINGS, WORDS, glyph, status_checkboxes, word
@@ -430,7 +431,7 @@ def render_html(screen: Screen, options=None) -> str:
     body.append('<dialog id="cell" aria-label="what lies behind the cell"><div class="slot"></div>'
                 '<form method="dialog"><button>Close</button></form></dialog>')
     return "\n".join([
-        "<!DOCTYPE html>", '<html lang="en">', "<head>", '<meta charset="utf-8">',
+        "<!DOCTYPE html>", '<html lang="en">', "<head>", '<meta charset="utf-8">', HTML_MARK,
         f'<meta http-equiv="Content-Security-Policy" content="{CSP}">',
         '<meta name="viewport" content="width=device-width, initial-scale=1">',
         f"<title>{e(title)}</title>", f"<style>{CSS}</style>", "</head>", "<body>", "<main>", *body, "</main>",
