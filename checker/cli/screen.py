@@ -42,6 +42,10 @@ def add_batch_options(p: argparse.ArgumentParser) -> None:
                    help="address of the Dask scheduler, for example tcp://host:8786")
     p.add_argument("--send", choices=["path", "bytes"], default="path",
                    help="give Dask workers the file paths (shared file system) or the documents' bytes (default path)")
+    p.add_argument("--task-timeout", type=float, default=None, metavar="S",
+                   help="with --engine dask: once the cluster has had no worker, or its scheduler has been out of "
+                        "reach, for S seconds, the unfinished documents become error rows and the run ends "
+                        "(default 60)")
     p.add_argument("-o", "--output", metavar="PATH", help="write the result to this file (atomically)")
     p.add_argument("--quiet", "-q", action="store_true", help="no progress display")
     p.add_argument("--no-cache", action="store_true",
@@ -158,10 +162,14 @@ def run_inputs(args, limits=None, skipped: list[tuple[str, str]] | None = None):
 
     Files of the given folders that are not checked are added to ``skipped`` and named on stderr.
     """
-    from ..many.batch import run_batch
+    from ..many.batch import DASK_LOST_AFTER, run_batch
+
     limits = limits or limits_from(args)
     if args.jobs is not None and args.jobs < 1:
         raise UsageError("--jobs must be 1 or more")
+    task_timeout = getattr(args, "task_timeout", None)
+    if task_timeout is not None and not task_timeout > 0:
+        raise UsageError("--task-timeout must be above 0")
     if args.engine == "dask" and not args.scheduler:
         raise UsageError("--engine dask needs --scheduler ADDRESS (for example tcp://host:8786)")
     skips: list[tuple[str, str]] = [] if skipped is None else skipped
@@ -173,7 +181,7 @@ def run_inputs(args, limits=None, skipped: list[tuple[str, str]] | None = None):
     with progress_bar("checking documents", len(paths), args.quiet) as progress:
         results = run_batch(paths, checklist, None, limits, jobs=args.jobs, engine=args.engine,
                             scheduler=args.scheduler, send=args.send, progress=progress,
-                            cache=not getattr(args, "no_cache", False))
+                            cache=not getattr(args, "no_cache", False), lost_after=task_timeout or DASK_LOST_AFTER)
     for r in results:
         if r.traceback and getattr(args, "debug", False):
             print(r.traceback, end="", file=sys.stderr)

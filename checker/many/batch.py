@@ -25,6 +25,9 @@ SENDS = ("path", "bytes")
 #: become error rows (Dask itself would wait for a worker forever)
 DASK_LOST_AFTER = 60.0
 
+#: how an error row from a lost cluster ends
+LOST = "before this document was checked"
+
 #: progress(done, total, path) after each document, in the order they finish
 Progress = Callable[[int, int, str], None]
 
@@ -260,9 +263,48 @@ def _stop_pool(pool: Any, grace: float = 2.0) -> None:
             pass
 
 
+@contextmanager
+def _quiet_dask_logs() -> Iterator[list[bool]]:
+    """Dask's own log lines (a lost scheduler gives dozens, with tracebacks) are kept off stderr during a run:
+    what they mean reaches the user as one error row per unfinished document. After a run that lost its cluster
+    they stay off (set the flag yielded): the client's reconnection attempts die with the process and would log
+    their tracebacks then."""
+    import logging
+
+    try:
+        import distributed  # noqa: F401 - its logging set-up (a handler on "distributed") is in place from here
+    except ImportError:
+        pass  # the run says so itself
+
+    # Dask sets levels on child loggers ("distributed.client"), which a parent's level does not override: the
+    # handlers are silenced as well as the loggers
+    loggers = [logging.getLogger(name) for name in ("distributed", "tornado", "asyncio")]
+    quieted = loggers + [h for lg in loggers for h in lg.handlers]
+    levels = [q.level for q in quieted]
+    for q in quieted:
+        q.setLevel(logging.CRITICAL + 1)
+    lost = [False]
+    try:
+        yield lost
+    finally:
+        if not lost[0]:
+            for q, level in zip(quieted, levels):
+                q.setLevel(level)
+
+
 def _run_dask(names: list[str], checklist: str, config: Config, limits: Limits, scheduler: str | None, client: Any,
               send: str, progress: Progress | None, cache: bool = False,
               lost_after: float = DASK_LOST_AFTER) -> list[BatchResult]:
+    with _quiet_dask_logs() as lost:
+        results = _run_dask_quietly(names, checklist, config, limits, scheduler, client, send, progress, cache,
+                                    lost_after)
+        lost[0] = any(r.error.endswith(LOST) for r in results)
+        return results
+
+
+def _run_dask_quietly(names: list[str], checklist: str, config: Config, limits: Limits, scheduler: str | None,
+                      client: Any, send: str, progress: Progress | None, cache: bool,
+                      lost_after: float) -> list[BatchResult]:
     try:
         from distributed import Client
     except ImportError:
@@ -357,7 +399,7 @@ def _collect_dask(client: Any, futures: list, index: dict, names: list[str], fin
             lost_since = time.monotonic()
         elif time.monotonic() - lost_since >= lost_after:
             why = (f"the Dask cluster had no worker, or its scheduler could not be reached, for {lost_after:g} s "
-                   "before this document was checked")
+                   f"{LOST}")
             for fut in sorted(pending, key=lambda f: index[f.key]):
                 finished(index[fut.key], BatchResult(names[index[fut.key]], error=f"{names[index[fut.key]]}: {why}"))
             try:
