@@ -14,6 +14,7 @@ import os
 import shutil
 import tempfile
 import zipfile
+from contextlib import contextmanager
 from functools import cache, lru_cache
 from pathlib import Path
 
@@ -187,3 +188,130 @@ def test_random_yaml_gives_a_checklist_or_located_problems(text):
 @given(text=mutated_yaml())
 def test_mutated_checklists_give_a_checklist_or_located_problems(text):
     _parse(text)
+
+
+# ---------------------------------------------------------------------------------------------------- settings
+
+CONFIG_SEEDS = {
+    ".toml": ('[tool.studygap]\nchecklist = "validation-study"\nfail-on = "missing"\n'
+              'ignore-sections = ["Supplementary material"]\n\n[tool.studygap.waivers]\n'
+              '"ranking.method" = "a single method is validated; nothing is ranked"\n'),
+    ".yaml": ('checklist: validation-study\nfail-on: missing\nignore-sections: [Supplementary material]\n'
+              'waivers:\n  ranking.method: a single method is validated; nothing is ranked\nrules:\n  x: true\n'),
+}
+TOML_BITS = st.sampled_from(["[", "]", "[[", "]]", "=", '"', "'''", "\n", "{", "}", ",", "#", "1e999", "true",
+                             "inf", "nan", "0x", "1979-05-27T07:32:00Z", "a.b.c", "\\u0000", "\\"])
+
+
+@st.composite
+def mutated_config(draw) -> tuple[str, str]:
+    suffix = draw(st.sampled_from(sorted(CONFIG_SEEDS)))
+    text = CONFIG_SEEDS[suffix]
+    for _ in range(draw(st.integers(1, 5))):
+        i = draw(st.integers(0, len(text)))
+        if draw(st.booleans()):
+            text = text[:i] + draw(st.one_of(TOML_BITS, YAML_BITS, st.text(max_size=8))) + text[i:]
+        else:
+            text = text[:i] + text[i + draw(st.integers(1, 30)):]
+    return suffix, text
+
+
+@FUZZ
+@given(case=mutated_config())
+def test_mutated_settings_give_settings_or_one_line(case):
+    from checker.core.config import Config, load_config
+
+    suffix, text = case
+    name = os.path.join(_DIR, "pyproject.toml" if suffix == ".toml" else "studygap.yaml")
+    with open(name, "w", encoding="utf-8", errors="surrogatepass") as fh:
+        fh.write(text)
+    try:
+        assert isinstance(load_config(name), Config)
+    except StudygapError as exc:
+        assert exc.line().startswith("studygap: error: ") and "\n" not in exc.line()
+
+
+# ---------------------------------------------------------------------------------------------------- caches
+# Cache entries are signed with a key only this user can read: an entry planted or damaged without the key is
+# never unpickled. The report cache also validates what it unpickles field by field, so it is fuzzed both ways:
+# mutated bytes as planted (unsigned) and mutated bytes signed with the key (past the signature).
+
+
+@pytest.fixture(scope="module")
+def kept_report(tmp_path_factory):
+    """A report kept by a real check with the cache on: (cache folder, key, path, sha256, entry file, payload,
+    the first bytes of the regex cache file)."""
+    import hashlib
+
+    from checker import resultcache
+    from checker.engine import check_document
+    from checker.matching import regexcache
+
+    folder = tmp_path_factory.mktemp("cache")
+    doc = folder / "study.md"
+    doc.write_bytes(seed(".md"))
+    with _cache_at(folder / "c"):
+        check_document(str(doc), "validation-study", cache=True)
+        data = doc.read_bytes()
+        from checker.core.config import Config
+        from checker.core.limits import DEFAULT_LIMITS
+
+        k = resultcache.key(str(doc), data, "validation-study", Config(), DEFAULT_LIMITS)
+        entry = folder / "c" / "results" / f"{k}.pickle"
+        payload = regexcache.read_signed(entry)
+        assert payload, "the check kept no report"
+        regexes = regexcache._file().read_bytes()[:4096]
+    return folder / "c", k, str(doc), hashlib.sha256(data).hexdigest(), entry, payload, regexes
+
+
+@contextmanager
+def _cache_at(folder: Path):
+    old = os.environ.get("STUDYGAP_CACHE_DIR")
+    os.environ["STUDYGAP_CACHE_DIR"] = str(folder)
+    try:
+        yield
+    finally:
+        if old is None:
+            os.environ.pop("STUDYGAP_CACHE_DIR", None)
+        else:
+            os.environ["STUDYGAP_CACHE_DIR"] = old
+
+
+def _planted_entry(kept_report, raw: bytes, signed: bool):
+    from checker import resultcache
+    from checker.matching import regexcache
+    from checker.verdicts.report import Report
+
+    cache, k, path, sha, entry, _, _ = kept_report
+    with _cache_at(cache):
+        if signed:
+            regexcache.write_signed(entry, raw)
+        else:
+            entry.write_bytes(raw)
+        got = resultcache.get(k, path, sha)
+    assert got is None or (type(got) is Report and got.document_path == path and got.sha256 == sha)
+
+
+@FUZZ
+@given(data=st.data())
+def test_mutated_report_cache_entries_are_checked_afresh_or_valid(kept_report, data):
+    payload = kept_report[5]
+    signed = data.draw(st.booleans())
+    raw = data.draw(mutated(payload))
+    if not signed:  # planted: a whole file as an attacker without the key would write it
+        raw = data.draw(st.sampled_from([b"studygap-cache-1\n" + bytes(32), b""])) + raw
+    _planted_entry(kept_report, raw, signed)
+
+
+@FUZZ
+@given(data=st.data())
+def test_planted_regex_cache_files_are_never_used(kept_report, data):
+    from checker.matching import regexcache
+
+    with _cache_at(kept_report[0]):
+        path = regexcache._file()
+        real = kept_report[6]  # the start of the real file (the check kept its regexes)
+        planted = data.draw(mutated(real))
+        path.write_bytes(planted)
+        found = regexcache._read(path)
+    assert found == {} or planted == real

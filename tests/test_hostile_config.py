@@ -86,3 +86,28 @@ def test_the_project_root_is_searched_and_nothing_above_it(tmp_path):
 def test_the_file_system_root_is_never_searched(tmp_path):
     assert Path("/") not in search_folders(Path("/"), tmp_path)
     assert Path("/") not in search_folders(Path("/usr/share"), tmp_path)
+
+
+def test_a_broken_settings_file_is_one_line_with_its_place(tmp_path):
+    # the fuzz test found these: a YAML error printed four lines (the parser's own excerpt), and a value of the
+    # wrong type (a list as the checklist, a number as [tool.studygap]) gave a traceback
+    (tmp_path / ".git").mkdir()
+    draft = tmp_path / "draft.md"
+    draft.write_text("# Methods\n\nThree radiologists annotated every scan.\n", encoding="utf-8")
+    env = {**os.environ, "NO_COLOR": "1", "PYTHONPATH": str(ROOT), "HOME": str(tmp_path)}
+    cases = [
+        ("studygap.yaml", "checklist: validation-study\nfail-on: missing: yes\n", "studygap.yaml:2:", "valid YAML"),
+        ("studygap.yaml", "checklist: [a, b]\n", "studygap.yaml", "checklist must be a checklist id"),
+        ("studygap.yaml", "ignore-sections: {a: 1}\n", "studygap.yaml", "ignore-sections must be a list"),
+        ("pyproject.toml", "[tool]\nstudygap = 3\n", "pyproject.toml", "[tool.studygap] must be a table"),
+    ]
+    for name, text, where, cause in cases:
+        for old in ("studygap.yaml", "pyproject.toml"):
+            (tmp_path / old).unlink(missing_ok=True)
+        (tmp_path / name).write_text(text, encoding="utf-8")
+        named = ["--config", name] if name == "pyproject.toml" else []  # found only with a [tool.studygap header
+        proc = subprocess.run([sys.executable, "-m", "checker.cli", "check", "draft.md", "--checklist", MINI, *named],
+                              cwd=tmp_path, capture_output=True, text=True, timeout=120, env=env, check=False)
+        assert proc.returncode == 2 and "Traceback" not in proc.stderr, proc.stderr
+        line, = proc.stderr.splitlines()
+        assert line.startswith(f"studygap: error: {where if named else tmp_path / where}") and cause in line, line

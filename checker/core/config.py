@@ -35,9 +35,15 @@ def _load_toml(path: Path) -> dict[str, Any]:
     try:
         with path.open("rb") as fh:
             data = tomllib.load(fh)
-    except (OSError, tomllib.TOMLDecodeError) as exc:
-        raise UsageError(f"{path}: cannot read the configuration: {exc}") from None
-    return data.get("tool", {}).get("studygap", {}) if path.name == "pyproject.toml" else data
+    except (OSError, tomllib.TOMLDecodeError, UnicodeDecodeError) as exc:
+        raise UsageError(f"{path}: cannot read the configuration: {' '.join(str(exc).split())}") from None
+    if path.name != "pyproject.toml":
+        return data
+    tool = data.get("tool", {})
+    table = tool.get("studygap", {}) if isinstance(tool, dict) else {}
+    if not isinstance(table, dict):
+        raise UsageError(f"{path}: [tool.studygap] must be a table of settings")
+    return table
 
 
 def _load_yaml(path: Path) -> dict[str, Any]:
@@ -45,8 +51,13 @@ def _load_yaml(path: Path) -> dict[str, Any]:
 
     try:
         data = yaml.safe_load(path.read_text(encoding="utf-8")) or {}
+    except yaml.MarkedYAMLError as exc:
+        mark = exc.problem_mark or exc.context_mark
+        where = f"{path}:{mark.line + 1}:{mark.column + 1}" if mark else str(path)
+        problem = " ".join(str(exc.problem or exc.context or "a syntax error").split())
+        raise UsageError(f"{where}: the configuration is not valid YAML ({problem})") from None
     except (OSError, UnicodeDecodeError, yaml.YAMLError) as exc:
-        raise UsageError(f"{path}: cannot read the configuration: {exc}") from None
+        raise UsageError(f"{path}: cannot read the configuration: {' '.join(str(exc).split())}") from None
     if not isinstance(data, dict):
         raise UsageError(f"{path}: the configuration must be a mapping of settings")
     return data.get("studygap", data) if isinstance(data.get("studygap"), dict) else data
@@ -114,6 +125,8 @@ def load_config(explicit: str | None = None, start: Path | None = None) -> Confi
 
 
 def parse_config(data: dict[str, Any], source: str) -> Config:
+    if not all(isinstance(k, str) for k in data):
+        raise UsageError(f"{source}: every setting's name must be text")
     unknown = sorted(set(data) - _KEYS)
     if unknown:
         raise UsageError(f"{source}: unknown setting {unknown[0]!r} (known: checklist, fail-on, waivers, "
@@ -127,14 +140,20 @@ def parse_config(data: dict[str, Any], source: str) -> Config:
                          "\"single method, nothing is ranked\"}}")
     waivers = {}
     for item, reason in waivers_raw.items():
+        if not isinstance(item, (str, int, float)):
+            raise UsageError(f"{source}: a waiver's item id must be text, like \"ranking.method\"")
         if not isinstance(reason, str) or not reason.strip():
             raise UsageError(f"{source}: the waiver of {item!r} needs a reason (why the item does not apply)")
         waivers[str(item)] = reason.strip()
     ignore = data.get("ignore-sections", data.get("ignore_sections", [])) or []
     if isinstance(ignore, str):
         ignore = [ignore]
+    if not isinstance(ignore, list) or not all(isinstance(s, (str, int, float)) for s in ignore):
+        raise UsageError(f"{source}: ignore-sections must be a list of section headings")
     rules = data.get("rules", {}) or {}
     if not isinstance(rules, dict) or not all(isinstance(v, bool) for v in rules.values()):
         raise UsageError(f"{source}: rules must map rule ids to true or false")
     checklist = data.get("checklist", "auto")
+    if not isinstance(checklist, str):
+        raise UsageError(f"{source}: checklist must be a checklist id or a path, like \"validation-study\"")
     return Config(str(checklist), fail_on, waivers, tuple(str(s) for s in ignore), dict(rules), source)

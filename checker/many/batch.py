@@ -296,8 +296,12 @@ def _run_dask(names: list[str], checklist: str, config: Config, limits: Limits, 
               send: str, progress: Progress | None, cache: bool = False,
               lost_after: float = DASK_LOST_AFTER) -> list[BatchResult]:
     with _quiet_dask_logs() as lost:
-        results = _run_dask_quietly(names, checklist, config, limits, scheduler, client, send, progress, cache,
-                                    lost_after)
+        try:
+            results = _run_dask_quietly(names, checklist, config, limits, scheduler, client, send, progress,
+                                        cache, lost_after)
+        except BaseException:
+            lost[0] = True
+            raise
         lost[0] = any(r.error.endswith(LOST) for r in results)
         return results
 
@@ -380,16 +384,21 @@ def _collect_dask(client: Any, futures: list, index: dict, names: list[str], fin
             done = set()
         for fut in sorted(done, key=lambda f: index[f.key]):
             i = index[fut.key]
-            if fut.status == "error":
-                exc = fut.exception()
-                finished(i, BatchResult(names[i], error=f"{names[i]}: the Dask task failed "
-                                                        f"({type(exc).__name__}: {' '.join(str(exc).split())})"))
-            elif fut.status == "finished":
-                finished(i, fut.result())
-            else:  # cancelled (the scheduler restarted or dropped it)
-                finished(i, BatchResult(names[i], error=f"{names[i]}: the Dask cluster dropped its task "
-                                                        f"({fut.status})"))
-            fut.release()
+            try:
+                if fut.status == "error":
+                    exc = fut.exception()
+                    result = BatchResult(names[i], error=f"{names[i]}: the Dask task failed "
+                                                         f"({type(exc).__name__}: {' '.join(str(exc).split())})")
+                elif fut.status == "finished":
+                    result = fut.result()
+                else:  # cancelled (the scheduler restarted or dropped it)
+                    result = BatchResult(names[i], error=f"{names[i]}: the Dask cluster dropped its task "
+                                                         f"({fut.status})")
+                fut.release()
+            except Exception as exc:  # noqa: BLE001 - the scheduler or worker went away while handing it over
+                result = BatchResult(names[i], error=f"{names[i]}: the Dask cluster lost the result on its way back "
+                                                     f"({type(exc).__name__}) {LOST}")
+            finished(i, result)
         if done:
             lost_since = None
             continue
