@@ -159,16 +159,16 @@ def get(k: str | None, path: str | Path | None = None, sha256: str | None = None
     data = read_signed(entry_path, _MAX_ENTRY_BYTES)
     if data is None:  # absent, damaged, not ours, or from an older studygap: check afresh
         if entry_path.exists():
-            _drop(entry_path, "its signature does not verify")
+            _drop(entry_path, "its signature does not verify", expected[0])
         return None
     try:
         entry = _ReportsOnly(io.BytesIO(data)).load()
     except Exception:  # noqa: BLE001 - signed by us but unreadable (another studygap): check afresh
-        _drop(entry_path, "it cannot be read back")
+        _drop(entry_path, "it cannot be read back", expected[0])
         return None
     problem = _entry_problem(entry, k, *expected)
     if problem:
-        _drop(entry_path, problem)
+        _drop(entry_path, problem, expected[0])
         return None
     try:
         os.utime(entry_path)  # recently used entries are the ones kept
@@ -187,8 +187,11 @@ def put(k: str | None, report: Report) -> None:
         _store(folder / f"{k}.pickle", entry)
 
 
-def _drop(entry_path: Path, why: str) -> None:
-    notices.append(f"studygap: cache: {entry_path.name[:16]}… was not used ({why}); the file is checked afresh")
+def _drop(entry_path: Path, why: str, document: str) -> None:
+    from .core.errors import visible
+
+    notices.append(f"studygap: cache: the kept report {entry_path.name[:16]}… was not used ({why}); "
+                   f"{visible(document)} is checked afresh")
     try:
         entry_path.unlink()
     except OSError:

@@ -117,6 +117,18 @@ def test_broken_checklist_is_refused_with_its_place(corpus, key, where, cause):
     assert len(problems) == 1 and problems[0].startswith(path.name + where) and cause in problems[0], problems
 
 
+@pytest.mark.parametrize(("key", "where", "cause"), [
+    ("settings_broken_yaml", ":2:17:", "the configuration is not valid YAML (mapping values are not allowed here)"),
+    ("settings_wrong_types", ":", "ignore-sections must be a list of section headings"),
+])
+def test_broken_settings_file_is_refused_with_one_line(corpus, key, where, cause):
+    path = corpus[key]
+    proc = run(["check", corpus["good_markdown"].name, "--config", path.name], cwd=path.parent, timeout=30)
+    assert "Traceback" not in proc.stderr and proc.returncode == 2 and proc.stdout == ""
+    line, = proc.stderr.splitlines()
+    assert line.startswith(f"studygap: error: {path.name}{where}") and cause in line, line
+
+
 def test_alias_bomb_is_refused_quickly_in_process(corpus):
     with pytest.raises(ChecklistError, match="aliases"):
         load_checklist(corpus["checklist_alias_bomb"])
@@ -201,12 +213,15 @@ def test_latex_unbalanced_braces_keep_the_text(corpus):
 # ------------------------------------------------------------------------------------ the whole corpus at once
 
 READABLE = ["latin1_text", "utf16_text", "nul_bytes_text", "nested_headings_markdown", "latex_input_cycle",
-            "latex_input_escape", "latex_unbalanced", "crafted_text", "good_markdown", "good_text"]
+            "latex_input_escape", "latex_unbalanced", "crafted_text", "good_markdown", "good_text",
+            "earlier_report_page"]
 UNREADABLE = ["zero_bytes", "whitespace_text", "truncated_pdf", "pdf_header_only", "random_bytes_pdf",
               "html_named_pdf", "scanned_pdf", "encrypted_pdf", "pdf_flate_bomb", "pdf_image_labelled_bomb",
               "pdf_double_flate_bomb", "truncated_docx", "zip_not_docx", "docx_zip_bomb", "docx_understated_sizes",
               "unknown_suffix", "nested_html", "huge_text",
               "long_line_markdown"]  # read, but checking it takes longer than the batch's --seconds
+#: the corpus's checklists and settings files, which are given to the options that read them
+NOT_DOCUMENTS = ("checklist_", "settings_")
 #: the batch's bound per document: far above what a good file of the corpus takes, far below the long line's
 BATCH_SECONDS = 40
 
@@ -220,14 +235,14 @@ def _limit_memory() -> None:
 
 
 def test_every_document_of_the_corpus_is_classified():
-    documents = [n for n in make_bad.names() if not n.startswith("checklist_")]
+    documents = [n for n in make_bad.names() if not n.startswith(NOT_DOCUMENTS)]
     assert sorted(READABLE + UNREADABLE) == sorted(documents)
 
 
 @pytest.fixture(scope="session")
 def corpus_run(corpus, tmp_path_factory):
     """One batch over every document of the corpus (read-only), under a memory limit and a time limit."""
-    keys = [k for k in corpus if not k.startswith("checklist_")]
+    keys = [k for k in corpus if not k.startswith(NOT_DOCUMENTS)]
     paths = [corpus[k] for k in keys]
     before = {p: _sha(p) for p in paths}
     for p in paths:

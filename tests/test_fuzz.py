@@ -260,6 +260,12 @@ def kept_report(tmp_path_factory):
         entry = folder / "c" / "results" / f"{k}.pickle"
         payload = regexcache.read_signed(entry)
         assert payload, "the check kept no report"
+        import regex
+
+        # a regex cache file as the cache writes it (this process may have compiled everything already)
+        patterns = {(p, 0): regex.compile(p) for p in (r"\b(\d+) annotators?\b", r"(?i)dice|jaccard", "a+b")}
+        regexcache.pickle_atomically(regexcache._file(), patterns)
+        assert regexcache._read(regexcache._file()).keys() == patterns.keys()
         regexes = regexcache._file().read_bytes()[:4096]
     return folder / "c", k, str(doc), hashlib.sha256(data).hexdigest(), entry, payload, regexes
 

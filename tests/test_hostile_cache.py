@@ -267,3 +267,29 @@ def test_a_check_with_a_poisoned_regex_cache_gives_the_verdicts_of_a_clean_one(t
                          timeout=120)
     assert got.returncode == want.returncode and "Traceback" not in got.stderr
     assert got.stdout == want.stdout
+
+
+def test_a_refused_entry_is_one_line_under_verbose_and_silent_otherwise(tmp_path):
+    # before, the notices were collected but never shown
+    folder = tmp_path / "cache"
+    (tmp_path / "draft.md").write_text(TEXT, encoding="utf-8")
+    env = {**os.environ, "NO_COLOR": "1", "PYTHONPATH": str(ROOT), "STUDYGAP_CACHE_DIR": str(folder)}
+
+    def check(*extra: str) -> subprocess.CompletedProcess:
+        return subprocess.run([sys.executable, "-m", "checker.cli", "check", "draft.md", "--checklist", MINI,
+                               "-f", "json", *extra], cwd=tmp_path, capture_output=True, text=True, timeout=120,
+                              env=env, check=False)
+
+    first = check()
+    assert first.returncode == 0, first.stderr
+    entries = list((folder / "results").glob("*.pickle"))
+    assert len(entries) == 1
+    entries[0].write_bytes(b"planted by someone without the key")
+    quiet = check()
+    assert quiet.returncode == 0 and quiet.stderr == "" and quiet.stdout == first.stdout
+    entries[0].write_bytes(b"planted again")
+    loud = check("--verbose")
+    assert loud.returncode == 0
+    line, = loud.stderr.splitlines()
+    assert line.startswith("studygap: cache: the kept report ") and "its signature does not verify" in line
+    assert line.endswith("draft.md is checked afresh")

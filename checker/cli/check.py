@@ -114,6 +114,12 @@ def run(args) -> int:
         print(f"studygap: interrupted after {done} of {len(args.files)} document{'s' if len(args.files) != 1 else ''}"
               "; no output was written", file=sys.stderr)
         return ExitCode.INTERRUPTED
+    if args.verbose:  # kept reports that were not used (damaged, planted, another file's): one line each
+        from ..resultcache import notices
+
+        for notice in notices:
+            print(notice, file=sys.stderr)
+        notices.clear()
     if reports:
         out = render(args.format, reports, RenderOptions(verbose=args.verbose, color=color(args),
                                                          many=len(args.files) > 1, all_requests=args.all_requests))
