@@ -166,7 +166,10 @@ def get(k: str | None, path: str | Path | None = None, sha256: str | None = None
     except Exception:  # noqa: BLE001 - signed by us but unreadable (another studygap): check afresh
         _drop(entry_path, "it cannot be read back", expected[0])
         return None
-    problem = _entry_problem(entry, k, *expected)
+    try:
+        problem = _entry_problem(entry, k, *expected)
+    except Exception:  # noqa: BLE001 - a record with fields missing or of another shape (found by the fuzz test)
+        problem = "its report is malformed (fields missing or of another kind)"
     if problem:
         _drop(entry_path, problem, expected[0])
         return None

@@ -3,6 +3,7 @@ without the cache, and nothing crashes or hangs."""
 
 from __future__ import annotations
 
+import copy
 import copyreg
 import dataclasses
 import io
@@ -132,7 +133,8 @@ def test_the_report_of_another_file_is_never_served_even_when_signed(cache, doc,
 
 
 def _crafted(report):
-    """Reports no check makes: a cycle, a 5,000-digit number, a shared fan-out, an unknown status, a foreign type."""
+    """Reports no check makes: a cycle, a 5,000-digit number, a shared fan-out, an unknown status, a foreign type,
+    a missing field."""
     item = report.items[0]
     location = item.evidence[0].location if item.evidence else None
     cyclic = []
@@ -151,6 +153,9 @@ def _crafted(report):
                                         + report.items[1:])
     yield "type", dataclasses.replace(report, words="many")
     yield "shape", dataclasses.replace(report, items=[it for it in report.items])
+    missing = copy.copy(report)  # a record without one of its fields (the fuzz test's find: an AttributeError)
+    object.__delattr__(missing, "sha256")
+    yield "missing field", missing
 
 
 def test_crafted_entries_are_refused_without_a_hang_or_a_traceback(cache, doc):
@@ -162,7 +167,7 @@ def test_crafted_entries_are_refused_without_a_hang_or_a_traceback(cache, doc):
                                              "sha256": first.sha256, "report": report})
         served = check_document(doc, MINI, cache=True)
         assert served == first, name
-    assert len(resultcache.notices) == 6
+    assert len(resultcache.notices) == 7
 
 
 def test_cache_files_are_private(cache, doc):
