@@ -34,11 +34,15 @@ def test_sigterm_to_a_multi_file_check_ends_it_like_ctrl_c(tmp_path):
     import signal
     import time
 
-    slow = tmp_path / "long.md"
-    slow.write_text("# Methods\n\n" + "The scans were read by two radiologists. " * 60000, encoding="utf-8")
+    # enough long files that the batch cannot finish before the signal, however fast the machine
+    slow = []
+    for i in range(12):
+        f = tmp_path / f"long-{i}.md"
+        f.write_text("# Methods\n\n" + "The scans were read by two radiologists. " * 60000, encoding="utf-8")
+        slow.append(str(f))
     out = tmp_path / "report.json"
     env = dict(os.environ, STUDYGAP_CACHE_DIR="off")
-    proc = subprocess.Popen([sys.executable, "-m", "checker.cli", "check", str(slow), str(slow), "--format", "json",
+    proc = subprocess.Popen([sys.executable, "-m", "checker.cli", "check", *slow, "--format", "json",
                              "-o", str(out), "--quiet"], stderr=subprocess.PIPE, text=True, env=env)
     time.sleep(4)
     proc.send_signal(signal.SIGTERM)
