@@ -63,28 +63,38 @@ def write_atomic(target: Path, data: str | bytes, inputs: Sequence[str | Path] =
             continue
     payload = data.encode("utf-8") if isinstance(data, str) else data
     try:
-        _write(target, folder, payload)
+        _write(target, payload)
     except OSError as exc:  # a full disk, a read-only folder, a quota: one line naming the path, never a traceback
         raise UsageError(f"{target}: cannot be written ({exc.strerror or exc}); any earlier file there is "
                          "unchanged") from None
 
 
-def _write(target: Path, folder: Path, payload: bytes) -> None:
+def _write(target: Path, payload: bytes) -> None:
     if target.exists() and not target.is_file():
         # a device or a pipe (/dev/null, /dev/stdout, a named pipe): renaming over it would replace it with a
         # plain file, so it is written to as it is
         with open(target, "wb") as fh:
             fh.write(payload)
         return
-    fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".part", dir=folder)
+    # mkstemp makes the file private; a report gets the mode a plain new file would have (or the old one's)
+    mode = target.stat().st_mode & 0o777 if target.exists() else 0o666 & ~_umask()
+    replace_atomically(target, payload, mode=mode, durable=True)
+
+
+def replace_atomically(path: Path, payload: bytes, *, mode: int | None = None, durable: bool = False) -> None:
+    """Write payload beside path and rename it over path in one step; the temporary file is removed on any
+    failure. Without `mode` the file stays private (0600, as mkstemp makes it); `durable` flushes it to disk
+    before the rename."""
+    fd, tmp = tempfile.mkstemp(prefix=f".{path.name[:40]}.", suffix=".part", dir=path.parent)
     try:
         with os.fdopen(fd, "wb") as fh:
             fh.write(payload)
-            fh.flush()
-            os.fsync(fh.fileno())
-        # mkstemp makes the file private; a report gets the mode a plain new file would have (or the old one's)
-        os.chmod(tmp, target.stat().st_mode & 0o777 if target.exists() else 0o666 & ~_umask())
-        os.replace(tmp, target)
+            if durable:
+                fh.flush()
+                os.fsync(fh.fileno())
+        if mode is not None:
+            os.chmod(tmp, mode)
+        os.replace(tmp, path)
     except BaseException:
         try:
             os.unlink(tmp)

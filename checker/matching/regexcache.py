@@ -25,7 +25,6 @@ import os
 import pickle
 import stat
 import sys
-import tempfile
 from pathlib import Path
 
 import regex
@@ -236,17 +235,9 @@ def write_signed(path: Path, payload: bytes) -> None:
     if key is None:
         raise OSError(f"{path.parent}: no usable cache key (a key file not owned by this user, or not private)")
     _private_folder(path.parent)
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.stem[:20]}-", dir=path.parent)  # mode 0600
-    try:
-        with os.fdopen(fd, "wb") as fh:
-            fh.write(_MAGIC + _mac(key, path.name, payload) + payload)
-        os.replace(tmp, path)
-    except BaseException:
-        try:
-            os.unlink(tmp)
-        except OSError:
-            pass
-        raise
+    from ..core.output import replace_atomically
+
+    replace_atomically(path, _MAGIC + _mac(key, path.name, payload) + payload)  # owner-only (mode 0600)
 
 
 def pickle_atomically(path: Path, value) -> None:
