@@ -26,7 +26,7 @@ from checker.cli.main import main
 from checker.core.config import Config
 from checker.engine import check_document
 from checker.core.limits import DEFAULT_LIMITS
-from checker.verdicts.report import Fact
+from checker.matching.fact import Fact
 
 from .conftest import DATA
 
@@ -141,7 +141,7 @@ def _crafted(report):
     cyclic.append(cyclic)
 
     def fact_with(value):
-        return dataclasses.replace(item, facts=(("count", (Fact("count", value, "x", location),)),))
+        return dataclasses.replace(item, facts=(("count", (Fact("count", value, "x", location=location),)),))
 
     fan = ("x",)
     for _ in range(60):  # 2**60 leaves when walked naively

@@ -306,3 +306,20 @@ def test_docx_form_opens_in_libreoffice(demo, tmp_path, monkeypatch):
     text = " ".join(" ".join(p.extract_text().split()) for p in PdfReader(pdf).pages)
     assert "Reporting form" in text and "Author's response" in text
     assert "Where the data came from" in text and "2026-01-01" in text
+
+
+def test_what_a_partial_item_lacks_reaches_the_json_report_as_decided(demo):
+    """"lacking" is decided once, by the verdicts: the JSON report carries it for every item (empty unless partial),
+    it agrees with the reason the verdicts wrote, and the report still validates against the shipped schema."""
+    data = json.loads(render("json", [demo], OPTS))
+    by_id = {it.id: it for it in demo.items}
+    partial = [it for it in data["items"] if it["status"] == "partial"]
+    assert partial, "the demo has partial items"
+    for it in data["items"]:
+        assert it["lacking"] == list(by_id[it["id"]].lacking)
+        assert bool(it["lacking"]) == (it["status"] == "partial")
+        for title in it["lacking"]:
+            assert title in it["reason"]
+    schema = json.loads((ROOT / "checker" / "schema" / "report.schema.json").read_text(encoding="utf-8"))
+    assert "lacking" in schema["$defs"]["item"]["properties"]
+    jsonschema.validate(data, schema)

@@ -12,6 +12,7 @@ from typing import Any, ClassVar, Sequence
 from .batch import BatchResult
 from ..core.status import PARTIAL, REPORTED, STATUS_ORDER, applies
 from ..core.cautions import CAUTIONS
+from ..matching.fact import plain
 
 SCORE_NOTE = ("completeness = (reported + half of partial) / applicable items; not-applicable and waived items "
               "are left out")
@@ -146,7 +147,9 @@ def fact_text(value: Any) -> str:
 def _cell(it, rep) -> Cell:
     quotes = tuple((" ".join(ev.text.split()), ev.location.describe(rep.document_path)) for ev in it.evidence[:2])
     facts = "; ".join(f"{name} {', '.join(x.text for x in fs)}" for name, fs in it.facts)
-    return Cell(it.status, it.reason, quotes, facts, tuple(f.title for f in it.facets if not f.found), it.question)
+    # what was sought and not found: for a partial item what the verdicts say it lacks, else every facet not found
+    looked_for = it.lacking or tuple(f.title for f in it.facets if not f.found)
+    return Cell(it.status, it.reason, quotes, facts, looked_for, it.question)
 
 
 def build_screen(results: Sequence[BatchResult], checklist_note: str = "", seconds: float = 0.0,
@@ -176,7 +179,7 @@ def build_screen(results: Sequence[BatchResult], checklist_note: str = "", secon
             for name, fs in it.facts:
                 seen = facts.setdefault(name, [])
                 for f in fs:
-                    text = fact_text(f.to_dict()["value"])
+                    text = fact_text(plain(f.value))
                     if text not in seen:
                         seen.append(text)
         names.update(facts)

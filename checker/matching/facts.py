@@ -14,6 +14,7 @@ from typing import Any
 import regex
 
 from . import regexcache
+from .fact import Fact
 from .words import builtin_words
 
 __all__ = [
@@ -345,32 +346,6 @@ def parse_value(name: str, text: str) -> int | float | str | Quantity | dict | l
 # Facts
 
 KINDS = ("count", "percentage", "tolerance", "percentile", "bootstrap", "split", "folds", "range", "n")
-
-
-def _json(v: Any) -> Any:
-    if isinstance(v, Quantity):
-        return v.to_dict()
-    if isinstance(v, (list, tuple)):
-        return [_json(x) for x in v]
-    if isinstance(v, dict):
-        return {k: _json(x) for k, x in v.items()}
-    return v
-
-
-@dataclass(frozen=True)
-class Fact:
-    """One value found in a sentence: its kind, parsed value, the exact text and where it stands."""
-
-    kind: str
-    value: object
-    text: str
-    start: int
-    end: int
-    noun: str | None = None  # for counts (and splits or ranges of things): what is counted, singular lower case
-
-    def to_dict(self) -> dict[str, Any]:
-        return {"kind": self.kind, "value": _json(self.value), "text": self.text, "start": self.start,
-                "end": self.end, "noun": self.noun}
 
 
 # --- nouns ---------------------------------------------------------------------------------------------------

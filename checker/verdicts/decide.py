@@ -6,7 +6,8 @@ from dataclasses import dataclass
 
 from ..matching.checklist import Facet, Item
 from ..matching.matcher import APPLIES, CUE, FOUND_AT, NEAR, UNLESS, CompiledChecklist, Hit, Scan, key
-from .report import Evidence, FacetResult, Fact, ItemResult
+from ..matching.fact import Fact
+from .report import Evidence, FacetResult, ItemResult
 
 MAX_EVIDENCE = 3
 MAX_FACTS_PER_NAME = 5
@@ -95,13 +96,14 @@ def evaluate_item(compiled: CompiledChecklist, scan: Scan, ii: int, item: Item, 
         for h in fh.hits:
             if scan.weight(h.sentence) * fh.facet.weight < found_at:
                 continue
-            for name, text, _s, _e in h.groups:
+            for name, text, start, end in h.groups:
                 k = (name, h.sentence, text)
                 if k in seen or len(facts.get(name, ())) >= MAX_FACTS_PER_NAME:
                     continue
                 seen.add(k)
                 facts.setdefault(name, []).append(
-                    Fact(name, parse_value(name, text), text.strip(), scan.sentences[h.sentence].location)
+                    Fact(name, parse_value(name, text), text.strip(), start, end,
+                         location=scan.sentences[h.sentence].location)
                 )
 
     status, reason, lacking = _status(compiled, scan, ii, item, per_facet, found, waivers)

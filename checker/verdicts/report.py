@@ -8,6 +8,7 @@ from typing import Any
 from ..reading.document import Location
 from ..core.cautions import CAUTIONS
 from ..core.status import STATUS_ORDER
+from ..matching.fact import Fact
 
 
 
@@ -32,22 +33,6 @@ class Evidence:
             "facets": list(self.facets),
             "attribution": self.attribution,
         }
-
-
-@dataclass(frozen=True)
-class Fact:
-    name: str
-    value: Any
-    text: str
-    location: Location
-
-    def to_dict(self) -> dict[str, Any]:
-        v = self.value
-        if hasattr(v, "to_dict"):
-            v = v.to_dict()
-        elif hasattr(v, "__dataclass_fields__"):
-            v = {k: getattr(v, k) for k in v.__dataclass_fields__}
-        return {"value": v, "text": self.text, "location": self.location.to_dict()}
 
 
 @dataclass(frozen=True)
@@ -81,7 +66,7 @@ class ItemResult:
     lacking: tuple[str, ...] = ()
 
     def facts_dict(self) -> dict[str, list[dict[str, Any]]]:
-        return {name: [f.to_dict() for f in fs] for name, fs in self.facts}
+        return {name: [f.report_dict() for f in fs] for name, fs in self.facts}
 
     def to_dict(self) -> dict[str, Any]:
         return {
@@ -94,6 +79,7 @@ class ItemResult:
             "evidence": [e.to_dict() for e in self.evidence],
             "facts": self.facts_dict(),
             "reason": self.reason,
+            "lacking": list(self.lacking),
             "ask": self.ask,
         }
 
