@@ -255,3 +255,21 @@ def test_split_ratios_agree_with_the_medmnist_descriptions():
         wrong = {"9:1": "7:3", "7:1:2": "5:2:3"}.get(m.group(1), "1:1")
         assert "split-percentages" in _ids(check_text(text.replace(m.group(1), wrong), "dataset-description")), flag
     assert checked >= 5
+
+
+def test_a_table_reaches_the_rules_as_cells_not_as_text_split_on_bars(tmp_path):
+    """A header cell holding a bar ("Mean age | years", written with Markdown's escaped bar) stays one cell: the
+    Total row's patient count is checked against its own column (120 + 70 is not 200), and the age column is left
+    alone. Splitting the row's text on "|" shifted the headers by one and checked neither column."""
+    table = ("We report the patients per site.\n\n"
+             "| Site | Patients | Mean age \\| years |\n|---|---|---|\n"
+             "| North | 120 | 50 |\n| South | 70 | 60 |\n| Total | 200 | 55 |\n")
+    path = tmp_path / "sites.md"
+    path.write_text(table, encoding="utf-8")
+    from checker.reading import read_document
+
+    rows = [b for b in read_document(path).blocks if b.kind == "table-row"]
+    assert rows[0].cells == ("Site", "Patients", "Mean age | years")
+    assert rows[0].text == "Site | Patients | Mean age | years"  # what users see quoted stays the joined text
+    found = [f for f in check_document(path, CHECKLIST).findings if f.id == "split-sum"]
+    assert len(found) == 1 and "column Patients" in found[0].message and "190" in found[0].message

@@ -86,6 +86,9 @@ class Block:
     role: str = "body"
     #: where the text moves to another line or page inside the block; the first mark is at offset 0
     marks: tuple[Mark, ...] = ()
+    #: a table row's cells as the reader read them (the non-empty ones, in order); the text shows them joined by
+    #: " | ", which is what a user sees quoted; code that reads a table reads these
+    cells: tuple[str, ...] = ()
 
     def location_at(self, offset: int) -> Location:
         """The location of the character at ``offset``, with the block's section path."""

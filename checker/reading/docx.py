@@ -344,7 +344,7 @@ class _DocxBlocks:
                 if text:
                     cells.append(text)
             if cells:
-                self.blocks.append(Block(text=" | ".join(cells), kind="table-row",
+                self.blocks.append(Block(text=" | ".join(cells), kind="table-row", cells=tuple(cells),
                                          location=Location(self.file, table=number, row=r)))
 
     @staticmethod

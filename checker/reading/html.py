@@ -293,10 +293,7 @@ class _HtmlBlocks:
                 self.inline(cell, cb)
                 if not cb:
                     continue
-                if b:
-                    b.space()
-                    b.add("|", None)
-                    b.space()
+                b.next_cell()
                 b.extend(cb)
             self.emit(b, "table-row", fallback=self.lines.text.get(row, row.sourceline), table=self.tables, row=r)
 

@@ -102,7 +102,8 @@ def clean_block(block: Block) -> tuple[Block, int]:
     marks = block.marks
     if marks:
         marks = tuple(dataclasses.replace(m, offset=_moved(m.offset, runs) if m.offset else 0) for m in marks)
-    return dataclasses.replace(block, text=text, marks=marks), removed
+    cells = tuple(c for c in (clean_text(c)[0] for c in block.cells) if c)
+    return dataclasses.replace(block, text=text, marks=marks, cells=cells), removed
 
 
 def clean_blocks(blocks: list[Block]) -> tuple[list[Block], list[str]]:

@@ -775,10 +775,7 @@ class _LatexReader:
             for c in row:
                 if not c:
                     continue
-                if b:
-                    b.space()
-                    b.add("|", None)
-                    b.space()
+                b.next_cell()
                 b.extend(c)
             self.blocks.append(b.block("table-row", Location(src.display, table=number, row=r)))
         self.flush()

@@ -148,10 +148,7 @@ class _MarkdownBlocks:
                 for cell in row:
                     if not cell:
                         continue
-                    if b:
-                        b.space()
-                        b.add("|", None)
-                        b.space()
+                    b.next_cell()
                     b.extend(cell)
                 self.emit(b, "table-row", row_line, table=self.tables, row=rows)
                 row = None

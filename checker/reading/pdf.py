@@ -1161,9 +1161,10 @@ class _Assembler:
             if d.kind == "heading":
                 text = text.rstrip(".:").strip() if d.runin else text
             first = d.rows[0]
+            cells = tuple(" ".join(c.split()) for r in d.rows for c in r.cells) if d.kind == "table-row" else ()
             out.append(Block(text=text, kind=d.kind, location=Location(file=self.file, page=first.page,
                                                                        line=first.line, printed_line=first.printed),
-                             level=d.level, marks=marks))
+                             level=d.level, marks=marks, cells=tuple(c for c in cells if c)))
         return out
 
     def _front_matter(self, drafts: list[_Draft]) -> None:

@@ -136,7 +136,7 @@ class LineText:
     A word broken by a hyphen at a line end ("inter-" / "rater") is joined without a space, keeping the hyphen.
     """
 
-    __slots__ = ("_parts", "_len", "_marks", "_line", "_pending", "_broken", "_last")
+    __slots__ = ("_parts", "_len", "_marks", "_line", "_pending", "_broken", "_last", "_bars")
 
     def __init__(self) -> None:
         self._parts: list[str] = []
@@ -146,6 +146,7 @@ class LineText:
         self._pending = False  # whitespace seen since the last word
         self._broken = False  # ... and that whitespace held a line break
         self._last = ""  # the last word added
+        self._bars: list[int] = []  # offsets of the " | " that part a table row's cells (see next_cell)
 
     def __bool__(self) -> bool:
         return self._len > 0
@@ -198,6 +199,15 @@ class LineText:
         if text[-1].isspace():
             self._pending = True
 
+    def next_cell(self) -> None:
+        """End a table cell: the text shows " | " before the next one, and the block keeps the cells apart."""
+        if not self:
+            return
+        self.space()
+        self._add_line("|", None)
+        self._bars.append(self._len - 1)
+        self.space()
+
     def mark_position(self) -> int:
         """A position to ask ``text_since`` about later (e.g. the start of a link's text)."""
         return len(self._parts)
@@ -245,7 +255,11 @@ class LineText:
         if location.line is None and self.first_line is not None:
             location = Location(location.file, location.page, self.first_line, location.paragraph,
                                 location.table, location.row)
-        return Block(text=text, kind=kind, location=location, level=level, marks=marks)
+        cells: tuple[str, ...] = ()
+        if kind == "table-row":
+            cuts = [-1, *self._bars, len(text)]
+            cells = tuple(c for c in (text[a + 1:b].strip() for a, b in zip(cuts, cuts[1:])) if c)
+        return Block(text=text, kind=kind, location=location, level=level, marks=marks, cells=cells)
 
 
 #: superscript and subscript digits as their own characters: "mm³" stays a unit, "experts¹²" (a citation) is
@@ -518,10 +532,7 @@ class _TextReader:
         for cell in cells:
             if not any(piece.text.strip() for piece in cell):
                 continue  # an empty or merged-away cell would only add a bare separator
-            if builder:
-                builder.space()
-                builder.add("|", None)
-                builder.space()
+            builder.next_cell()
             for piece in cell:
                 builder.add(piece.text, piece.number)
                 builder.space()

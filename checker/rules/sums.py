@@ -91,30 +91,26 @@ _COLUMN_NOT_COUNT = regex.compile(r"%|\b(?:mean|median|sd|std|age|years?|rate|sc
                                   r"percent|percentage|proportion|range|iqr|min|max|period|date)\b", regex.IGNORECASE)
 
 
-def _cells(text: str) -> list[str]:
-    return [c.strip() for c in text.split("|")]
-
-
 def _table_sums(scan: "Scan", rule: Rule) -> list[Finding]:
     """A table row labelled Total whose counts are not the sums of the rows above it."""
     doc = scan.document
     tables: dict[int, list[int]] = {}
     for bi, b in enumerate(doc.blocks):
-        if b.kind == "table-row" and b.role != "references" and b.location.table is not None:
+        if b.kind == "table-row" and b.cells and b.role != "references" and b.location.table is not None:
             tables.setdefault(b.location.table, []).append(bi)
     findings = []
     for tid in sorted(tables):
         rows = tables[tid]
         if len(rows) < 3:
             continue
-        header = _cells(doc.blocks[rows[0]].text)
+        header = doc.blocks[rows[0]].cells
         start = 1
         for ri in range(1, len(rows)):
-            cells = _cells(doc.blocks[rows[ri]].text)
+            cells = doc.blocks[rows[ri]].cells
             if not _TOTAL_LABEL.match(cells[0]):
                 continue
             total_nums = _trailing_numbers(cells)
-            body = [_trailing_numbers(_cells(doc.blocks[r].text)) for r in rows[start:ri]]
+            body = [_trailing_numbers(doc.blocks[r].cells) for r in rows[start:ri]]
             start = ri + 1
             k = len(total_nums)
             if not k or not body or any(len(b) < k for b in body):
@@ -145,7 +141,7 @@ def _table_sums(scan: "Scan", rule: Rule) -> list[Finding]:
     return findings
 
 
-def _trailing_numbers(cells: list[str]) -> list[tuple[int | None, int | None]]:
+def _trailing_numbers(cells: tuple[str, ...]) -> list[tuple[int | None, int | None]]:
     out: list[tuple[int | None, int | None]] = []
     for c in reversed(cells[1:]):
         m = _CELL_NUMBER.match(c)
