@@ -215,14 +215,16 @@ def _check(path, checklist, config, limits, read_document, parse_blocks) -> Repo
     if unknown_waivers:
         warnings.append(f"the configuration waives {', '.join(unknown_waivers)}, which checklist "
                         f"{compiled.checklist.id} does not have")
-    return build_report(document, compiled.checklist, items, choice, tuple(warnings), scan=scan, config=config)
+    return build_report(document, compiled.checklist, items, choice, tuple(warnings), scan=scan, config=config,
+                        regex_seconds=limits.regex_seconds)
 
 
 def build_report(document: Document, checklist: Checklist, items, choice: str, warnings: tuple[str, ...],
-                 *, scan=None, config: Config | None = None) -> Report:
+                 *, scan=None, config: Config | None = None, regex_seconds: float = 2.0) -> Report:
     from .rules import run_rules
 
-    findings = tuple(run_rules(scan, items, checklist, config or Config())) if scan is not None else ()
+    findings = tuple(run_rules(scan, items, checklist, config or Config(), regex_seconds=regex_seconds)) \
+        if scan is not None else ()
     return Report(
         tool_version=__version__,
         document_path=document.path,

@@ -273,3 +273,32 @@ def test_a_table_reaches_the_rules_as_cells_not_as_text_split_on_bars(tmp_path):
     assert rows[0].text == "Site | Patients | Mean age | years"  # what users see quoted stays the joined text
     found = [f for f in check_document(path, CHECKLIST).findings if f.id == "split-sum"]
     assert len(found) == 1 and "column Patients" in found[0].message and "190" in found[0].message
+
+
+def test_rule_cues_go_through_the_checklists_cue_layer():
+    """A rule's cues are matched as a checklist's are (one cue layer, matching.matcher.CompiledCues): a phrase
+    matches its spelling variants and lemmas, a regex that backtracks too long costs a one-line error naming the
+    document with the same hint as a checklist's, and rules/ compiles no matcher or regex of its own."""
+    from checker.core.errors import InputError
+    from checker.engine import compiled_for, document_from_text
+    from checker.rules import run_rules
+
+    head = "  - id: {}\n    title: t\n    severity: note\n    message: 'seen {{seen}}'\n    sources: [a]\n"
+    rules = parse_rules("version: '1'\nrules:\n" + head.format("by-hand")
+                        + "    trigger: {cues: {phrases: [label by hand]}}\n", "my-rules.yaml")
+    slow = parse_rules("version: '1'\nrules:\n" + head.format("slow")
+                       + "    trigger: {cues: {regex: ['(?:a|aa)+$']}}\n", "slow-rules.yaml")
+    compiled = compiled_for(CHECKLIST)
+    doc = document_from_text("The masks were labeled by hand in 2020.")
+    found = run_rules(compiled.scan(doc), ruleset=rules)
+    assert [f.message for f in found] == ["seen labeled by hand"]
+    doc = document_from_text("The masks " + "a" * 60 + "b were drawn.")
+    with pytest.raises(InputError) as exc:
+        run_rules(compiled.scan(doc), ruleset=slow, regex_seconds=0.05)
+    assert "the rule regex" in str(exc.value) and "--regex-seconds" in str(exc.value)
+    assert doc.path in str(exc.value)
+    rules_dir = Path(__file__).resolve().parent.parent / "checker" / "rules"
+    for p in rules_dir.glob("*.py"):
+        text = p.read_text(encoding="utf-8")
+        for own in ("PhraseMatcher", "TokenPatterns", "add_phrases", "required_word_sets", "regexscan"):
+            assert own not in text, f"{p.name} compiles cues itself ({own})"

@@ -23,7 +23,7 @@ class Limits:
     #: the matchers hold every token of a document at once, so far more would take gigabytes
     max_text_chars: int = 20_000_000
     seconds: float = 300.0  # wall time for one document in a batch
-    regex_seconds: float = 2.0  # time bound for one checklist regex over one document
+    regex_seconds: float = 2.0  # time bound for one checklist or rule regex over one document
     #: how PDF text is laid out: "pdfium" (fast, the default) or "pdfminer" (pdfminer.six layout analysis).
     #: Not a bound, but it travels with the bounds because every reader receives them.
     pdf_engine: str = "pdfium"

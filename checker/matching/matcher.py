@@ -243,17 +243,22 @@ class TokenPatterns:
         return out
 
 
-class CompiledChecklist:
-    """A checklist's cues compiled for one spaCy pipeline; build once, scan many documents."""
+class CompiledCues:
+    """Cues compiled for one spaCy pipeline under match keys, and matched in one pass over a document's sentences:
+    THE cue layer, for the checklists (CompiledChecklist) and the rules (checker.rules.data) alike.
 
-    def __init__(self, checklist: Checklist, nlp=None) -> None:
-        from .nlp import pipeline
+    Phrases go to two PhraseMatchers (lemma and lower case), token patterns to TokenPatterns, regexes are compiled
+    when a document first needs one and searched with a time bound, only in sentences holding the words they
+    require (regexscan).
+    """
 
-        self.checklist = checklist
-        self.nlp = nlp or pipeline()  # imports spaCy (see checker.matching.spacyimport) before the matchers below
-        from spacy.matcher import PhraseMatcher
+    def __init__(self, nlp, cues: Iterable[tuple[str, Cues]], *, kind: str = "checklist", source: str = "") -> None:
+        #: what the cues are ("checklist", "rule") and the file they come from, for error messages
+        self.kind, self.source = kind, source
+        self.nlp = nlp
+        from spacy.matcher import PhraseMatcher  # spaCy is imported: nlp came from nlp.pipeline()
 
-        vocab = self.nlp.vocab
+        vocab = nlp.vocab
         self.lemma_matcher = PhraseMatcher(vocab, attr="LEMMA")
         self.lower_matcher = PhraseMatcher(vocab, attr="LOWER")
         self.token_matcher = TokenPatterns(vocab)
@@ -261,31 +266,84 @@ class CompiledChecklist:
         self._regexes: list[tuple[str, str]] = []
         self.keys: set[str] = set()
         phrase_docs: dict[str, list[str]] = {}
-        for ii, item in enumerate(checklist.items):
-            for fi, facet in enumerate(item.facets):
-                self._add(key(ii, fi, CUE), facet.cues, phrase_docs)
-                if facet.near is not None:
-                    self._add(key(ii, fi, NEAR), facet.near.cues, phrase_docs)
-                if facet.unless is not None:
-                    self._add(key(ii, fi, UNLESS), facet.unless, phrase_docs)
-            if item.applies_when is not None:
-                self._add(key(ii, -1, APPLIES), item.applies_when.cues, phrase_docs)
-        self._add("choose", checklist.choose_when, phrase_docs)
-        add_phrases(self.nlp, phrase_docs, self.lemma_matcher, self.lower_matcher)
+        for k, c in cues:
+            if not c:
+                continue
+            self.keys.add(k)
+            if c.phrases:
+                phrase_docs.setdefault(k, []).extend(c.phrases)
+            if c.patterns:
+                self.token_matcher.add(k, [list(p) for p in c.patterns])
+            for src in c.regex:
+                self._regexes.append((k, src))
+        add_phrases(nlp, phrase_docs, self.lemma_matcher, self.lower_matcher)
         # a regex can only match where its literal words occur: sentences without them are skipped
         self._prefilter = required_word_sets_of([src for _, src in self._regexes])
         self._matchers = [m for m in (self.lemma_matcher, self.lower_matcher, self.token_matcher) if len(m)]
 
-    def _add(self, k: str, cues: Cues, phrase_docs: dict[str, list[str]]) -> None:
-        if not cues:
-            return
-        self.keys.add(k)
-        if cues.phrases:
-            phrase_docs.setdefault(k, []).extend(cues.phrases)
-        if cues.patterns:
-            self.token_matcher.add(k, [list(p) for p in cues.patterns])
-        for src in cues.regex:
-            self._regexes.append((k, src))
+    def match(self, sentences: list[Sentence], docs: list["Doc"], spans: list[tuple[int, int, int]], *,
+              clip: bool = True, regex_seconds: float = 2.0, path: str = "") -> dict[str, list[Hit]]:
+        """Every hit by match key, sorted and each once. Without parsed blocks (a Scan built by hand) the
+        sentences are parsed here. A spaCy hit that runs into the next sentence is cut there (clip) or left out."""
+        hits: dict[str, list[Hit]] = {}
+        if self._matchers:
+            if spans:
+                found = match_sentences(self._matchers, self.nlp.vocab.strings, docs, spans, sentences, clip=clip)
+            else:
+                found = [(self.nlp.vocab.strings[mid], si, doc[a:b].start_char, doc[a:b].end_char)
+                         for si, doc in enumerate(self.nlp.pipe([s.text for s in sentences], batch_size=128))
+                         for m in self._matchers for mid, a, b in m(doc)]
+            for mkey, si, a, b in found:
+                hits.setdefault(mkey, []).append(Hit(si, a, b))
+        self._scan_regexes(sentences, hits, regex_seconds, path)
+        for v in hits.values():
+            v.sort(key=lambda h: (h.sentence, h.start, h.end))
+        return {k: _dedupe(v) for k, v in hits.items()}
+
+    def _scan_regexes(self, sentences: list[Sentence], hits: dict[str, list[Hit]], seconds: float, path: str) -> None:
+        import regex
+
+        texts = Sentences([s.text for s in sentences])
+        for (k, src), sets in zip(self._regexes, self._prefilter):
+            need = sets[0] if sets else ()
+            if not texts.mentions(need):
+                continue  # its word occurs nowhere: no need even to compile it
+            try:
+                rx = compile_regex(src)
+            except regex.error as exc:
+                raise StudygapError(f"{self.source}: {self.kind} regex {src!r} is not valid: {exc}") from None
+            names = sorted(rx.groupindex, key=lambda n: rx.groupindex[n])
+            try:
+                for si, m in texts.search(rx, need, seconds, also=sets[1:]):
+                    groups = tuple((name, m.group(name), m.start(name), m.end(name))
+                                   for name in names if m.group(name) is not None)
+                    hits.setdefault(k, []).append(Hit(si, m.start(), m.end(), groups))
+            except TimeoutError:
+                raise InputError(path, f"the {self.kind} regex {src!r} took longer than {seconds:g} s",
+                                 "it backtracks too much on this text; simplify it, or raise --regex-seconds") from None
+
+
+class CompiledChecklist:
+    """A checklist's cues compiled for one spaCy pipeline; build once, scan many documents."""
+
+    def __init__(self, checklist: Checklist, nlp=None) -> None:
+        from .nlp import pipeline
+
+        self.checklist = checklist
+        self.nlp = nlp or pipeline()  # imports spaCy (see checker.matching.spacyimport) before the matchers
+        cues: list[tuple[str, Cues]] = []
+        for ii, item in enumerate(checklist.items):
+            for fi, facet in enumerate(item.facets):
+                cues.append((key(ii, fi, CUE), facet.cues))
+                if facet.near is not None:
+                    cues.append((key(ii, fi, NEAR), facet.near.cues))
+                if facet.unless is not None:
+                    cues.append((key(ii, fi, UNLESS), facet.unless))
+            if item.applies_when is not None:
+                cues.append((key(ii, -1, APPLIES), item.applies_when.cues))
+        cues.append(("choose", checklist.choose_when))
+        self.cues = CompiledCues(self.nlp, cues, kind="checklist", source=str(checklist.path))
+        self.keys = self.cues.keys
 
     def scan(self, document: Document, *, regex_seconds: float = 2.0, docs: Iterable["Doc"] | None = None) -> Scan:
         """Find every cue in the document's sentences; the references section is passed over."""
@@ -305,37 +363,9 @@ class CompiledChecklist:
             if not kept_docs or kept_docs[-1] is not doc:
                 kept_docs.append(doc)
             spans.append((len(kept_docs) - 1, tstart, tend))
-        hits: dict[str, list[Hit]] = {}
-        for mkey, si, a, b in match_sentences(self._matchers, self.nlp.vocab.strings, kept_docs, spans,
-                                              sentences, clip=True):
-            hits.setdefault(mkey, []).append(Hit(si, a, b))
-        self._scan_regexes(sentences, hits, regex_seconds, document.path)
-        for v in hits.values():
-            v.sort(key=lambda h: (h.sentence, h.start, h.end))
-        return Scan(document, sentences, sections, {k: _dedupe(v) for k, v in hits.items()}, skipped, spans,
-                    kept_docs)
-
-    def _scan_regexes(self, sentences: list[Sentence], hits: dict[str, list[Hit]], seconds: float, path: str) -> None:
-        import regex
-
-        texts = Sentences([s.text for s in sentences])
-        for (k, src), sets in zip(self._regexes, self._prefilter):
-            need = sets[0] if sets else ()
-            if not texts.mentions(need):
-                continue  # its word occurs nowhere: no need even to compile it
-            try:
-                rx = compile_regex(src)
-            except regex.error as exc:
-                raise StudygapError(f"{self.checklist.path}: checklist regex {src!r} is not valid: {exc}") from None
-            names = sorted(rx.groupindex, key=lambda n: rx.groupindex[n])
-            try:
-                for si, m in texts.search(rx, need, seconds, also=sets[1:]):
-                    groups = tuple((name, m.group(name), m.start(name), m.end(name))
-                                   for name in names if m.group(name) is not None)
-                    hits.setdefault(k, []).append(Hit(si, m.start(), m.end(), groups))
-            except TimeoutError:
-                raise InputError(path, f"the checklist regex {src!r} took longer than {seconds:g} s",
-                                 "it backtracks too much on this text; simplify it, or raise --regex-seconds") from None
+        hits = self.cues.match(sentences, kept_docs, spans, clip=True, regex_seconds=regex_seconds,
+                               path=document.path) if sentences else {}
+        return Scan(document, sentences, sections, hits, skipped, spans, kept_docs)
 
 
 def match_sentences(matchers, strings, docs: list["Doc"], spans: list[tuple[int, int, int]],

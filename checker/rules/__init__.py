@@ -25,8 +25,9 @@ __all__ = ["CHECKS", "load_rules", "parse_rules", "run_rules"]
 
 
 def run_rules(scan: "Scan", items=None, checklist: "Checklist | None" = None, config: "Config | None" = None,
-              ruleset: RuleSet | None = None) -> list[Finding]:
-    """Every rule switched on in the configuration, on one scanned document, in the rules file's order."""
+              ruleset: RuleSet | None = None, regex_seconds: float = 2.0) -> list[Finding]:
+    """Every rule switched on in the configuration, on one scanned document, in the rules file's order; a rule's
+    regex gets regex_seconds over the document, as a checklist's does (--regex-seconds)."""
     ruleset = ruleset or load_rules()
     switches = dict(config.rules) if config is not None else {}
     unknown = sorted(set(switches) - set(ruleset.ids))
@@ -37,7 +38,7 @@ def run_rules(scan: "Scan", items=None, checklist: "Checklist | None" = None, co
     if not active or not scan.sentences:
         return []
     compiled = compiled_rules(ruleset)
-    hits = compiled.match(scan) if any(r.trigger for r in active) else {}
+    hits = compiled.match(scan, regex_seconds) if any(r.trigger for r in active) else {}
     ctx = RunContext(scan)
     findings: list[Finding] = []
     for rule in active:

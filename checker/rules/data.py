@@ -8,8 +8,7 @@ from typing import TYPE_CHECKING, Iterable
 
 import regex
 
-from ..core.errors import InputError
-from ..matching.checklist import Cues, compile_regex
+from ..matching.checklist import Cues
 from ..verdicts.report import Finding
 
 from .model import MAX_EVIDENCE, MAX_PASSAGES, OTHERS_WORK, Rule, RuleSet, Scope
@@ -30,21 +29,16 @@ class Hits:
 
 
 class CompiledRules:
-    """Every cue of a rule set compiled once (phrases, token patterns, regexes); match a Scan's sentences."""
+    """Every cue of a rule set compiled once, through the checklists' cue layer (matching.matcher.CompiledCues)
+    under keys "RULE:PART"; match a Scan's sentences."""
 
     def __init__(self, ruleset: RuleSet, nlp=None) -> None:
-        from ..matching.matcher import TokenPatterns, add_phrases, required_word_sets_of
+        from ..matching.matcher import CompiledCues
         from ..matching.nlp import pipeline
 
         self.ruleset = ruleset
-        self.nlp = nlp or pipeline()  # imports spaCy (see checker.matching.spacyimport) before the matchers below
-        from spacy.matcher import PhraseMatcher
-
-        self.lemma_matcher = PhraseMatcher(self.nlp.vocab, attr="LEMMA")
-        self.lower_matcher = PhraseMatcher(self.nlp.vocab, attr="LOWER")
-        self.token_matcher = TokenPatterns(self.nlp.vocab)
-        self._regexes: list[tuple[str, regex.Pattern, str, tuple]] = []
-        phrases: dict[str, list[str]] = {}
+        self.nlp = nlp or pipeline()  # imports spaCy (see checker.matching.spacyimport) before the matchers
+        cues: list[tuple[str, Cues | None]] = []
         for rule in ruleset.rules:
             t = rule.trigger
             if t is None:
@@ -53,51 +47,22 @@ class CompiledRules:
                                                      ("unless", t.unless)]
             parts += [(f"with{i}", cs.cues) for i, cs in enumerate(t.with_)]
             parts += [(f"without{i}", cs.cues) for i, cs in enumerate(t.without)]
-            for part, cues in parts:
-                if not cues:
-                    continue
-                k = f"{rule.id}:{part}"
-                if cues.phrases:
-                    phrases.setdefault(k, []).extend(cues.phrases)
-                if cues.patterns:
-                    self.token_matcher.add(k, [list(pt) for pt in cues.patterns])
-                for src in cues.regex:
-                    self._regexes.append((k, compile_regex(src), src, ()))
-        needs = required_word_sets_of([src for _, _, src, _ in self._regexes])
-        self._regexes = [(k, rx, src, need) for (k, rx, src, _), need in zip(self._regexes, needs)]
-        add_phrases(self.nlp, phrases, self.lemma_matcher, self.lower_matcher)
-        self._matchers = [m for m in (self.lemma_matcher, self.lower_matcher, self.token_matcher) if len(m)]
+            cues += [(f"{rule.id}:{part}", c) for part, c in parts]
+        self.cues = CompiledCues(self.nlp, cues, kind="rule", source=str(ruleset.path))
 
     def match(self, scan: "Scan", regex_seconds: float = 2.0) -> dict[str, Hits]:
-        from ..matching.matcher import match_sentences
-        from ..matching.regexscan import Sentences
-
-        found: dict[str, dict[int, set[tuple[int, int]]]] = {}
-        sentences = scan.sentences
-        if self._matchers:
-            if scan.docs:
-                hits = match_sentences(self._matchers, self.nlp.vocab.strings, scan.docs, scan.spans, sentences,
-                                       clip=False)
-            else:  # a Scan built by hand, without its parsed blocks
-                hits = [(self.nlp.vocab.strings[mid], si, doc[a:b].start_char, doc[a:b].end_char)
-                        for si, doc in enumerate(self.nlp.pipe([s.text for s in sentences], batch_size=128))
-                        for m in self._matchers for mid, a, b in m(doc)]
-            for mkey, si, a, b in hits:
-                found.setdefault(mkey, {}).setdefault(si, set()).add((a, b))
-        texts = Sentences([s.text for s in sentences])
-        for k, rx, src, sets in self._regexes:
-            need = sets[0] if sets else ()
-            if not texts.mentions(need):
-                continue
-            try:
-                for si, m in texts.search(rx, need, regex_seconds, also=sets[1:]):
-                    # a group named "seen" marks the words to quote ("sensitivity" of "sensitivity of 0.8")
-                    span = m.span("seen") if "seen" in rx.groupindex and m.group("seen") else m.span()
-                    found.setdefault(k, {}).setdefault(si, set()).add(span)
-            except TimeoutError:
-                raise InputError(scan.document.path, f"the rule regex {src!r} took longer than {regex_seconds:g} s "
-                                 "on this text", "it backtracks too much; simplify it") from None
-        return {k: Hits({si: tuple(sorted(spans)) for si, spans in v.items()}) for k, v in found.items()}
+        # a spaCy hit running into the next sentence is left out (not cut); a regex group named "seen" marks the
+        # words to quote ("sensitivity" of "sensitivity of 0.8")
+        found = self.cues.match(scan.sentences, scan.docs, scan.spans, clip=False, regex_seconds=regex_seconds,
+                                path=scan.document.path)
+        out: dict[str, Hits] = {}
+        for k, hits in found.items():
+            spans: dict[int, set[tuple[int, int]]] = {}
+            for h in hits:
+                seen = next(((a, b) for name, text, a, b in h.groups if name == "seen" and text), (h.start, h.end))
+                spans.setdefault(h.sentence, set()).add(seen)
+            out[k] = Hits({si: tuple(sorted(v)) for si, v in spans.items()})
+        return out
 
 
 _COMPILED: dict[int, tuple[RuleSet, CompiledRules]] = {}
