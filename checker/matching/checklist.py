@@ -15,7 +15,7 @@ from typing import Any
 
 
 from ..core.errors import ChecklistError, UsageError
-from .marked import Node, Problems, closest, compose, expect_type, fields_of, join_path, text_of, texts_of
+from ..core.marked import Node, Problems, closest, compose, expect_type, fields_of, join_path, text_of, texts_of
 
 MAX_FILE_BYTES = 5 * 1024 * 1024
 

@@ -15,7 +15,7 @@ import regex
 
 from . import regexcache
 from .fact import Fact
-from .words import builtin_words
+from ..core.words import builtin_words
 
 __all__ = [
     "NUMBER", "DECIMAL", "UNIT", "PERCENT", "MACROS", "expand_macros", "parse_number", "Quantity",
@@ -350,7 +350,7 @@ KINDS = ("count", "percentage", "tolerance", "percentile", "bootstrap", "split",
 
 # --- nouns ---------------------------------------------------------------------------------------------------
 
-#: the word lists below are data: checklists/words.yaml (see checker.matching.words)
+#: the word lists below are data: checklists/words.yaml (see checker.core.words)
 _WORDS_DATA = builtin_words()
 _KNOWN_NOUNS = _WORDS_DATA.set("known-nouns")
 _PERSON_SUFFIX = regexcache.compile(r"(?:ologist|ician|iatrist|ographer|ist)$")

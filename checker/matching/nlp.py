@@ -9,27 +9,21 @@ import re
 from functools import lru_cache
 from typing import TYPE_CHECKING, Iterable, Iterator
 
+from ..core.words import builtin_words
 from ..reading.document import Document, Sentence
 
 if TYPE_CHECKING:  # spaCy is imported lazily: commands such as --help must stay fast
     from spacy.language import Language
     from spacy.tokens import Doc
 
-#: words that end with a full stop without ending the sentence ("Fig. 2", "et al. (2020)", "approx. 3 mm")
-ABBREVIATIONS = frozenset(
-    """fig figs eq eqs eqn eqns no nos vs approx ref refs sec secs tab tabs cf resp ca dr prof mr mrs ms st vol
-    vols pp ch chap al et incl e.g i.e etc viz suppl dept univ inc ltd co corp jr sr est max min avg std var
-    ver v vs e.g i.e n.b cit op e approx. aprx""".split()
-)
+#: words that end with a full stop without ending the sentence ("Fig. 2", "et al. (2020)", "approx. 3 mm"), from
+#: checklists/words.yaml (see checker.core.words)
+ABBREVIATIONS = builtin_words().set("sentence-abbreviations")
 
 #: characters that may close a sentence after its final punctuation
 _CLOSERS = frozenset(")]}\"'”’»")
 #: nouns that name things by letter: "method B", "group C", "site A"
-_LABELLED = frozenset(
-    "method methods model models group groups arm site sites centre center hospital scanner vendor dataset cohort "
-    "set class type grade phase task stage reader rater annotator observer team approach variant network "
-    "algorithm system condition protocol scenario".split()
-)
+_LABELLED = builtin_words().set("letter-labelled-nouns")
 _CITATION = re.compile(r"\[[0-9,\-–]+\]")
 _FINAL = frozenset({".", "!", "?", "…", "...", "?!"})
 

@@ -24,6 +24,7 @@ from rapidfuzz import fuzz, process
 from .document import Block, Location, Mark
 from ..core.errors import InputError
 from ..core.limits import Limits
+from ..core.words import builtin_words
 from . import Parsed
 from .sections import BYLINE
 from .pdflines import Page, Piece, clean, is_bold, mark_undecoded
@@ -903,16 +904,10 @@ _LETTERED = re.compile(r"^[A-H]\.\s+[A-Z]\S*(?:\s+\S+){0,8}$")
 _SENTENCE_END = re.compile(r"[.!?:;][\"'”’)\]]*$")
 _REFERENCE_START = re.compile(r"^(?:\[\d{1,3}\]|\d{1,3}\.)\s")
 _FOOTNOTE_START = re.compile(r"^(?:\d{1,2}|[*†‡§¶])\s*\S")
-# first parts that keep their hyphen at a line break when the document gives no other evidence (common
-# practice in English compounds: "two-reader", "self-supervised", "well-known", "state-of-the-art")
-_KEEP_HYPHEN_HEADS = frozenset(
-    "one two three four five six seven eight nine ten twelve twenty hundred self well state end cross".split()
-)
-
-
-#: words a wrapped heading line can end with; a line ending otherwise, and short, ends the heading
-_JOINING_WORDS = frozenset("a an the of and or for in on at to with from by via as into versus vs vs. its their "
-                           "under over between using based towards toward".split())
+# first parts that keep their hyphen at a line break when the document gives no other evidence ("two-reader",
+# "self-supervised"), and words a wrapped heading line can end with: checklists/words.yaml (checker.core.words)
+_KEEP_HYPHEN_HEADS = builtin_words().set("hyphen-kept-heads")
+_JOINING_WORDS = builtin_words().set("heading-joining-words")
 _PASTED_HYPHEN = re.compile(r"(?<![\w-])([^\W\d_]+)- ([a-z]+)\b")
 _LINE_END_HYPHEN = re.compile(r"([\w-]*)-$")
 _LEADING_LETTERS = re.compile(r"[^\W\d_]*")

@@ -8,72 +8,15 @@ from functools import lru_cache
 
 from rapidfuzz import fuzz, process
 
+from ..core.words import builtin_words
 from .document import Block, Mark
 
+#: the word lists are data: checklists/words.yaml (see checker.core.words)
+_WORDS = builtin_words()
 #: role -> heading variants as authors write them (compared after numbering and case are removed)
-ROLE_HEADINGS: dict[str, tuple[str, ...]] = {
-    "abstract": ("abstract", "summary", "overview", "tl dr", "synopsis", "highlights", "key points"),
-    "introduction": ("introduction", "motivation", "objective", "objectives", "aims", "purpose"),
-    "related-work": (
-        "related work", "related works", "prior work", "previous work", "state of the art", "literature review",
-        "literature survey", "review of literature", "review of related literature", "related literature",
-        "background", "background and related work", "related work and background", "existing work",
-        "existing works", "existing system", "existing systems", "previous studies",
-    ),
-    "data": (
-        "data", "dataset", "datasets", "data description", "data collection", "study population", "patients",
-        "materials", "image data", "data acquisition", "cohort", "participants and data", "challenge data",
-        "data sources", "study data", "training data", "test data", "imaging data", "dataset and annotations",
-        "data and annotations", "annotation", "annotations", "reference standard", "ground truth", "labels",
-        "labelling", "labeling", "annotation protocol", "annotation guidelines",
-    ),
-    "methods": (
-        "methods", "method", "materials and methods", "methodology", "proposed method", "approach",
-        "experimental setup", "experiments", "experimental design", "implementation details", "implementation",
-        "study design", "network architecture", "model", "training", "statistical analysis", "statistics",
-        "how the challenge works", "challenge design", "task", "tasks", "rules", "challenge rules", "submission",
-        "submission instructions", "participation", "terms", "timeline", "organization", "organisation",
-        # how engineering papers and student reports name the description of their own method
-        "architecture", "model architecture", "system architecture", "proposed system", "proposed model",
-        "proposed approach", "proposed framework", "proposed methodology", "system design", "block diagram",
-        "preprocessing", "pre processing", "postprocessing", "post processing", "models", "feature extraction",
-        "hardware and software", "training procedure", "training details",
-    ),
-    "evaluation": (
-        "evaluation", "evaluation metrics", "metrics", "evaluation protocol", "assessment", "performance metrics",
-        "scoring", "scoring metrics", "ranking", "validation", "assessment method", "statistical analysis plan",
-    ),
-    "results": ("results", "experimental results", "findings", "results and analysis", "leaderboard", "outcomes"),
-    "discussion": ("discussion", "conclusion", "conclusions", "discussion and conclusion", "summary and outlook",
-                   "future work", "outlook", "concluding remarks"),
-    "limitations": ("limitations", "limitations and future work", "threats to validity"),
-    "acknowledgements": ("acknowledgements", "acknowledgments", "acknowledgement", "funding", "conflict of interest",
-                         "conflicts of interest", "competing interests", "declarations", "ethics statement",
-                         "author contributions", "data availability", "code availability", "ethics",
-                         "data and code availability", "code and data availability", "availability",
-                         "data availability statement", "software availability", "resource availability",
-                         "ethical approval", "ethics approval", "declaration of competing interest",
-                         "disclosures", "financial disclosure", "license", "licence", "citation", "how to cite"),
-    "references": ("references", "bibliography", "literature cited", "works cited", "citations", "reference list"),
-    "appendix": ("appendix", "appendices", "supplementary material", "supplementary materials", "supplement",
-                 "supporting information", "supplementary information", "supplementary data"),
-    # what a thesis or report puts before its first chapter, and a paper's keyword line: never evidence
-    "front-matter": (
-        "table of contents", "contents", "list of figures", "list of tables", "list of figures and tables",
-        "list of abbreviations", "abbreviations", "list of symbols", "nomenclature", "list of publications",
-        "certificate", "bonafide certificate", "certificate of approval", "approval sheet", "declaration",
-        "candidate s declaration", "declaration by the candidate", "student declaration",
-        "declaration of originality", "dedication", "title page", "cover page", "keywords",
-        "key words", "index terms", "peer review history",
-    ),
-    # the system requirements of a software report (not a challenge's requirements for submissions)
-    "requirements": (
-        "system requirements", "hardware requirements", "software requirements", "hardware and software requirements",
-        "software and hardware requirements", "requirement analysis", "requirements analysis",
-        "functional requirements", "non functional requirements", "requirements specification",
-        "requirement specification", "software requirements specification", "system requirements specification",
-    ),
-}
+ROLE_HEADINGS: dict[str, tuple[str, ...]] = {}
+for _heading, _role in _WORDS.groups["section-headings"].items():  # heading -> role, in the file's order
+    ROLE_HEADINGS[_role] = ROLE_HEADINGS.get(_role, ()) + (_heading,)
 #: roles a heading must name whole: "Reference annotation" is not the reference list, "Submission requirements"
 #: are not system requirements, "Contents of the dataset" is not a table of contents
 _WHOLE_ONLY = frozenset({"references", "requirements", "front-matter"})
@@ -129,20 +72,9 @@ def heading_role(text: str) -> str | None:
 
 
 #: headings of a structured abstract ("Background", "Methods", "Results", ...): the abstract's own parts
-_STRUCTURED_ABSTRACT = frozenset({
-    "background", "purpose", "objective", "objectives", "aim", "aims", "context", "introduction", "methods",
-    "method", "materials and methods", "design", "study design", "setting", "participants", "patients", "approach",
-    "results", "findings", "principal findings", "methods and findings", "conclusion", "conclusions",
-    "conclusions and relevance", "interpretation", "significance", "importance", "main outcome measures",
-    "measurements", "limitations", "availability and implementation", "contact",
-})
+_STRUCTURED_ABSTRACT = _WORDS.set("structured-abstract-headings")
 #: front matter that marks a thesis or report: the text before its first chapter is its title page
-_THESIS_FRONT = frozenset({"table of contents", "contents", "list of figures", "list of tables",
-                           "list of figures and tables", "list of abbreviations", "abbreviations", "list of symbols",
-                           "nomenclature", "certificate", "bonafide certificate", "certificate of approval",
-                           "approval sheet", "declaration", "candidate s declaration", "declaration by the candidate",
-                           "student declaration", "declaration of originality", "dedication", "title page",
-                           "cover page"})
+_THESIS_FRONT = _WORDS.set("thesis-front-headings")
 #: sections of the body proper; the first of them ends the front matter
 _BODY_ROLES = frozenset({"introduction", "related-work", "data", "methods", "evaluation", "results", "discussion",
                          "limitations", "requirements"})

@@ -1,5 +1,5 @@
 """Rules files read and validated (checklists/rules.yaml or the user's), every problem located FILE:LINE:COLUMN,
-with the same YAML reading and cue checks as checklists (checker.matching.marked, checker.matching.checklist)."""
+with the same YAML reading and cue checks as checklists (checker.core.marked, checker.matching.checklist)."""
 
 from __future__ import annotations
 
@@ -11,7 +11,7 @@ import regex
 
 from ..core.errors import ChecklistError, UsageError
 from ..matching.checklist import SLUG, Cues, Near, cue_block
-from ..matching.marked import Node, Problems, compose, expect_type, fields_of, text_of, texts_of
+from ..core.marked import Node, Problems, compose, expect_type, fields_of, text_of, texts_of
 
 from .model import BUILTIN, CueSet, DATA_FIELDS, placeholders, Rule, RuleSet, Scope, SEVERITIES, Trigger
 from .checks import CHECKS

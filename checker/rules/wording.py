@@ -5,9 +5,9 @@ from __future__ import annotations
 import regex
 
 from ..matching.checklist import compile_regex
-from ..matching.words import builtin_words
+from ..core.words import builtin_words
 
-#: the word lists are data: checklists/words.yaml (see checker.matching.words)
+#: the word lists are data: checklists/words.yaml (see checker.core.words)
 _WORDS = builtin_words()
 
 

@@ -11,16 +11,18 @@ from dataclasses import dataclass
 from functools import lru_cache
 from importlib import resources
 
-from ..core.errors import ChecklistError
+from .errors import ChecklistError
 from .marked import Node, Problems, compose, expect_type, fields_of, text_of
 
 WORDS_FILE = "words.yaml"
 
 LISTS = ("known-nouns", "singular-words-ending-in-s", "noun-phrase-stops", "never-counted-heads", "split-words",
          "number-labels", "subset-words", "site-subset-words", "method-subset-words", "statement-verbs",
-         "part-of-collection-words", "neutral-test-set-qualifiers", "list-stop-words")
+         "part-of-collection-words", "neutral-test-set-qualifiers", "list-stop-words", "sentence-abbreviations",
+         "letter-labelled-nouns", "structured-abstract-headings", "thesis-front-headings", "heading-joining-words",
+         "hyphen-kept-heads")
 MAPS = ("irregular-plurals",)
-GROUPS = ("case-units", "annotator-units", "site-units", "method-units")
+GROUPS = ("case-units", "annotator-units", "site-units", "method-units", "section-headings")
 
 
 @dataclass(frozen=True)

@@ -6,7 +6,7 @@ from __future__ import annotations
 
 from typing import TYPE_CHECKING, Any
 
-from ..core.errors import ChecklistError
+from .errors import ChecklistError
 
 if TYPE_CHECKING:  # imported where YAML is parsed: a run served from the parsed-checklist cache never needs it
     import yaml
