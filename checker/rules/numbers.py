@@ -336,7 +336,8 @@ def _site_words(text: str, si: int, stmts: list[Statement]) -> list[Statement]:
         from ..matching.facts import parse_number
 
         v = parse_number(m.group("n"))
-        if isinstance(v, int) and v >= 2 and not any(s.start <= m.start() < s.end for s in stmts):
+        # at most 99, as a two-digit count: "a 2020-site" is a year's, not a count
+        if isinstance(v, int) and 2 <= v <= 99 and not any(s.start <= m.start() < s.end for s in stmts):
             out.append(Statement("sites", "site", "", v, si, m.start(), m.end(), m.group()))
     return out
 

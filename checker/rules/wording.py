@@ -175,8 +175,8 @@ SINGLE_SITE = _rx(r"\b(?:single|one|mono)[- ](?:centre|center|site|institution|h
                   r"\bmonocentric\b|\bmono-centric\b")
 
 
-N_SITE = _rx(r"\b(?P<n>two|three|four|five|six|seven|eight|nine|ten|\d{1,2})[- ](?:centre|center|site|institution|"
-             r"hospital)\b")
+#: the count is any number facts.NUMBER reads ("two-centre", "12-site", "twenty-one-hospital"): one number reader
+N_SITE = _rx(r"\b(?P<n>{NUMBER})[- ](?:centre|center|site|institution|hospital)\b")
 
 
 SPLIT_PAREN = _rx(rf"\b(?P<split>{_SPLIT_ALT})(?:\s+{_SET})?\s*\(\s*(?:n\s*=\s*)?(?P<n>{{NUMBER}})"
