@@ -57,3 +57,19 @@ def test_every_module_and_folder_of_the_package_is_on_the_map():
 def test_the_map_reader_sees_a_missing_module():
     text = "```\nchecker/   the package\n  core/   x\n    errors.py   y\n```\n"
     assert mapped_paths(text) == {"checker/core", "checker/core/errors.py"}
+
+
+def test_where_things_happen_names_real_places():
+    """The map's "Where things happen" line (where a status is decided, a cue compiled, a renderer registered ...)
+    names files that exist and, in brackets after each, names those files define."""
+    text = (ROOT / "DEVELOPERS.md").read_text(encoding="utf-8")
+    para = re.search(r"Where things happen:(.*?)\n\n", text, re.S)
+    assert para, "DEVELOPERS.md says where things happen"
+    places = re.findall(r"`([\w/<>]+\.py)`(?: \(([^)]*)\))?", para.group(1))
+    assert {"verdicts/decide.py", "matching/matcher.py", "reports/__init__.py"} <= {p for p, _ in places}
+    for path, names in places:
+        if "<" in path:
+            continue  # a pattern such as cli/<command>.py
+        source = (ROOT / "checker" / path).read_text(encoding="utf-8")
+        for name in re.findall(r"`(\w+)`", names or ""):
+            assert re.search(rf"^\s*(?:def|class) {name}\b", source, re.M), f"{path} defines no {name}"
