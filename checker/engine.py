@@ -113,6 +113,19 @@ def choose_checklist(docs: list, nlp=None, document: Document | None = None) -> 
     return cid, f"{cid}: {why}"
 
 
+def choose_for_file(path: str | Path, limits: Limits = DEFAULT_LIMITS) -> tuple[str, str]:
+    """The built-in checklist `choose_checklist` picks for one file, read and parsed but not checked (a batch that
+    uses the first document's choice for all then checks that document once, not twice)."""
+    from .core.limits import time_limit
+    from .matching.nlp import parse_blocks
+    from .reading import read_document
+
+    with time_limit(path, limits.seconds):
+        document = read_document(path, limits)
+        docs = list(parse_blocks(b.text for b in document.blocks))
+        return choose_checklist(docs, document=document)
+
+
 def check_document(
     path: str | Path,
     checklist: str = AUTO,

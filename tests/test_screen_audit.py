@@ -395,3 +395,27 @@ def test_folder_walk_skips_latex_parts_and_hidden_files(tmp_path):
 
     with pytest.raises(UsageError, match="no documents found"):
         collect_inputs([str(tmp_path)])
+
+
+def test_screen_without_checklist_checks_the_first_document_once(demo_inputs, tmp_path, monkeypatch):
+    # choosing the batch's checklist from the first document reads it but does not check it: each document is
+    # checked exactly once, and an unreadable first document hands the choice to the next one
+    import checker.engine as engine
+
+    checked: list[str] = []
+    real = engine._check
+
+    def counting(path, *a, **k):
+        checked.append(Path(path).name)
+        return real(path, *a, **k)
+
+    monkeypatch.setattr(engine, "_check", counting)
+    first = tmp_path / "0-broken.docx"
+    first.write_bytes(b"not a zip archive")
+    out = tmp_path / "screen.json"
+    args = parse("screen", str(first), *sorted(str(p) for p in demo_inputs.iterdir()), "-f", "json", "-o", str(out),
+                 "-j", "1", "-q", "--no-cache")
+    assert screen_cmd.run(args) == 3
+    data = json.loads(out.read_text(encoding="utf-8"))
+    assert "a-manuscript.md" in data["checklist"]["choice"] and "first document" in data["checklist"]["choice"]
+    assert sorted(checked) == sorted(set(checked)) and "a-manuscript.md" in checked

@@ -138,7 +138,8 @@ def _without_latex_parts(paths: list[str]) -> list[str]:
 
 def resolve_checklist(paths: list[str], checklist: str | None, limits) -> tuple[str, str]:
     """The checklist for the whole batch and a sentence saying where it came from."""
-    from ..many.batch import check_one
+    from ..core.errors import StudygapError
+    from ..engine import choose_for_file
 
     if checklist == "auto":
         return "auto", ("chosen for each document from its words; documents checked against different checklists "
@@ -149,11 +150,12 @@ def resolve_checklist(paths: list[str], checklist: str | None, limits) -> tuple[
         cl = load_checklist(checklist)  # a broken checklist is refused before any document is read
         return checklist, f"{cl.id}, named by the user"
     for p in paths:
-        res = check_one(p, "auto", None, limits)
-        if res.ok:
-            return res.report.checklist_id, (f"{res.report.checklist_id}, chosen for the first document ({p}; "
-                                             f"{res.report.checklist_choice}) and used for all; name one with "
-                                             "--checklist to choose")
+        try:
+            cid, why = choose_for_file(p, limits)
+        except (StudygapError, OSError, MemoryError):
+            continue  # that document gets its error row from the batch; the next one chooses
+        return cid, (f"{cid}, chosen for the first document ({p}; {why}) and used for all; name one with "
+                     "--checklist to choose")
     return "validation-study", "validation-study, the default (no document could be read to choose one)"
 
 
