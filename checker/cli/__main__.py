@@ -1,7 +1,5 @@
 """``python -m checker.cli``: the same as the ``studygap`` command."""
 
-import sys
+from .main import entry
 
-from .main import main
-
-sys.exit(main())
+entry()
