@@ -24,6 +24,8 @@ import time
 from pathlib import Path
 
 ROOT = Path(__file__).resolve().parent.parent
+sys.path.insert(0, str(ROOT / "benchmarks"))
+from speed import compile_studygap  # noqa: E402 - benchmarks/speed.py, beside this file
 
 #: the steps of one check, run in a fresh process; prints {"step": seconds, ...} as JSON
 STEPS = r"""
@@ -111,6 +113,8 @@ def main(argv: list[str] | None = None) -> int:
     roots = {"this checkout": ROOT}
     if args.against:
         roots[f"{args.against}"] = args.against.resolve()
+    for root in roots.values():
+        print(f"{root}: {compile_studygap(root)}")
     with tempfile.TemporaryDirectory(prefix="studygap-stages-") as tmp:
         for path in files:
             samples: dict[str, dict[str, list[float]]] = {name: {} for name in roots}

@@ -116,7 +116,8 @@ def entry() -> None:
     is saved, logging is flushed) and the output is flushed, but Python's tear-down is skipped: freeing every
     object of the spaCy pipeline, the parsed document and the interpreter's modules one by one cost a few tenths
     of a second after each check, and a pre-commit hook waits for it. When another thread is still alive (a
-    library's helper) or the output cannot be flushed, the process ends the ordinary way.
+    library's helper), a profiler or coverage is watching, or the output cannot be flushed, the process ends the
+    ordinary way.
 
     The garbage collector's youngest generation is collected after GC_YOUNG allocations instead of Python's 700:
     a check allocates millions of objects that live until the report is written (tokens, lines, passages), and
@@ -136,8 +137,8 @@ def entry() -> None:
         sys.stderr.flush()
     except (OSError, ValueError):  # a closed pipe: Python's own exit reports it as usual
         sys.exit(code)
-    if threading.active_count() > 1:
-        sys.exit(code)
+    if threading.active_count() > 1 or sys.getprofile() is not None or sys.gettrace() is not None:
+        sys.exit(code)  # a helper thread, or a profiler, coverage or debugger that writes its data at exit
     atexit._run_exitfuncs()
     try:
         sys.stdout.flush()
