@@ -61,3 +61,23 @@ def test_the_same_matches_as_spacys_matcher():
         assert sorted(ours(doc)) == expected, doc.text[:80]
         matched += len(expected)
     assert matched > 200
+
+
+@pytest.mark.parametrize("key", sorted(CRAFTED) + ["no-plain-token"])
+def test_each_set_alone_the_same_as_spacys_matcher(key):
+    """A matcher that hands blocks to spaCy's Matcher only when they hold a word its patterns need gives what
+    spaCy's Matcher gives on every block, with and without that word; and with a pattern that needs no
+    particular word (LIKE_NUM, IS_ALPHA) every block still goes to it."""
+    from spacy.matcher import Matcher
+
+    nlp = pipeline()
+    pats = CRAFTED.get(key) or [[{"LIKE_NUM": True}, {"IS_ALPHA": True, "OP": "+"}]]
+    reference, ours = Matcher(nlp.vocab), TokenPatterns(nlp.vocab)
+    reference.add(key, pats)
+    ours.add(key, pats)
+    found = 0
+    for doc in nlp.pipe(TEXTS + ["b", "12 cases", "nothing to see", "3 big images"]):
+        expected = sorted(reference(doc))
+        assert sorted(ours(doc)) == expected, doc.text[:80]
+        found += len(expected)
+    assert found > 0 or key == "never"

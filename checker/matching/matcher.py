@@ -173,7 +173,9 @@ class TokenPatterns:
     checklist patterns) is looked up by its first token's values in one pass over the block's attribute
     columns: spaCy's Matcher calls a Python predicate per token for every set, which made five such patterns
     cost more than all phrase matching. Any other pattern (operators, LIKE_NUM, REGEX, ...) goes to spaCy's
-    Matcher.
+    Matcher. A block is handed to spaCy's Matcher only when, for some such pattern, the block holds a value one
+    of the pattern's tokens must have (a token without an operator, or with "+", tested only as above; the
+    pattern's first such token): a block without it cannot match, and most blocks hold none.
     """
 
     _ATTRS = ("ORTH", "LOWER", "LEMMA")
@@ -185,15 +187,35 @@ class TokenPatterns:
         self._first: dict[int, dict[int, list[tuple[int, int, tuple[tuple[int, int, frozenset[int]], ...]]]]] = {}
         self._matcher = None
         self._keys: set[str] = set()
+        #: for the patterns spaCy's Matcher takes: (attribute, the hashes one of which a block must hold) of each;
+        #: None once a pattern has no such token (then every block goes to spaCy's Matcher)
+        self._needs: list[tuple[int, frozenset[int]]] | None = []
 
     @classmethod
     def _is_plain(cls, pattern) -> bool:
+        return bool(pattern) and all(cls._is_plain_token(t) for t in pattern)
+
+    @classmethod
+    def _is_plain_token(cls, token) -> bool:
         def value_ok(v) -> bool:
             return isinstance(v, str) or (isinstance(v, dict) and set(v) == {"IN"} and isinstance(v["IN"], list)
                                           and all(isinstance(x, str) for x in v["IN"]))
 
-        return bool(pattern) and all(isinstance(t, dict) and t and all(k in cls._ATTRS and value_ok(v)
-                                                                       for k, v in t.items()) for t in pattern)
+        return isinstance(token, dict) and bool(token) and all(k in cls._ATTRS and value_ok(v)
+                                                               for k, v in token.items())
+
+    def _need_of(self, pattern) -> tuple[int, frozenset[int]] | None:
+        """(attribute, allowed hashes) of the pattern's first token that every match holds and that is tested
+        only on ORTH, LOWER or LEMMA against values; None when it has none."""
+        for tok in pattern:
+            if not isinstance(tok, dict) or tok.get("OP", "+") != "+":
+                continue
+            tests = {k: v for k, v in tok.items() if k != "OP"}
+            if len(tests) == 1 and self._is_plain_token(tests):
+                (attr, v), = tests.items()
+                return self._ATTRS.index(attr), frozenset(self.vocab.strings.add(x)
+                                                          for x in ([v] if isinstance(v, str) else v["IN"]))
+        return None
 
     def add(self, key: str, patterns) -> None:
         self._keys.add(key)
@@ -212,6 +234,9 @@ class TokenPatterns:
             for h in values:
                 index.setdefault(h, []).append(entry)
         if other:
+            for pattern in other:
+                need = self._need_of(pattern) if self._needs is not None else None
+                self._needs = None if need is None else self._needs + [need]
             if self._matcher is None:
                 from spacy.matcher import Matcher
 
@@ -226,8 +251,9 @@ class TokenPatterns:
 
         found: set[tuple[int, int, int]] = set()
         n = len(doc)
+        columns = [c.tolist() for c in doc.to_array([ORTH, LOWER, LEMMA]).T] if n and (self._first or self._needs) \
+            else None
         if self._first and n:
-            columns = [c.tolist() for c in doc.to_array([ORTH, LOWER, LEMMA]).T]
             for attr, index in self._first.items():
                 for start, h in enumerate(columns[attr]):
                     entries = index.get(h)
@@ -237,10 +263,22 @@ class TokenPatterns:
                         if start + width <= n and all(columns[a][start + i] in values for i, a, values in tests):
                             found.add((key, start, start + width))
         out = sorted(found, key=lambda m: (m[1], m[2], m[0]))
-        if self._matcher is not None:
+        if self._matcher is not None and (self._needs is None or columns is None or self._may_match(columns)):
             out.extend(m for m in self._matcher(doc) if (m[0], m[1], m[2]) not in found)
             out.sort(key=lambda m: (m[1], m[2]))
         return out
+
+    def _may_match(self, columns: list[list[int]]) -> bool:
+        """Whether the block (its ORTH, LOWER and LEMMA columns) holds a value some pattern for spaCy's
+        Matcher needs."""
+        present: dict[int, set[int]] = {}
+        for attr, values in self._needs:
+            held = present.get(attr)
+            if held is None:
+                held = present[attr] = set(columns[attr])
+            if not held.isdisjoint(values):
+                return True
+        return False
 
 
 class CompiledCues:
