@@ -101,17 +101,37 @@ def _hex(source: Iterable[bytes]) -> Iterator[bytes]:
 
 
 def _a85(source: Iterable[bytes]) -> Iterator[bytes]:
-    import base64
-
     carry = b""
     for part, last in _text_until(source, b"~>", rb"\s"):
         text = carry + part.replace(b"z", b"!!!!!")
         whole = len(text) if last else len(text) // 5 * 5
         carry = text[whole:]
         try:
-            yield base64.a85decode(text[:whole])
+            yield _a85_decode(text[:whole])
         except ValueError:
             return
+
+
+def _a85_decode(text: bytes) -> bytes:
+    """base64.a85decode of ASCII85 digits (no "z", no white space), five at a time in numpy: base64's loop in
+    Python took a tenth of a second per 30 pages of a PDF whose streams are ASCII85. Anything else (a
+    character out of range, a group over 2**32 - 1, a short last group) is left to base64, which says what is
+    wrong or decodes it."""
+    import base64
+
+    whole = len(text) // 5 * 5
+    if whole < 5:
+        return base64.a85decode(text)
+    import numpy
+
+    digits = numpy.frombuffer(text, dtype=numpy.uint8, count=whole).astype(numpy.uint64) - 33
+    if int(digits.max()) > 84:  # also the wrapped-around values of characters below "!"
+        return base64.a85decode(text)
+    groups = digits.reshape(-1, 5)
+    values = (((groups[:, 0] * 85 + groups[:, 1]) * 85 + groups[:, 2]) * 85 + groups[:, 3]) * 85 + groups[:, 4]
+    if int(values.max()) > 0xFFFFFFFF:
+        return base64.a85decode(text)
+    return values.astype(">u4").tobytes() + (base64.a85decode(text[whole:]) if whole < len(text) else b"")
 
 
 def _run_length(source: Iterable[bytes]) -> Iterator[bytes]:
