@@ -27,7 +27,7 @@ from collections.abc import Iterable, Iterator
 from pathlib import Path
 
 from ..core.errors import InputError
-from ..core.limits import Limits
+from ..core.limits import Limits, start_helper_threads
 
 #: bytes unpacked in one step: the most held in memory for one stream at a time while counting
 STEP = 1 << 16
@@ -122,6 +122,7 @@ def _a85_decode(text: bytes) -> bytes:
     whole = len(text) // 5 * 5
     if whole < 5:
         return base64.a85decode(text)
+    start_helper_threads()  # numpy's helper threads must leave Ctrl-C and the time limit to the main thread
     import numpy
 
     digits = numpy.frombuffer(text, dtype=numpy.uint8, count=whole).astype(numpy.uint64) - 33
