@@ -224,18 +224,29 @@ class _LowerLemmas:
     def __init__(self, vocab) -> None:
         self.vocab = vocab
         self.table: dict[str, str] | None = None  # form -> lemma
-        self._cache: dict[str, str] = {}
+        #: hash of a lower-case form -> hash of its lemma
+        self._cache: dict[int, int] = {}
 
     def __call__(self, doc: "Doc") -> "Doc":
-        cache, table = self._cache, self.table
-        for tok in doc:
-            low = tok.lower_
-            lemma = cache.get(low)
+        """The lemmas of the whole block set in one call from its column of lower-case forms (a Token object per
+        word, as ``tok.lemma_ = ...`` needs, cost more than the lookups)."""
+        import numpy
+        from spacy.attrs import LEMMA, LOWER
+
+        n = len(doc)
+        if n == 0:
+            return doc
+        cache, table, strings = self._cache, self.table, self.vocab.strings
+        lemmas = []
+        for h in doc.to_array([LOWER]).tolist():
+            lemma = cache.get(h)
             if lemma is None:
-                lemma = table.get(low, low) if table is not None else low
+                low = strings[h]
+                lemma = strings.add(table.get(low, low) if table is not None else low)
                 if len(cache) < 200_000:
-                    cache[low] = lemma
-            tok.lemma_ = lemma
+                    cache[h] = lemma
+            lemmas.append(lemma)
+        doc.from_array([LEMMA], numpy.array(lemmas, dtype="uint64").reshape(n, 1))
         return doc
 
 
