@@ -122,7 +122,7 @@ def entry() -> None:
     The garbage collector's youngest generation is collected after GC_YOUNG allocations instead of Python's 700:
     a check allocates millions of objects that live until the report is written (tokens, lines, passages), and
     each full collection walks every one of them, with the spaCy pipeline, so a long document paid for them
-    again and again (a tenth of its time at 300 pages, growing faster than the pages)."""
+    again and again (about 6% of its time at 300 pages, growing faster than the pages)."""
     import atexit
     import gc
     import os
