@@ -9,7 +9,9 @@ thresholds fitted on all documents in checklists/fitted.yaml, which the verdicts
 
 `--needs` also fits, per checklist item, which facets together make it reported (checker/fitting.py,
 `fit_needs`), prints the cross-validated figures of that procedure and the needs that differ from the written
-ones; a person copies those into the checklists. `--extra DIR` adds another folder of labelled documents.
+ones, each with the items it gains or loses in every labelled folder; a person copies into the checklists those
+that gain on two folders or more and agree with the labelling conventions. `--extra DIR` adds another folder of
+labelled documents.
 """
 
 from __future__ import annotations
@@ -47,7 +49,7 @@ def _figures(rows_with_status, label_files_by_doc):
     return summarize(outcomes, [by_doc[d] for d in docs], resamples=1000)
 
 
-def _report_needs(rows, by_doc, default) -> None:
+def _report_needs(rows, by_doc, default, folder_of=None) -> None:
     from checker.many.fitting import FOUND_AT, cross_validate_needs, fit_needs
 
     cv = _figures(cross_validate_needs(rows), by_doc)
@@ -63,8 +65,26 @@ def _report_needs(rows, by_doc, default) -> None:
     written = {(r.checklist, r.item_id): r.needs for r in rows}
     changed = [(k, n) for k, n in fitted.items() if n != written[k]]
     print(f"\nneeds that differ from the written ones ({len(changed)}):" if changed else "\nno needs changed")
+    def agrees(r, needs) -> bool:
+        def three(s):
+            return "missing" if s == "not-applicable" else s
+        return three(r.status_at(FOUND_AT, needs)) == three(r.human)
+
     for (checklist, item), n in changed:
         print(f"  {checklist} {item}: {[list(a) for a in written[(checklist, item)]]} -> {[list(a) for a in n]}")
+        if folder_of:
+            # a change that gains on one folder alone more likely fits that folder's phrasing than the trade's
+            gains: dict[str, list[int]] = {}
+            for r in rows:
+                if (r.checklist, r.item_id) == (checklist, item):
+                    g = gains.setdefault(folder_of.get(r.document, "?"), [0, 0])
+                    g[0] += agrees(r, n) - agrees(r, r.needs)
+                    g[1] += 1
+            print("    items agreeing, gained or lost per folder: "
+                  + ", ".join(f"{f} {g:+d} of {t}" for f, (g, t) in sorted(gains.items())))
+    if changed and folder_of:
+        print("  Copy a change into the checklist by hand only where it gains on two folders or more, loses on none by "
+              "much, and agrees with the labelling conventions.")
 
 
 def main(argv: list[str] | None = None) -> int:
@@ -114,7 +134,7 @@ def main(argv: list[str] | None = None) -> int:
         title = next(x.title for x in cv.figures if x.name == name)
         print(f"{title:<44} {val(default):>12} {val(in_sample):>18} {val(cv):>30}")
     if args.needs:
-        _report_needs(rows, by_doc, default)
+        _report_needs(rows, by_doc, default, {lf.document: Path(lf.path).parent.parent.name for lf in label_files})
     print()
     print("thresholds fitted on all documents (concepts without labels keep the default):")
     for c, t in fitted_all.items():
