@@ -19,7 +19,9 @@ with a 95% bootstrap interval of the ratio, and the peak memory the operating sy
 and its worker processes. Every run uses a new temporary STUDYGAP_CACHE_DIR: a warm-up run fills studygap's
 start-up caches (compiled regexes, parsed checklists, lemma table) first, as any earlier run of a user's would;
 the checks and batches then use --no-cache, so no report is reused. The load average of the machine is printed
-beside each measurement: on a shared machine the ratios, not the seconds, are what counts.
+beside each measurement: on a shared machine the ratios, not the seconds, are what counts. The batch figures
+also give the CPU seconds of each run and what they would give on two idle cores (an estimate, never the
+pass/fail).
 
 It ends with a "targets" block: each target, the measured figure and pass or FAIL. The exit code is 0 (this is
 a report) unless --strict is given and a target failed.
@@ -178,6 +180,11 @@ def make_corpus(count: int, copies: int = 1) -> Path:
 class Timing:
     samples: tuple[float, ...]  # wall seconds of each run
     peak: int  # largest peak resident memory over the runs, bytes
+    cpu: tuple[float, ...] = ()  # CPU seconds (user and system) of each run, with the worker processes
+
+    @property
+    def cpu_seconds(self) -> float:
+        return statistics.median(self.cpu)
 
     @property
     def seconds(self) -> float:
@@ -188,9 +195,9 @@ class Timing:
         return self.peak / 1e6
 
 
-def run(cmd: list[str], env: dict[str, str]) -> tuple[float, int]:
-    """Wall seconds and peak resident memory (bytes; the largest of the process and its waited-for children) of
-    one command in its own process."""
+def run(cmd: list[str], env: dict[str, str]) -> tuple[float, int, float]:
+    """Wall seconds, peak resident memory (bytes; the largest of the process and its waited-for children) and
+    CPU seconds (the process and its waited-for children) of one command in its own process."""
     with tempfile.TemporaryFile() as err:
         start = time.perf_counter()
         proc = subprocess.Popen(cmd, stdin=subprocess.DEVNULL, stdout=subprocess.DEVNULL, stderr=err, cwd=ROOT,
@@ -202,18 +209,19 @@ def run(cmd: list[str], env: dict[str, str]) -> tuple[float, int]:
             err.seek(0)
             raise SystemExit(f"benchmark command failed (exit {code}): {' '.join(cmd)}\n"
                              f"{err.read().decode(errors='replace')}")
-    return wall, usage.ru_maxrss * 1024
+    return wall, usage.ru_maxrss * 1024, usage.ru_utime + usage.ru_stime
 
 
 def measure(commands: dict[str, tuple[list[str], int]], env: dict[str, str]) -> dict[str, Timing]:
     """Each command run the given number of times, interleaved: round r runs every command that still needs an
     r-th run, so that a slow spell of a shared machine falls on all of them alike instead of on one."""
-    samples: dict[str, list[tuple[float, int]]] = {key: [] for key in commands}
+    samples: dict[str, list[tuple[float, int, float]]] = {key: [] for key in commands}
     for r in range(max(n for _, n in commands.values())):
         for key, (cmd, n) in commands.items():
             if r < n:
                 samples[key].append(run(cmd, env))
-    return {key: Timing(tuple(w for w, _ in s), max(m for _, m in s)) for key, s in samples.items()}
+    return {key: Timing(tuple(w for w, _, _ in s), max(m for _, m, _ in s), tuple(c for _, _, c in s))
+            for key, s in samples.items()}
 
 
 def interval(fn, *timings: Timing, rounds: int = 2000) -> str:
@@ -366,7 +374,7 @@ def main(argv: list[str] | None = None) -> int:
         # 6. the same unchanged PDF checked again with the report cache on ("the draft saved again")
         again = None
         if has_no_cache:
-            first, _ = run(check(pdf30, "again.json", fresh=False), env)  # fills the report cache
+            first, _, _ = run(check(pdf30, "again.json", fresh=False), env)  # fills the report cache
             again = measure({"again": (check(pdf30, "again.json", fresh=False), short_runs)}, env)["again"]
             same = (tmp / "again.json").read_bytes() == (tmp / f"{pdf30.stem}.json").read_bytes()
             print(f"{pdf30.name} checked again, unchanged, report cache on: {again.seconds:.3f} s "
@@ -464,9 +472,18 @@ def main(argv: list[str] | None = None) -> int:
             print(f"  one document alone takes {single.seconds:.2f} s, so about {fixed:.2f} s of each run is "
                   f"start-up that workers cannot share;\n  without it 2 workers give {net:.2f}x. The pass/fail uses "
                   f"the end-to-end figure, what a user waiting for {BATCH_DOCUMENTS} documents sees.", flush=True)
+            # what the runs cost in CPU seconds, which other work on a shared machine hardly changes: the start-up
+            # (one document's run less that document's share) stays serial, the rest is split between 2 workers
+            fixed_cpu = single.cpu_seconds - (one.cpu_seconds - single.cpu_seconds) / (BATCH_DOCUMENTS - 1)
+            idle = one.cpu_seconds / (fixed_cpu + (two.cpu_seconds - fixed_cpu) / 2)
+            print(f"  CPU seconds: 1 worker {one.cpu_seconds:.2f}, 2 workers {two.cpu_seconds:.2f} in all (more in all: "
+                  f"the workers slowed each other, or a virtual machine's host\n  gave their time to others), start-up "
+                  f"{fixed_cpu:.2f}; with these CPU seconds on two otherwise idle cores 2 workers would give about "
+                  f"{idle:.2f}x\n  (an estimate, shown because a shared machine's wall times are unreliable; not the "
+                  "target)", flush=True)
             measured = (f"{speedup:.2f}x{interval(lambda a, b: a / b, one, two)}; {one.seconds:.2f} s vs "
-                        f"{two.seconds:.2f} s; {net:.2f}x without start-up, not used; same JSON: "
-                        f"{'yes' if same else 'NO'} {before}")
+                        f"{two.seconds:.2f} s; {net:.2f}x without start-up, about {idle:.2f}x from CPU seconds on two "
+                        f"idle cores, neither used; same JSON: {'yes' if same else 'NO'} {before}")
             if usable < 2:
                 targets.append((name, measured + f"; cannot be measured here: only {usable} core usable, 2 are "
                                 "needed", "n/a"))
