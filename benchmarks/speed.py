@@ -476,11 +476,12 @@ def main(argv: list[str] | None = None) -> int:
             # (one document's run less that document's share) stays serial, the rest is split between 2 workers
             fixed_cpu = single.cpu_seconds - (one.cpu_seconds - single.cpu_seconds) / (BATCH_DOCUMENTS - 1)
             idle = one.cpu_seconds / (fixed_cpu + (two.cpu_seconds - fixed_cpu) / 2)
-            print(f"  CPU seconds: 1 worker {one.cpu_seconds:.2f}, 2 workers {two.cpu_seconds:.2f} in all (more in all: "
-                  f"the workers slowed each other, or a virtual machine's host\n  gave their time to others), start-up "
-                  f"{fixed_cpu:.2f}; with these CPU seconds on two otherwise idle cores 2 workers would give about "
-                  f"{idle:.2f}x\n  (an estimate, shown because a shared machine's wall times are unreliable; not the "
-                  "target)", flush=True)
+            more = (" (more in all: the workers slowed each other, or a virtual machine's host gave their time to "
+                    "others)" if two.cpu_seconds > 1.05 * one.cpu_seconds else "")
+            print(f"  CPU seconds: 1 worker {one.cpu_seconds:.2f}, 2 workers {two.cpu_seconds:.2f} in all{more}, "
+                  f"start-up {fixed_cpu:.2f};\n  with these CPU seconds on two otherwise idle cores 2 workers would "
+                  f"give about {idle:.2f}x (an estimate, shown because a shared machine's wall times\n  are "
+                  "unreliable; not the target)", flush=True)
             measured = (f"{speedup:.2f}x{interval(lambda a, b: a / b, one, two)}; {one.seconds:.2f} s vs "
                         f"{two.seconds:.2f} s; {net:.2f}x without start-up, about {idle:.2f}x from CPU seconds on two "
                         f"idle cores, neither used; same JSON: {'yes' if same else 'NO'} {before}")
