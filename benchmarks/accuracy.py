@@ -175,20 +175,12 @@ def _subset(ev, keep, resamples: int, seed: int):
 
 
 def _coverage(pairs) -> tuple[int, int]:
-    """Agreed positives whose labelled passage the tool's quotes cover (a fragment of the labelled quote found
-    in one of the quotes, allowing small differences of extraction), and how many had a labelled quote."""
-    from rapidfuzz import fuzz
+    """Agreed positives whose labelled passage the tool's quotes cover (evaluation.quote_covers), and how many had
+    a labelled quote."""
+    from checker.many.evaluation import quote_covers
 
-    covered = total = 0
-    for p in pairs:
-        if not (p.human_positive and p.tool_positive and p.human_quote.strip()):
-            continue
-        total += 1
-        fragments = [f.strip() for f in p.human_quote.replace("…", "...").split("...") if len(f.split()) >= 3]
-        fragments = fragments or [p.human_quote]
-        if any(fuzz.partial_ratio(f.lower(), q.lower()) >= 85 for f in fragments for q in p.tool_quotes):
-            covered += 1
-    return covered, total
+    agreed = [p for p in pairs if p.human_positive and p.tool_positive and p.human_quote.strip()]
+    return sum(quote_covers(p.human_quote, p.tool_quotes) for p in agreed), len(agreed)
 
 
 def _breakdown(ev, kinds: dict[str, str], args, parts: bool = True) -> None:

@@ -84,13 +84,6 @@ def _check(task):
     return {"document": document, "sentences": sentences, "items": items}
 
 
-def _covers(quote: str, texts) -> bool:
-    from rapidfuzz import fuzz
-
-    parts = [f.strip() for f in quote.replace("…", "...").split("...") if len(f.split()) >= 3] or [quote]
-    return any(fuzz.partial_ratio(f.lower(), t.lower()) >= 85 for f in parts for t in texts)
-
-
 def _three(status: str) -> str:
     return "missing" if status == "not-applicable" else status
 
@@ -114,7 +107,8 @@ def main(argv: list[str] | None = None) -> int:
     except ImportError:
         print("learned: skipped, scikit-learn is not installed (pip install -e '.[test]')")
         return 0
-    from checker.many.evaluation import Pair, binary_kappa, load_labels, macro_f1, three_class_agreement
+    from checker.many.evaluation import (Pair, binary_kappa, load_labels, macro_f1, quote_covers,
+                                         three_class_agreement)
 
     tasks, folder_of = [], {}
     for folder in [args.dev, *args.extra, *args.test]:
@@ -122,7 +116,7 @@ def main(argv: list[str] | None = None) -> int:
             tasks.append((lf.document, lf.checklist, {it.item_id: (it.status, it.quote) for it in lf.items}))
             folder_of[lf.document] = folder.name
     with ProcessPoolExecutor(max_workers=max(1, args.jobs)) as pool:
-        checked = [d for d in pool.map(_check, tasks)]
+        checked = list(pool.map(_check, tasks))
     for d in checked:
         if "error" in d:
             print(f"  not checked: {d['document']}: {d['error']}")
@@ -141,7 +135,8 @@ def main(argv: list[str] | None = None) -> int:
             hit[it["hit"]] = 1
             wanted = set()
             if status in POSITIVE and quote:
-                wanted = {i for i, s in enumerate(d["sentences"]) if len(s["text"]) >= 10 and _covers(quote, [s["text"]])}
+                wanted = {i for i, s in enumerate(d["sentences"])
+                          if len(s["text"]) >= 10 and quote_covers(quote, [s["text"]])}
             rows.append({"doc": d, "item": item_id, "human": status, "quote": quote or "", "it": it, "hit": hit,
                          "wanted": wanted})
 
@@ -218,9 +213,9 @@ def main(argv: list[str] | None = None) -> int:
             both = [k for k in ks if rows[k]["human"] in POSITIVE and rows[k]["it"]["tool"] in POSITIVE
                     and rows[k]["quote"].strip()]
             if name == "checker":
-                covered = sum(_covers(rows[k]["quote"], rows[k]["it"]["evidence"][:3]) for k in both)
+                covered = sum(quote_covers(rows[k]["quote"], rows[k]["it"]["evidence"][:3]) for k in both)
             else:
-                covered = sum(_covers(rows[k]["quote"], [rows[k]["doc"]["sentences"][i]["text"]
+                covered = sum(quote_covers(rows[k]["quote"], [rows[k]["doc"]["sentences"][i]["text"]
                                                          for i in np.argsort(-scores[k], kind="stable")[:3]])
                               for k in both)
             f1, kappa, three = macro_f1(pairs), binary_kappa(pairs), three_class_agreement(pairs)

@@ -121,8 +121,7 @@ def choose_for_file(path: str | Path, limits: Limits = DEFAULT_LIMITS) -> tuple[
     from .reading import read_document
 
     with time_limit(path, limits.seconds):
-        document = read_document(path, limits)
-        docs = list(parse_blocks(b.text for b in document.blocks))
+        document, docs = _read_parsed(path, Config(), limits, read_document, parse_blocks)
         return choose_checklist(docs, document=document)
 
 
@@ -211,10 +210,14 @@ def main_documents(paths: list[str]) -> tuple[list[str], list[str]]:
     return out, notes
 
 
+def _read_parsed(path, config, limits, read_document, parse_blocks) -> tuple[Document, list]:
+    """The document as the checks see it (without the sections the settings ignore) and its parsed blocks."""
+    document = ignore_sections(read_document(path, limits), config.ignore_sections)
+    return document, list(parse_blocks(b.text for b in document.blocks))
+
+
 def _check(path, checklist, config, limits, read_document, parse_blocks) -> Report:
-    document = read_document(path, limits)
-    document = ignore_sections(document, config.ignore_sections)
-    docs = list(parse_blocks(b.text for b in document.blocks))
+    document, docs = _read_parsed(path, config, limits, read_document, parse_blocks)
     if checklist == AUTO:
         ref, choice = choose_checklist(docs, document=document)
     else:

@@ -538,3 +538,15 @@ def test_no_comparable_pairs_gives_empty_figures_not_a_crash():
     assert ev.pairs == 0
     assert all(f.value is None and f.interval is None for f in ev.figures)
     assert json.loads(to_json(ev))["figures"]["macro_f1"]["value"] is None
+
+
+def test_a_labelled_quote_is_covered_by_the_passage_that_holds_it_despite_extraction_differences():
+    # the accuracy benchmark's quote coverage: a fragment of the labelled quote ("..." joins fragments) found in a
+    # quoted passage, allowing hyphenation and spacing that differ between two extractions (common practice)
+    from checker.many.evaluation import quote_covers
+
+    quote = "Two radiologists annotated every scan ... disagreements were resolved by consensus"
+    passage = "In the methods, two radio- logists annotated every scan independently, blinded to the outcome."
+    assert quote_covers(quote, ["Images were resized.", passage])
+    assert not quote_covers(quote, ["Images were resized to 256 pixels.", "The model was trained for 40 epochs."])
+    assert not quote_covers(quote, [])

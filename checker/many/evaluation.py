@@ -331,6 +331,17 @@ def load_labels(labels_dir: str | Path, docs_dir: str | Path | None = None) -> l
 # ---------------------------------------------------------------------------------------------------- comparison
 
 
+
+def quote_covers(quote: str, passages: Sequence[str]) -> bool:
+    """Whether one of the passages covers a labelled quote: a fragment of the quote (fragments are joined by
+    "..."; those of three words or more count) found in a passage, allowing the small differences that two
+    extractions of the same text show (rapidfuzz partial ratio of 85 or more, common practice)."""
+    from rapidfuzz import fuzz
+
+    fragments = [f.strip() for f in quote.replace("…", "...").split("...") if len(f.split()) >= 3] or [quote]
+    return any(fuzz.partial_ratio(f.lower(), t.lower()) >= 85 for f in fragments for t in passages)
+
+
 @dataclass(frozen=True)
 class Pair:
     """One item of one document as the human labelled it and as studygap judged it."""
