@@ -63,3 +63,36 @@ def test_this_study_statement_is_reported_and_shows_its_attribution():
     data = json.loads(json.dumps(report.to_dict()))
     ev = next(i for i in data["items"] if i["id"] == "reference.annotators")["evidence"]
     assert ev and ev[0]["attribution"] == THIS_STUDY
+
+
+@pytest.mark.parametrize("text, defers_", [
+    ("Lesions were segmented following the annotation protocol described in [12].", True),
+    ("The annotation guidelines are available here.", True),
+    ("All metrics are defined in the challenge paper.", True),
+    ("See the documentation for the metric definitions.", True),
+    ("Annotators followed the same protocol as in the previous edition.", True),
+    ("Annotators followed the protocol described in Section 3.", False),
+    ("The thresholds are listed in Table 2.", False),
+    ("Lesions were drawn in a slice-based editor by two radiologists.", False),
+])
+def test_sentences_that_leave_details_to_another_document(text, defers_):
+    from checker.matching.attribution import defers
+
+    assert defers(text) is defers_
+
+
+def _item(text, checklist, item_id):
+    return next(it for it in check_text(text, checklist).items if it.id == item_id)
+
+
+def test_details_left_to_another_document_make_the_item_partial_and_say_so():
+    # the labelling convention of the evaluation set: deferred to an external link or paper = partial
+    elsewhere = _item("Lesions were manually segmented following the annotation protocol described in [12].",
+                      "validation-study", "reference.protocol")
+    here = _item("Lesions were manually segmented following a written annotation guideline with a worked example "
+                 "per lesion type.", "validation-study", "reference.protocol")
+    assert (elsewhere.status, here.status) == ("partial", "reported")
+    assert "only referred to another document" in elsewhere.reason
+    metrics = _item("Segmentations are scored with Dice and the Hausdorff distance at the 95th percentile, as "
+                    "defined in the challenge paper.", "benchmark-proposal", "metrics.definition")
+    assert metrics.status == "partial"

@@ -33,13 +33,17 @@ class ItemScores:
     inapplicable_when_empty: bool
     #: the checklist the item belongs to (needs are chosen per checklist item)
     checklist: str = ""
+    #: per facet, the best score among sentences that give the details here (see decide.FacetHits.complete);
+    #: empty when no facet of the item leaves details to another document
+    complete_scores: tuple[tuple[str, float], ...] = ()
 
     def status_at(self, threshold: float, needs: tuple[tuple[str, ...], ...] | None = None) -> str:
         """The status the verdicts give at this threshold (and with these `needs` instead of the item's)."""
         from ..verdicts.decide import decide
 
         return decide({f for f, s in self.facet_scores if s >= threshold},
-                      self.needs if needs is None else needs, self.inapplicable_when_empty)
+                      self.needs if needs is None else needs, self.inapplicable_when_empty,
+                      {f for f, s in self.complete_scores or self.facet_scores if s >= threshold})
 
 
 def scores_of(document: str, checklist: str, labels: dict[str, str], limits=None) -> list[ItemScores]:
@@ -65,6 +69,9 @@ def scores_of(document: str, checklist: str, labels: dict[str, str], limits=None
             human=labels[item.id],
             facet_scores=tuple((fh.facet.id, round(fh.score, 6)) for fh in per), needs=item.needs,
             inapplicable_when_empty=not applies(scan, ii, item),
+            complete_scores=(tuple((fh.facet.id, round(fh.score if fh.complete_score is None else fh.complete_score, 6))
+                                   for fh in per)
+                             if any(fh.complete_score is not None for fh in per) else ()),
         ))
     return out
 

@@ -96,6 +96,33 @@ _GENERAL = re.compile(
     re.IGNORECASE,
 )
 
+# Details left to another document: a cited paper, a linked page, the dataset's own paper ("following the
+# protocol described in [12]", "as defined in the challenge paper", "the guidelines are available here", "see the
+# documentation"). A pointer inside the document itself (a section, table, figure or appendix) is not one.
+_ELSEWHERE = (r"(?:(?:the|our|a|an|its|their)\s+)?(?:(?:original|accompanying|companion|previous|earlier|cited|"
+              r"linked|separate|official|overview|challenge|competition|dataset|benchmark|task|source|reference|"
+              r"following|[\w-]+'s)\s+)*(?:paper|papers|publication|publications|article|manuscript|documentation|"
+              r"docs|repository|repo|website|web\s*site|web\s*page|webpage|page|link|url|data\s*card|datasheet|"
+              r"github|wiki|pdf)\b"
+              r"|\[\s*\d|\[@|\[[^\]]{1,60}\]\(|https?://|(?:ref(?:erence)?s?\.?\s*)\d|[A-Z][\w'’-]+\s+et\s+al\b")
+_DEFERS = re.compile(
+    r"\b(?:described|detailed|defined|explained|specified|documented|given|listed|provided|outlined|reported|"
+    r"available|found|introduced|published)\s+(?:in\s+(?:more\s+|full\s+|further\s+)?detail\s+)?(?:in|at|on|"
+    r"from|via|by|through)\s+(?:" + _ELSEWHERE + r")"
+    r"|\b(?:available|found|described|given|documented)\s+(?:here|elsewhere|online)\b"
+    r"|\b(?:see|refer\s+to|consult|please\s+see|please\s+refer\s+to)\s+(?:" + _ELSEWHERE + r")"
+    r"|\b(?:the\s+same|identical|similar)\s+(?:[\w-]+\s+){0,2}?(?:protocol|guidelines?|procedure|criteria|"
+    r"definitions?|instructions|rules)\s+as\s+(?:in|for|used\s+in|described\s+in|those\s+of|the\s+previous|"
+    r"previous|earlier|\[)",
+    re.IGNORECASE,
+)
+
+
+def defers(text: str) -> bool:
+    """Whether a sentence leaves its details to another document (a citation, a link, "the paper")."""
+    return bool(_DEFERS.search(text))
+
+
 #: section roles whose sentences speak of others unless they say otherwise
 _OTHER_ROLES = frozenset({"related-work"})
 #: sections that frame a study: a sentence there speaks of this study only when it says so ("we", "our data");

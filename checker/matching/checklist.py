@@ -57,6 +57,9 @@ class Facet:
     near: Near | None = None
     unless: Cues | None = None
     weight: float = 1.0
+    #: `deferred: partial`: a sentence that leaves the details to another document ("following the protocol
+    #: described in [12]", "defined in the challenge paper", "available here") finds this facet only for partial
+    deferred_partial: bool = False
 
 
 @dataclass(frozen=True)
@@ -245,7 +248,7 @@ def cue_block(p: Problems, node: Node, path: str, extra: set[str] = frozenset())
 
 
 def _facet(p: Problems, node: Node, path: str) -> Facet | None:
-    fields = fields_of(p, node, path, {"id"}, {"title", "near", "unless", "weight"} | _CUE_KEYS)
+    fields = fields_of(p, node, path, {"id"}, {"title", "near", "unless", "weight", "deferred"} | _CUE_KEYS)
     if not fields and not isinstance(node.value, dict):
         return None
     fid = text_of(p, fields.get("id"), join_path(path, "id"))
@@ -271,8 +274,15 @@ def _facet(p: Problems, node: Node, path: str) -> Facet | None:
         weight = float(fields["weight"].value)
         if not 0 < weight <= 2:
             p.add(fields["weight"], join_path(path, "weight"), "must be above 0 and at most 2")
+    deferred_partial = False
+    if "deferred" in fields:
+        value = text_of(p, fields["deferred"], join_path(path, "deferred"))
+        if value != "partial":
+            p.add(fields["deferred"], join_path(path, "deferred"),
+                  "the only value is 'partial' (details left to another document make the facet partial)")
+        deferred_partial = value == "partial"
     title = text_of(p, fields.get("title"), join_path(path, "title"), required=False) or fid
-    return Facet(fid, title, cues, near, unless, weight)
+    return Facet(fid, title, cues, near, unless, weight, deferred_partial)
 
 
 def _needs(p: Problems, node: Node | None, path: str, facet_ids: list[str]) -> tuple[tuple[str, ...], ...]:

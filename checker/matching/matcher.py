@@ -72,6 +72,7 @@ class Scan:
     docs: list["Doc"] = field(default_factory=list, repr=False)
     #: whose statement each sentence is (see checker.matching.attribution); filled on first use
     _attributions: list["Attribution"] | None = field(default=None, repr=False)
+    _defers: list[bool] | None = field(default=None, repr=False)
 
     def attribution(self, i: int) -> "Attribution":
         if self._attributions is None:
@@ -79,6 +80,14 @@ class Scan:
 
             self._attributions = [attribute(s.text, s.role, s.kind) for s in self.sentences]
         return self._attributions[i]
+
+    def defers(self, i: int) -> bool:
+        """Whether sentence i leaves its details to another document (see attribution.defers)."""
+        if self._defers is None:
+            from .attribution import defers
+
+            self._defers = [defers(s.text) for s in self.sentences]
+        return self._defers[i]
 
     def weight(self, i: int) -> float:
         """How much sentence i counts as evidence: its section's weight times whose statement it is."""

@@ -20,10 +20,18 @@ class FacetHits:
     score: float
     #: how strong the best hit must be for the facet to count as found (fitted per concept, see fitted.py)
     threshold: float = FOUND_AT
+    #: the best hit's score among sentences that give the details here rather than leave them to another
+    #: document (equal to `score` unless the facet has `deferred: partial`)
+    complete_score: float | None = None
 
     @property
     def found(self) -> bool:
         return self.score >= self.threshold
+
+    @property
+    def complete(self) -> bool:
+        """Found in a sentence that gives the details itself: only such a facet can make an item reported."""
+        return (self.score if self.complete_score is None else self.complete_score) >= self.threshold
 
 
 def facet_hits(scan: Scan, ii: int, fi: int, facet: Facet, threshold: float = FOUND_AT) -> FacetHits:
@@ -42,7 +50,11 @@ def facet_hits(scan: Scan, ii: int, fi: int, facet: Facet, threshold: float = FO
             continue
         valid.append(h)
     score = max((facet.weight * scan.weight(h.sentence) for h in valid), default=0.0)
-    return FacetHits(facet, tuple(valid), score, threshold)
+    complete = None
+    if facet.deferred_partial:
+        complete = max((facet.weight * scan.weight(h.sentence) for h in valid if not scan.defers(h.sentence)),
+                       default=0.0)
+    return FacetHits(facet, tuple(valid), score, threshold, complete)
 
 
 def is_near(scan: Scan, s: int, others: set[int], within: int) -> bool:
@@ -62,6 +74,7 @@ def evaluate_item(compiled: CompiledChecklist, scan: Scan, ii: int, item: Item, 
     found_at = threshold(item.concept)
     per_facet = [facet_hits(scan, ii, fi, f, found_at) for fi, f in enumerate(item.facets)]
     found = {fh.facet.id for fh in per_facet if fh.found}
+    complete = {fh.facet.id for fh in per_facet if fh.complete}
     facets = tuple(
         FacetResult(fh.facet.id, fh.facet.title, fh.found, fh.score, len({h.sentence for h in fh.hits}))
         for fh in per_facet
@@ -106,7 +119,7 @@ def evaluate_item(compiled: CompiledChecklist, scan: Scan, ii: int, item: Item, 
                          location=scan.sentences[h.sentence].location)
                 )
 
-    status, reason, lacking = _status(compiled, scan, ii, item, per_facet, found, waivers)
+    status, reason, lacking = _status(compiled, scan, ii, item, per_facet, found, complete, waivers)
     return ItemResult(
         id=item.id,
         group=item.group,
@@ -135,31 +148,37 @@ def applies(scan: Scan, ii: int, item: Item) -> bool:
     return any(scan.weight(h.sentence) >= APPLIES_AT for h in scan.hits.get(key(ii, -1, APPLIES), ()))
 
 
-def decide(found: set[str], needs: tuple[tuple[str, ...], ...], inapplicable: bool) -> str:
-    """The status from the facets found: reported when every facet of one `needs` set is found, partial when
-    some facet is, else not-applicable (the item's `applies_when` found nothing) or missing. The one rule that
-    both the verdicts and the threshold fitting (fitting.py) use."""
+def decide(found: set[str], needs: tuple[tuple[str, ...], ...], inapplicable: bool,
+           complete: set[str] | None = None) -> str:
+    """The status from the facets found: reported when every facet of one `needs` set is found (and `complete`:
+    found in a sentence that gives the details itself, not only leaves them to another document), partial when
+    some facet is found, else not-applicable (the item's `applies_when` found nothing) or missing. The one rule
+    that both the verdicts and the threshold fitting (fitting.py) use."""
     if not found:
         return "not-applicable" if inapplicable else "missing"
-    return "reported" if any(set(n) <= found for n in needs) else "partial"
+    done = found if complete is None else found & complete
+    return "reported" if any(set(n) <= done for n in needs) else "partial"
 
 
-def _status(compiled, scan, ii, item, per_facet, found, waivers) -> tuple[str, str, tuple[str, ...]]:
+def _status(compiled, scan, ii, item, per_facet, found, complete, waivers) -> tuple[str, str, tuple[str, ...]]:
     """The status, the reason in words, and what a partial item still lacks (the facets of its best way to
     completion that were not found: the one place this is decided; the requests to authors ask for these)."""
     if item.id in waivers:
         return "waived", f"waived in the configuration: {waivers[item.id]}", ()
     inapplicable = not applies(scan, ii, item)
-    status = decide(found, item.needs, inapplicable)
+    status = decide(found, item.needs, inapplicable, complete)
     if status == "not-applicable":
         return status, f"not applicable: {item.applies_when.reason}", ()
     titles = {fh.facet.id: fh.facet.title for fh in per_facet}
     if status == "reported":
         return "reported", "found: " + "; ".join(titles[f] for f in titles if f in found), ()
     if found:
-        # name what a best alternative still lacks
-        best = min(item.needs, key=lambda n: (len(set(n) - found), item.needs.index(n)))
-        lacking = tuple(titles[f] for f in best if f not in found)
+        # name what a best alternative still lacks; a facet whose details are only referred to elsewhere lacks
+        # them here
+        done = found & complete
+        best = min(item.needs, key=lambda n: (len(set(n) - done), item.needs.index(n)))
+        lacking = tuple(titles[f] + (" (only referred to another document)" if f in found else "")
+                        for f in best if f not in done)
         return "partial", ("found: " + "; ".join(titles[f] for f in titles if f in found)
                            + " — not found: " + "; ".join(lacking)), lacking
     weak = [h.sentence for fh in per_facet for h in fh.hits]
