@@ -180,6 +180,21 @@ def test_a_reference_list_holds_no_sections():
     assert out[3].section == ("Figure captions",) and out[3].role == "body"
 
 
+def test_prose_after_a_table_of_contents_is_body_text_again():
+    # a README whose first section heading the reader could not tell ("1. Dataset" underlined): its prose must not
+    # count as front matter, or nothing it says about the data counts
+    out = assign_sections(_doc(
+        (H, "Harbour sounds, development set", 1),
+        (H, "Table of Contents", 1), (P, "Dataset", None), (P, "Usage", None), (P, "1 Introduction 1 2 Data 4", None),
+        (P, "The recordings were collected in three harbours by the Northvale Acoustics Group between 2019 and "
+            "2021.", None),
+        (H, "License", 1), (P, "Free for research.", None)))
+    roles = {b.text: b.role for b in out}
+    assert roles["Usage"] == "front-matter" and roles["1 Introduction 1 2 Data 4"] == "front-matter"
+    assert roles[out[5].text] == "body"
+    assert out[5].section == ()
+
+
 def test_contents_lines_are_front_matter_wherever_they_stand():
     out = assign_sections(_doc((H, "1 Introduction", 1),
                                (P, "1 Introduction .......... 1 2 Data sets and annotation .......... 4", None),

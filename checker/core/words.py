@@ -20,7 +20,7 @@ LISTS = ("known-nouns", "singular-words-ending-in-s", "noun-phrase-stops", "neve
          "number-labels", "subset-words", "site-subset-words", "method-subset-words", "statement-verbs",
          "part-of-collection-words", "neutral-test-set-qualifiers", "list-stop-words", "sentence-abbreviations",
          "letter-labelled-nouns", "structured-abstract-headings", "thesis-front-headings", "heading-joining-words",
-         "hyphen-kept-heads")
+         "hyphen-kept-heads", "contents-headings")
 MAPS = ("irregular-plurals",)
 GROUPS = ("case-units", "annotator-units", "site-units", "method-units", "section-headings")
 

@@ -20,6 +20,10 @@ for _heading, _role in _WORDS.groups["section-headings"].items():  # heading -> 
 #: roles a heading must name whole: "Reference annotation" is not the reference list, "Submission requirements"
 #: are not system requirements, "Contents of the dataset" is not a table of contents
 _WHOLE_ONLY = frozenset({"references", "requirements", "front-matter"})
+#: headings of a table of contents or a list of figures, which hold entries, never prose
+_CONTENTS = frozenset(_WORDS.lists["contents-headings"])
+#: how many words make a paragraph prose rather than an entry of contents
+_PROSE_WORDS = 12
 #: roles whose subsections keep them: a survey's paper titles are still about other work, and "Data curation"
 #: under "Author contributions" is a person's credit, not the data section
 #: variants that name a role only as the whole heading: "Background subtraction" is a method
@@ -107,6 +111,14 @@ def _is_contents_lines(text: str) -> bool:
     """Text made of table-of-contents lines: a dot leader and a page number for every few words."""
     leaders = len(_LEADER_RUN.findall(text))
     return leaders > 0 and leaders * 25 >= len(text.split())
+
+
+def _is_prose(text: str) -> bool:
+    """A paragraph of sentences, not entries of contents: enough words, a sentence's end, few page numbers."""
+    words = text.split()
+    numbers = sum(w.strip(".,;:()").isdigit() for w in words)
+    return (len(words) >= _PROSE_WORDS and numbers * 4 < len(words) and not _is_contents_lines(text)
+            and re.search(r"\w{2,}[.!?:](?:\s|$)", text) is not None)
 
 
 def _words(block: Block) -> int:
@@ -273,7 +285,12 @@ def assign_sections(blocks: list[Block]) -> list[Block]:
             if i != title_at:
                 under_title = False
         elif stack:
-            stack[-1][4] += _words(block)
+            if (stack[-1][2] == "front-matter" and clean_heading(stack[-1][1]) in _CONTENTS
+                    and block.kind == "paragraph" and _is_prose(block.text)):
+                stack.pop()  # prose after a table of contents: the contents have ended, the body has begun
+                in_front = False
+            if stack:
+                stack[-1][4] += _words(block)
         path = tuple(entry[1] for entry in stack)
         sticky = next((e[2] for e in stack if e[2] in _STICKY), None)
         role = sticky or next((e[2] for e in reversed(stack) if e[2]), "body")
