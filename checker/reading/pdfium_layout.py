@@ -32,6 +32,8 @@ _SPACE = 0.1
 
 _TEXT, _PATH, _IMAGE, _FORM = 1, 2, 3, 5
 _MOVETO = 2
+#: the spaces between two words of a text object: where it may be cut into table cells
+_GAP = re.compile(r"(?<=\S) +(?=\S)")
 _NO_MAP = "\ue000"  # one character for a glyph without a character map, so text and indexes stay aligned
 
 
@@ -361,19 +363,26 @@ def _text_runs(reader: _Reader, obj, textpage, outer: _Matrix, chars: _Chars, pa
     text = _unmapped(reader, obj, textpage, text, pos)
     # text and characters line up one to one: every space is a place the run may be cut
     first, end = chars.loose(pos[0]), chars.loose(pos[-1])
-    x0 = page.apply(first[0], 0.0)[0]
-    x1 = page.apply(end[1], 0.0)[0]
+    dx = page.e  # the page's matrix only moves the origin: page.apply(x, 0) is x + 0.0 + e
+    x0 = first[0] + 0.0 + dx
+    x1 = end[1] + 0.0 + dx
     cuts = [0]
     edges: list[tuple[float, float, float, float]] = []  # right edge and width before, left edge and width after
     if " " in text.strip():
-        for g in re.finditer(r"(?<=\S) +(?=\S)", text):
-            a = chars.loose(pos[g.start() - 1])
-            b = chars.loose(pos[g.end()])
-            before, after = page.apply(a[1], 0.0)[0], page.apply(b[0], 0.0)[0]
-            if after - before > _CHAR_MARGIN * max(a[1] - a[0], b[1] - b[0]) and \
-                    _empty_gap(chars, [pos[k] for k in range(g.start() - 1, g.end() + 1)]):
-                cuts.extend((g.start(), g.end()))
-                edges.append((before, a[1] - a[0], after, b[1] - b[0]))
+        # two calls of PDFium per gap between words, the hottest loop of reading a PDF: no helper calls here
+        box, tp, rect, prect = api.FPDFText_GetLooseCharBox, textpage, chars.rect, chars.prect
+        for g in _GAP.finditer(text):
+            gs, ge = g.span()
+            box(tp, pos[gs - 1], prect)
+            al, ar = rect.left, rect.right
+            box(tp, pos[ge], prect)
+            bl, br = rect.left, rect.right
+            before, after = ar + 0.0 + dx, bl + 0.0 + dx
+            wa, wb = ar - al, br - bl
+            if after - before > _CHAR_MARGIN * (wb if wb > wa else wa) and \
+                    _empty_gap(chars, [pos[k] for k in range(gs - 1, ge + 1)]):
+                cuts.extend((gs, ge))
+                edges.append((before, wa, after, wb))
     w0, w1 = first[1] - first[0], end[1] - end[0]
     if len(cuts) == 1:
         return [_Run(text, x0, x1, y0, y0 + size, size, bold, _letters(text), w0, w1)]
@@ -553,9 +562,20 @@ def _piece_of(group: list[_Run]) -> tuple[Piece | None, int]:
         head = clean(" ".join(r.text for r in takewhile(lambda r: r.bold, group)))
         if head and text.startswith(head):
             prefix = head
-    sizes = sorted(s for r in group for s in [r.size] * max(r.chars, 1))
     return Piece(
         text=text, x0=min(r.x0 for r in group), x1=max(r.x1 for r in group), y0=min(r.y0 for r in group),
-        y1=max(r.y1 for r in group), size=sizes[len(sizes) // 2], bold=share, bold_prefix=prefix,
+        y1=max(r.y1 for r in group), size=_median_size(group), bold=share, bold_prefix=prefix,
         ends_soft=raw.rstrip().endswith("\u00ad"), chars=chars,
     ), undecoded
+
+
+def _median_size(group: list[_Run]) -> float:
+    """The font size of the middle letter when the letters are ordered by size (each run's size counted once
+    per letter, at least once)."""
+    weighted = sorted((r.size, max(r.chars, 1)) for r in group)
+    middle = sum(w for _s, w in weighted) // 2
+    for size, w in weighted:
+        if middle < w:
+            return size
+        middle -= w
+    return weighted[-1][0]  # pragma: no cover - the loop always returns

@@ -52,8 +52,12 @@ _BOLD_FONT = re.compile(r"bold|black|heavy|semibold|demi|[-,_]medi(um)?\b|[-,_]m
 
 def clean(text: str) -> str:
     """NFKC (ligatures, compatibility forms), soft hyphens out, one space between words."""
-    text = unicodedata.normalize("NFKC", _CID.sub("", text)).translate(_HYPHENS)
-    return re.sub(r"\s+", " ", _CONTROL.sub(" ", text)).strip()
+    if "(cid:" in text:
+        text = _CID.sub("", text)
+    if not text.isascii():  # ASCII is its own NFKC form and holds none of the hyphens
+        text = unicodedata.normalize("NFKC", text).translate(_HYPHENS)
+    # split() and join: what re.sub(r"\s+", " ", ...).strip() gives, at a fraction of the cost
+    return " ".join(_CONTROL.sub(" ", text).split())
 
 
 @lru_cache(maxsize=1024)
@@ -64,5 +68,7 @@ def is_bold(fontname: str) -> bool:
 def mark_undecoded(raw: str) -> tuple[str, int]:
     """A line's text with its glyphs without a character map, written (cid:N), settled: one standing alone at
     the start of the line is a bullet in practice; the others are counted (clean drops them)."""
+    if "(cid:" not in raw:
+        return raw, 0
     raw = "•" if _LONE_CID.match(raw) else _LEADING_CID.sub("• ", raw, count=1)
     return raw, len(_CID.findall(raw))
