@@ -16,6 +16,7 @@ from typing import Any
 
 from ..core.errors import ChecklistError, UsageError
 from ..core.marked import Node, Problems, closest, compose, expect_type, fields_of, join_path, text_of, texts_of
+from .regexscan import required_words
 
 MAX_FILE_BYTES = 5 * 1024 * 1024
 
@@ -139,6 +140,13 @@ def compile_regex(pattern: str):
     from .facts import expand_macros
 
     return regexcache.compile(expand_macros(pattern), regex.IGNORECASE | regex.V0)
+
+
+def may_match(rx, folded: str) -> bool:
+    """Whether a case-folded text holds one of the words every match of a compiled checklist regex contains (the
+    cue layer's test, regexscan.required_words): a text without any of them needs no search."""
+    need = required_words(rx.pattern)
+    return not need or any(w in folded for w in need)
 
 
 def _check_regex(p: Problems, node: Node, path: str, pattern: str) -> str | None:

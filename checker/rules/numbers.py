@@ -9,6 +9,7 @@ from typing import TYPE_CHECKING, Iterable
 
 import regex
 
+from ..matching.checklist import may_match
 from .wording import (
     ANNOTATES_AFTER, ANNOTATION_CONTEXT, ANNOTATOR_UNITS, APPROX_BEFORE, BREAKDOWN_AFTER, BY_BEFORE, CASE_UNITS,
     CHAIN, LIST_NAMES_FIRST, LIST_NUMS_FIRST, LIST_STOP, METHOD_AFTER, METHOD_BEFORE, METHOD_SUBSET, METHOD_UNITS,
@@ -111,7 +112,8 @@ def extract_numbers(scan: "Scan") -> DocumentNumbers:
         if sent.role in SKIP_ROLES or sent.kind in ("heading", "table-row"):
             continue
         text = sent.text
-        if PLAN.search(text):
+        folded = text.casefold()
+        if may_match(PLAN, folded) and PLAN.search(text):
             continue
         facts = extract_facts(text)
         stmts: list[Statement] = []
@@ -122,7 +124,8 @@ def extract_numbers(scan: "Scan") -> DocumentNumbers:
                     stmts.append(st)
             elif f.kind == "split" and isinstance(f.value, list):
                 _split_fact(text, si, f, stmts, out.ratios)
-        for m in SPLIT_PAREN.finditer(text):  # "training (1,700), validation (168) and test (100)"
+        for m in SPLIT_PAREN.finditer(text) if may_match(SPLIT_PAREN, folded) else ():
+            # "training (1,700), validation (168) and test (100)"
             v = parse_number(m.group("n"))
             if not isinstance(v, int) or any(s.start <= m.start("n") < s.end for s in stmts):
                 continue
@@ -131,8 +134,10 @@ def extract_numbers(scan: "Scan") -> DocumentNumbers:
                 continue
             stmts.append(Statement("cases", unit[1] if unit else "", split_of(m.group("split")), v, si,
                                    m.start(), m.end(), m.group()))
-        stmts += _split_lists(text, si, stmts)
-        stmts += _site_words(text, si, stmts)
+        if may_match(LIST_NAMES_FIRST, folded) or may_match(LIST_NUMS_FIRST, folded):
+            stmts += _split_lists(text, si, stmts)
+        if may_match(SINGLE_SITE, folded) or may_match(N_SITE, folded):
+            stmts += _site_words(text, si, stmts)
         out.statements += stmts
         out.shares += _shares(text, si, stmts)
     return out
