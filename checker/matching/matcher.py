@@ -47,7 +47,7 @@ FOUND_AT = 0.5
 CUE, NEAR, UNLESS, APPLIES = "cue", "near", "unless", "applies"
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, slots=True)
 class Hit:
     sentence: int  # index into Scan.sentences
     start: int  # character offsets into the sentence text
@@ -70,6 +70,8 @@ class Scan:
     #: where each sentence lies in the parsed blocks: (index into docs, first token, end token)
     spans: list[tuple[int, int, int]] = field(default_factory=list, repr=False)
     docs: list["Doc"] = field(default_factory=list, repr=False)
+    #: the sentences' texts joined and case-folded for the regex cues, shared by the checklist's and the rules' cues
+    texts: Sentences | None = field(default=None, repr=False)
     #: whose statement each sentence is (see checker.matching.attribution); filled on first use
     _attributions: list["Attribution"] | None = field(default=None, repr=False)
     _defers: list[bool] | None = field(default=None, repr=False)
@@ -329,28 +331,32 @@ class CompiledCues:
         self._matchers = [m for m in (self.lemma_matcher, self.lower_matcher, self.token_matcher) if len(m)]
 
     def match(self, sentences: list[Sentence], docs: list["Doc"], spans: list[tuple[int, int, int]], *,
-              clip: bool = True, regex_seconds: float = 2.0, path: str = "") -> dict[str, list[Hit]]:
+              clip: bool = True, regex_seconds: float = 2.0, path: str = "",
+              texts: Sentences | None = None) -> dict[str, list[Hit]]:
         """Every hit by match key, sorted and each once. Without parsed blocks (a Scan built by hand) the
-        sentences are parsed here. A spaCy hit that runs into the next sentence is cut there (clip) or left out."""
+        sentences are parsed here. A spaCy hit that runs into the next sentence is cut there (clip) or left out.
+        ``texts``: the sentences' texts prepared for the regexes (Sentences of the same sentences), if at hand."""
         hits: dict[str, list[Hit]] = {}
         if self._matchers:
+            strings = self.nlp.vocab.strings
             if spans:
-                found = match_sentences(self._matchers, self.nlp.vocab.strings, docs, spans, sentences, clip=clip)
+                match_sentences(self._matchers, strings, docs, spans, sentences, clip=clip, into=hits)
             else:
-                found = [(self.nlp.vocab.strings[mid], si, doc[a:b].start_char, doc[a:b].end_char)
-                         for si, doc in enumerate(self.nlp.pipe([s.text for s in sentences], batch_size=128))
-                         for m in self._matchers for mid, a, b in m(doc)]
-            for mkey, si, a, b in found:
-                hits.setdefault(mkey, []).append(Hit(si, a, b))
-        self._scan_regexes(sentences, hits, regex_seconds, path)
-        for v in hits.values():
+                for si, doc in enumerate(self.nlp.pipe([s.text for s in sentences], batch_size=128)):
+                    for m in self._matchers:
+                        for mid, a, b in m(doc):
+                            hits.setdefault(strings[mid], []).append(Hit(si, doc[a:b].start_char, doc[a:b].end_char))
+        if texts is None:
+            texts = Sentences([s.text for s in sentences])
+        self._scan_regexes(texts, hits, regex_seconds, path)
+        for k, v in hits.items():  # one key at a time: a long document's hits are not held twice
             v.sort(key=lambda h: (h.sentence, h.start, h.end))
-        return {k: _dedupe(v) for k, v in hits.items()}
+            hits[k] = _dedupe(v)
+        return hits
 
-    def _scan_regexes(self, sentences: list[Sentence], hits: dict[str, list[Hit]], seconds: float, path: str) -> None:
+    def _scan_regexes(self, texts: Sentences, hits: dict[str, list[Hit]], seconds: float, path: str) -> None:
         import regex
 
-        texts = Sentences([s.text for s in sentences])
         for (k, src), sets in zip(self._regexes, self._prefilter):
             need = sets[0] if sets else ()
             if not texts.mentions(need):
@@ -410,21 +416,21 @@ class CompiledChecklist:
             if not kept_docs or kept_docs[-1] is not doc:
                 kept_docs.append(doc)
             spans.append((len(kept_docs) - 1, tstart, tend))
+        texts = Sentences([s.text for s in sentences])
         hits = self.cues.match(sentences, kept_docs, spans, clip=True, regex_seconds=regex_seconds,
-                               path=document.path) if sentences else {}
-        return Scan(document, sentences, sections, hits, skipped, spans, kept_docs)
+                               path=document.path, texts=texts) if sentences else {}
+        return Scan(document, sentences, sections, hits, skipped, spans, kept_docs, texts)
 
 
 def match_sentences(matchers, strings, docs: list["Doc"], spans: list[tuple[int, int, int]],
-                    sentences: list[Sentence], *, clip: bool) -> list[tuple[str, int, int, int]]:
-    """(match key, sentence index, start, end) of every spaCy matcher hit, offsets into the sentence text.
+                    sentences: list[Sentence], *, clip: bool, into: dict[str, list[Hit]]) -> None:
+    """Every spaCy matcher hit added to ``into`` under its match key, with offsets into the sentence text.
 
     Each parsed block is matched once and its hits are handed to the sentences they start in; a hit that runs
     into the next sentence is cut at the sentence's end (clip) or left out.
     """
     from spacy.attrs import IDX, LENGTH
 
-    out: list[tuple[str, int, int, int]] = []
     by_doc: dict[int, list[int]] = {}
     for si, (di, _, _) in enumerate(spans):
         by_doc.setdefault(di, []).append(si)
@@ -445,8 +451,7 @@ def match_sentences(matchers, strings, docs: list["Doc"], spans: list[tuple[int,
                 if me > tend and not clip:
                     continue
                 last = min(me, tend) - 1
-                out.append((mkey, si, idx[ms] - offset, idx[last] + length[last] - offset))
-    return out
+                into.setdefault(mkey, []).append(Hit(si, idx[ms] - offset, idx[last] + length[last] - offset))
 
 
 def _dedupe(hits: list[Hit]) -> list[Hit]:

@@ -10,7 +10,7 @@ from typing import Any, Literal
 BlockKind = Literal["heading", "paragraph", "list-item", "table-row", "caption", "footnote"]
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, slots=True)
 class Location:
     """Where a passage stands in its source file. Only the fields that the format has are set."""
 
@@ -64,7 +64,7 @@ class Location:
         }
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, slots=True)
 class Mark:
     """From character ``offset`` of a block on, the text stands at this page and line of the source."""
 
@@ -111,7 +111,7 @@ class Block:
         return loc
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, slots=True)
 class Sentence:
     text: str
     block: int  # index into Document.blocks
