@@ -297,6 +297,8 @@ class Sentences:
     folded_starts: list[int] = field(init=False)
     folded_texts: list[str] = field(init=False, repr=False)
     _digits: list[bool] | None = field(init=False, default=None, repr=False)
+    #: per string, the sentences that hold it: the count and unit words recur in dozens of regexes
+    _where: dict[str, list[int]] = field(init=False, default_factory=dict, repr=False)
 
     def __post_init__(self) -> None:
         self.joined, self.starts = _join(self.texts)
@@ -305,7 +307,7 @@ class Sentences:
         self.folded, self.folded_starts = _join(self.folded_texts)
 
     def mentions(self, need: tuple[str, ...]) -> bool:
-        return not need or any(w in self.folded for w in need)
+        return not need or any(self._sentences_with(w) for w in need)
 
     def _holds(self, si: int, words: tuple[str, ...]) -> bool:
         """Whether sentence si holds one of the strings (facts.DIGIT: any digit the regex module's \\d matches)."""
@@ -325,16 +327,26 @@ class Sentences:
 
     def _with_words(self, need: tuple[str, ...]) -> list[int]:
         """Sentences that contain one of the strings."""
+        if len(need) == 1:
+            return self._sentences_with(need[0])
         seen: set[int] = set()
-        text, starts = self.folded, self.folded_starts
         for w in need:
+            seen.update(self._sentences_with(w))
+        return sorted(seen)
+
+    def _sentences_with(self, w: str) -> list[int]:
+        """The sentences that contain the string, in order (looked up once per string and document)."""
+        found = self._where.get(w)
+        if found is None:
+            found = self._where[w] = []
+            text, starts = self.folded, self.folded_starts
             at = text.find(w)
             while at >= 0:
                 si = bisect_right(starts, at) - 1
-                seen.add(si)
+                found.append(si)
                 # on to the next sentence: one occurrence is enough
                 at = text.find(w, starts[si + 1]) if si + 1 < len(starts) else -1
-        return sorted(seen)
+        return found
 
     def _touched(self, rx, timeout: float) -> list[int]:
         """Sentences that a match in the joined text touches: the only ones that can match on their own."""

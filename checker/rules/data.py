@@ -54,7 +54,7 @@ class CompiledRules:
         # a spaCy hit running into the next sentence is left out (not cut); a regex group named "seen" marks the
         # words to quote ("sensitivity" of "sensitivity of 0.8")
         found = self.cues.match(scan.sentences, scan.docs, scan.spans, clip=False, regex_seconds=regex_seconds,
-                                path=scan.document.path)
+                                path=scan.document.path, texts=scan.texts)
         out: dict[str, Hits] = {}
         for k, hits in found.items():
             spans: dict[int, set[tuple[int, int]]] = {}
