@@ -769,9 +769,9 @@ def _page_rows(page: Page, running: set[int]) -> list[_Row]:
         for group_rows, consumed in _table_rows(sequence, page.rules):
             first = line + 1
             line += consumed
-            for r in group_rows:
-                rows.append(replace(r, page=page.number, line=first + r.line, column=(region, column),
-                                    left=left, right=right))
+            for r in group_rows:  # the row placed on the page (a constructor call: replace() costs more)
+                rows.append(_Row(r.text, page.number, first + r.line, (region, column), r.x0, r.x1, r.y0, r.y1,
+                                 r.size, r.bold, r.bold_prefix, r.ends_soft, r.cells, left, right, r.printed))
     return rows
 
 
@@ -908,6 +908,12 @@ _FOOTNOTE_START = re.compile(r"^(?:\d{1,2}|[*†‡§¶])\s*\S")
 # "self-supervised"), and words a wrapped heading line can end with: checklists/words.yaml (checker.core.words)
 _KEEP_HYPHEN_HEADS = builtin_words().set("hyphen-kept-heads")
 _JOINING_WORDS = builtin_words().set("heading-joining-words")
+#: the document's own vocabulary (see _Assembler): words, hyphenated compounds, the first half of a word broken
+#: at a line end, and the rest of it at the start of the next line
+_WORD = re.compile(r"[^\W\d_]+")
+_HYPHENATED = re.compile(r"[^\W\d_]+(?:-[^\W\d_]+)+")
+_BROKEN_WORD = re.compile(r"[^\W\d_]+-(?:\s|$)")
+_FIRST_WORD = re.compile(r"^[^\W\d_]+")
 _PASTED_HYPHEN = re.compile(r"(?<![\w-])([^\W\d_]+)- ([a-z]+)\b")
 _LINE_END_HYPHEN = re.compile(r"([\w-]*)-$")
 _LEADING_LETTERS = re.compile(r"[^\W\d_]*")
@@ -982,10 +988,12 @@ class _Assembler:
         for r in rows:
             low = r.text.lower()
             if broken:
-                low = re.sub(r"^[^\W\d_]+", " ", low)
+                low = _FIRST_WORD.sub(" ", low)
             broken = r.ends_soft or r.text.endswith("-")
-            self.hyphenated.update(re.findall(r"[^\W\d_]+(?:-[^\W\d_]+)+", low))
-            self.words.update(re.findall(r"[^\W\d_]+", re.sub(r"[^\W\d_]+-(?:\s|$)", " ", low)))
+            if "-" in low:  # both patterns need a hyphen
+                self.hyphenated.update(_HYPHENATED.findall(low))
+                low = _BROKEN_WORD.sub(" ", low)
+            self.words.update(_WORD.findall(low))
 
     # -- breaks and kinds
 
