@@ -71,16 +71,21 @@ def _scientific_sentences(doc: "Doc") -> "Doc":
     spaCy rescan the document each time, which is quadratic on a long block.
     """
     import numpy
-    from spacy.attrs import SENT_START
+    from spacy.attrs import LENGTH, ORTH, SENT_START
 
     n = len(doc)
     if n == 0:
         return doc
     starts = [-1] * n
     starts[0] = 1
+    # only a final mark or a two-character token ("B.") can end a sentence (_is_final): the others are passed
+    # over by their columns, without a Token object each
+    strings = doc.vocab.strings
+    finals = {strings[t] for t in _FINAL}
+    orth, length = (col.tolist() for col in doc.to_array([ORTH, LENGTH]).T)
     i = 0
     while i < n:
-        if _is_final(doc, i):
+        if (orth[i] in finals or length[i] == 2) and _is_final(doc, i):
             j = i + 1
             while j < n and (doc[j].text in _FINAL or doc[j].text in _CLOSERS):
                 j += 1
@@ -259,17 +264,20 @@ def sentences_of(document: Document, docs: Iterable["Doc"] | None = None) -> Ite
     if docs is None:
         docs = parse_blocks(b.text for b in document.blocks)
     for bi, (block, doc) in enumerate(zip(document.blocks, docs)):
+        # the block's text is the Doc's (spaCy's tokenizer keeps every character): a slice of it is the sentence's
+        # text, without the Token object per word that Span.text builds (a Doc made some other way: Span.text)
+        own = len(doc) > 0 and doc[-1].idx + len(doc[-1].text_with_ws) == len(block.text)
         for sent in doc.sents:
-            text = sent.text.strip()
-            if not text:
+            start, end = sent.start_char, sent.end_char
+            text = block.text[start:end] if own else sent.text
+            if not text.strip():
                 continue
-            start = sent.start_char
             yield (
                 Sentence(
-                    text=sent.text,
+                    text=text,
                     block=bi,
                     start=start,
-                    end=sent.end_char,
+                    end=end,
                     location=block.location_at(start),
                     role=block.role,
                     kind=block.kind,
