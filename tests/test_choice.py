@@ -96,3 +96,33 @@ def test_a_thesis_in_the_first_person_is_checked_as_a_paper():
             "I implemented both in a common framework and I trained them on the same folds.\n\n"
             "The data set is stored as compressed files in the usual file format of the scanner.")
     assert _choose(text) == "validation-study"
+
+
+def test_a_shared_task_page_is_a_benchmark_proposal():
+    # NLP and audio evaluation campaigns call their challenges shared tasks and subtasks, with runs and systems
+    page = """# Task overview
+
+The shared task has two subtasks on detecting irony in short posts. The training data contain 4,000 posts
+with labels, and the test data will be released in the spring.
+
+# Evaluation
+
+Participating systems are ranked by macro-averaged F1 on the test set. Groups may send three submitted runs;
+a baseline system is provided. The task organizers publish the official ranking after the evaluation window.
+"""
+    assert _choose(page) == "benchmark-proposal"
+
+
+def test_a_student_report_about_a_public_dataset_is_checked_as_a_paper():
+    # a report that talks about "the dataset" a lot is still a study that trains and compares models
+    report = """# Report
+
+In this project we compared three classifiers on the dataset of the Northvale weather archive. The dataset
+contains 12,000 daily records; the dataset was split by year. We trained a random forest and two baselines.
+
+# Results
+
+Our experiments show that the random forest had the lowest error. In this report we also discuss the dataset's
+missing values and our findings on the seasonal errors.
+"""
+    assert _choose(report) == "validation-study"
