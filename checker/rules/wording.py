@@ -33,10 +33,14 @@ _SPLIT_ALT = "|".join(f"(?:{a})" for a, _ in _SPLIT_NAMES)
 _SET = r"(?:set|split|cohort|subset|partition|data\s*set|data|sample|group|portion)s?"
 
 
+#: the split words compiled once (split_of runs for every split word of every list a document states)
+_SPLIT_PATTERNS = tuple((regex.compile(pattern, regex.IGNORECASE), name) for pattern, name in _SPLIT_NAMES)
+
+
 def split_of(word: str) -> str:
     w = " ".join(word.lower().split())
-    for pattern, name in _SPLIT_NAMES:
-        if regex.fullmatch(pattern, w, regex.IGNORECASE):
+    for rx, name in _SPLIT_PATTERNS:
+        if rx.fullmatch(w):
             return name
     return ""
 
