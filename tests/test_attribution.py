@@ -96,3 +96,12 @@ def test_details_left_to_another_document_make_the_item_partial_and_say_so():
     metrics = _item("Segmentations are scored with Dice and the Hausdorff distance at the 95th percentile, as "
                     "defined in the challenge paper.", "benchmark-proposal", "metrics.definition")
     assert metrics.status == "partial"
+
+
+def test_the_sentence_that_says_most_about_an_item_is_quoted_first():
+    # two sentences carry the same facet; the one with more of the item's cues is the one a reader wants first
+    text = ("Evaluation\n\nWe report the Dice coefficient.\n\n"
+            "Segmentations are compared with the Dice coefficient, the Jaccard index, the average symmetric surface "
+            "distance and the Hausdorff distance.")
+    item = _item(text, "validation-study", "metrics.definition")
+    assert item.evidence[0].text.startswith("Segmentations are compared")
