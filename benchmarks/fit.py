@@ -50,6 +50,7 @@ def _figures(rows_with_status, label_files_by_doc):
 
 
 def _report_needs(rows, by_doc, default, folder_of=None) -> None:
+    from checker.many.evaluation import three_class
     from checker.many.fitting import FOUND_AT, cross_validate_needs, fit_needs
 
     cv = _figures(cross_validate_needs(rows), by_doc)
@@ -66,9 +67,7 @@ def _report_needs(rows, by_doc, default, folder_of=None) -> None:
     changed = [(k, n) for k, n in fitted.items() if n != written[k]]
     print(f"\nneeds that differ from the written ones ({len(changed)}):" if changed else "\nno needs changed")
     def agrees(r, needs) -> bool:
-        def three(s):
-            return "missing" if s == "not-applicable" else s
-        return three(r.status_at(FOUND_AT, needs)) == three(r.human)
+        return three_class(r.status_at(FOUND_AT, needs)) == three_class(r.human)
 
     for (checklist, item), n in changed:
         print(f"  {checklist} {item}: {[list(a) for a in written[(checklist, item)]]} -> {[list(a) for a in n]}")

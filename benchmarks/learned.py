@@ -84,10 +84,6 @@ def _check(task):
     return {"document": document, "sentences": sentences, "items": items}
 
 
-def _three(status: str) -> str:
-    return "missing" if status == "not-applicable" else status
-
-
 def main(argv: list[str] | None = None) -> int:
     ap = argparse.ArgumentParser(description=__doc__.split("\n\n")[0])
     ap.add_argument("--dev", type=Path, default=ROOT.parent / "shared" / "eval" / "dev")
@@ -107,7 +103,7 @@ def main(argv: list[str] | None = None) -> int:
     except ImportError:
         print("learned: skipped, scikit-learn is not installed (pip install -e '.[test]')")
         return 0
-    from checker.many.evaluation import (Pair, binary_kappa, load_labels, macro_f1, quote_covers,
+    from checker.many.evaluation import (Pair, binary_kappa, load_labels, macro_f1, quote_covers, three_class,
                                          three_class_agreement)
 
     tasks, folder_of = [], {}
@@ -194,7 +190,7 @@ def main(argv: list[str] | None = None) -> int:
                 by_item[r["item"]].append(k)
         judges = {}
         for item_id, ks in by_item.items():
-            y = [_three(rows[k]["human"]) for k in ks]
+            y = [three_class(rows[k]["human"]) for k in ks]
             judges[item_id] = y[0] if len(set(y)) < 2 else LogisticRegression(max_iter=3000).fit([feats[k] for k in ks], y)
         for k, r in enumerate(rows):
             if fold[r["doc"]["document"]] == f:

@@ -331,6 +331,10 @@ def load_labels(labels_dir: str | Path, docs_dir: str | Path | None = None) -> l
 # ---------------------------------------------------------------------------------------------------- comparison
 
 
+def three_class(status: str) -> str:
+    """A status as the three-class figures count it: not-applicable is missing."""
+    return "missing" if status == "not-applicable" else status
+
 
 def quote_covers(quote: str, passages: Sequence[str]) -> bool:
     """Whether one of the passages covers a labelled quote: a fragment of the quote (fragments are joined by
@@ -372,11 +376,11 @@ class Pair:
 
     @property
     def human_three(self) -> str:
-        return "missing" if self.human == "not-applicable" else self.human
+        return three_class(self.human)
 
     @property
     def tool_three(self) -> str:
-        return "missing" if self.tool == "not-applicable" else self.tool
+        return three_class(self.tool)
 
     @property
     def kind(self) -> str:

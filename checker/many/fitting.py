@@ -13,6 +13,7 @@ from dataclasses import dataclass
 from typing import Iterable, Sequence
 
 from ..matching.matcher import FOUND_AT
+from .evaluation import three_class
 
 #: thresholds tried: between the weights a sentence can carry (1.0 methods, 0.9 results, 0.6 framing sections with
 #: "we", 0.5 a general statement in methods, 0.4 a plan, 0.36 a heading, 0.3 background in an introduction)
@@ -34,7 +35,7 @@ class ItemScores:
     #: the checklist the item belongs to (needs are chosen per checklist item)
     checklist: str = ""
     #: per facet, the best score among sentences that give the details here (see decide.FacetHits.complete);
-    #: empty when no facet of the item leaves details to another document
+    #: empty: the same as facet_scores
     complete_scores: tuple[tuple[str, float], ...] = ()
 
     def status_at(self, threshold: float, needs: tuple[tuple[str, ...], ...] | None = None) -> str:
@@ -69,15 +70,9 @@ def scores_of(document: str, checklist: str, labels: dict[str, str], limits=None
             human=labels[item.id],
             facet_scores=tuple((fh.facet.id, round(fh.score, 6)) for fh in per), needs=item.needs,
             inapplicable_when_empty=not applies(scan, ii, item),
-            complete_scores=(tuple((fh.facet.id, round(fh.score if fh.complete_score is None else fh.complete_score, 6))
-                                   for fh in per)
-                             if any(fh.complete_score is not None for fh in per) else ()),
+            complete_scores=tuple((fh.facet.id, round(fh.complete_score, 6)) for fh in per),
         ))
     return out
-
-
-def _three(status: str) -> str:
-    return "missing" if status == "not-applicable" else status
 
 
 def _gain(rows: Sequence[ItemScores], t: float, needs: tuple[tuple[str, ...], ...] | None = None) -> float:
@@ -86,8 +81,8 @@ def _gain(rows: Sequence[ItemScores], t: float, needs: tuple[tuple[str, ...], ..
     g = 0.0
     for r in rows:
         tool = r.status_at(t, needs)
-        g += _three(tool) == _three(r.human)
-        g += 0.5 * ((_three(tool) != "missing") == (_three(r.human) != "missing"))
+        g += three_class(tool) == three_class(r.human)
+        g += 0.5 * ((three_class(tool) != "missing") == (three_class(r.human) != "missing"))
         g += 0.25 * ((tool == "not-applicable") == (r.human == "not-applicable"))
     return g
 
