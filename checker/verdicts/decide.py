@@ -22,7 +22,7 @@ class FacetHits:
     threshold: float = FOUND_AT
     #: the best hit's score among sentences that give the details here rather than leave them to another
     #: document (equal to `score` unless the facet has `deferred: partial`)
-    complete_score: float | None = None
+    complete_score: float = 0.0
 
     @property
     def found(self) -> bool:
@@ -31,7 +31,7 @@ class FacetHits:
     @property
     def complete(self) -> bool:
         """Found in a sentence that gives the details itself: only such a facet can make an item reported."""
-        return (self.score if self.complete_score is None else self.complete_score) >= self.threshold
+        return self.complete_score >= self.threshold
 
 
 def facet_hits(scan: Scan, ii: int, fi: int, facet: Facet, threshold: float = FOUND_AT) -> FacetHits:
@@ -50,7 +50,7 @@ def facet_hits(scan: Scan, ii: int, fi: int, facet: Facet, threshold: float = FO
             continue
         valid.append(h)
     score = max((facet.weight * scan.weight(h.sentence) for h in valid), default=0.0)
-    complete = None
+    complete = score
     if facet.deferred_partial:
         complete = max((facet.weight * scan.weight(h.sentence) for h in valid if not scan.defers(h.sentence)),
                        default=0.0)
