@@ -50,3 +50,31 @@ def test_sigterm_to_a_multi_file_check_ends_it_like_ctrl_c(tmp_path):
     assert proc.returncode == 130
     assert "interrupted" in err and "Traceback" not in err
     assert not out.exists()
+
+
+@pytest.mark.skipif(not hasattr(os, "kill") or not hasattr(os, "killpg"), reason="signals need a POSIX system")
+def test_a_termination_that_a_finaliser_swallowed_still_ends_the_batch():
+    # Python ignores an exception raised while a __del__ runs ("Exception ignored in ..."): a SIGTERM that lands
+    # there must be delivered again, or a batch would run on after it was told to stop
+    import signal
+    import time
+
+    from checker.many.batch import Terminated, stop_on_terminate
+
+    class Finaliser:
+        def __del__(self):
+            os.kill(os.getpid(), signal.SIGTERM)
+            deadline = time.monotonic() + 0.2
+            while time.monotonic() < deadline:  # the handler runs here, inside the finaliser
+                pass
+
+    stopped = False
+    with stop_on_terminate():
+        try:
+            Finaliser()  # gone at once; its finaliser swallows the first Terminated
+            deadline = time.monotonic() + 5
+            while time.monotonic() < deadline:
+                time.sleep(0.01)
+        except Terminated:
+            stopped = True
+    assert stopped

@@ -8,6 +8,7 @@ from __future__ import annotations
 import gc
 import os
 import signal
+import sys
 import threading
 from contextlib import contextmanager
 from dataclasses import dataclass
@@ -54,8 +55,9 @@ class Terminated(KeyboardInterrupt):
 @contextmanager
 def stop_on_terminate() -> Iterator[None]:
     """Inside, SIGTERM raises Terminated (a KeyboardInterrupt) in the main thread instead of ending the process
-    on the spot, so that the clean-up of an interrupted batch runs. Elsewhere (another thread, no SIGTERM, a
-    SIGTERM that the caller ignores) it does nothing."""
+    on the spot, so that the clean-up of an interrupted batch runs. An interruption (SIGTERM or Ctrl-C) that a
+    finaliser swallowed is delivered again. Elsewhere (another thread, no SIGTERM, a SIGTERM that the caller
+    ignores) it does nothing."""
     if (not hasattr(signal, "SIGTERM") or threading.current_thread() is not threading.main_thread()
             or signal.getsignal(signal.SIGTERM) is signal.SIG_IGN):
         yield
@@ -64,11 +66,33 @@ def stop_on_terminate() -> Iterator[None]:
     def terminated(signum, frame):  # noqa: ARG001
         raise Terminated
 
+    previous_hook = sys.unraisablehook
+
+    def swallowed(unraisable) -> None:
+        # the signal came while a finaliser (__del__) ran, and Python ignores what a finaliser raises: send it
+        # again from a short-lived thread, so that the main thread takes it at a later step, outside the
+        # finaliser and this hook (should it land in one again, it comes back here)
+        if isinstance(unraisable.exc_value, KeyboardInterrupt):
+            again = signal.SIGTERM if isinstance(unraisable.exc_value, Terminated) else signal.SIGINT
+            threading.Thread(target=_send_later, args=(again,), daemon=True).start()
+            return
+        previous_hook(unraisable)
+
     previous = signal.signal(signal.SIGTERM, terminated)
+    sys.unraisablehook = swallowed
     try:
         yield
     finally:
+        sys.unraisablehook = previous_hook
         signal.signal(signal.SIGTERM, previous)
+
+
+def _send_later(signum: int) -> None:
+    """Send this process a signal a moment from now (long enough for the caller to have returned)."""
+    import time
+
+    time.sleep(0.05)
+    os.kill(os.getpid(), signum)
 
 
 def _die_with_parent(parent: int) -> None:
