@@ -5,7 +5,7 @@ import json
 import pytest
 
 from checker.matching.attribution import BACKGROUND, OTHER_WORK, PLAN, TEMPLATE, THIS_STUDY, attribute
-from checker.engine import check_text
+from checker.engine import check_document, check_text
 
 
 @pytest.mark.parametrize("text, role, kind", [
@@ -105,3 +105,22 @@ def test_the_sentence_that_says_most_about_an_item_is_quoted_first():
             "distance and the Hausdorff distance.")
     item = _item(text, "validation-study", "metrics.definition")
     assert item.evidence[0].text.startswith("Segmentations are compared")
+
+
+def test_evidence_under_a_heading_that_names_the_topic_is_quoted_first(tmp_path):
+    # the same facet in two methods sections: the one whose heading names the annotation is the one a reviewer
+    # wants to see first, though it comes later in the document
+    md = tmp_path / "draft.md"
+    md.write_text("# Methods\n\n## Model training\n\nThree radiologists reviewed the augmented training images.\n\n"
+                  "## Reference annotation\n\nTwo radiologists outlined every lesion.\n", encoding="utf-8")
+    report = check_document(md, "validation-study")
+    annotators = next(it for it in report.items if it.id == "reference.annotators")
+    assert annotators.evidence[0].text.startswith("Two radiologists outlined")
+    assert annotators.evidence[1].text.startswith("Three radiologists reviewed")
+    # the order only: the status comes from the facets, wherever they stand
+    moved = tmp_path / "moved.md"
+    moved.write_text(md.read_text(encoding="utf-8").replace("## Reference annotation", "## Further details"),
+                     encoding="utf-8")
+    plain = next(it for it in check_document(moved, "validation-study").items if it.id == "reference.annotators")
+    assert plain.evidence[0].text.startswith("Three radiologists reviewed")
+    assert plain.status == annotators.status

@@ -78,6 +78,26 @@ def test_concept_mistakes_are_located(item_yaml, message):
     assert message in text and "c.yaml:" in text
 
 
+def test_heading_words_come_from_the_concept_unless_the_item_gives_its_own():
+    lib = parse_concepts(LIB.replace("    needs: [[count]]\n", "    needs: [[count]]\n    headings: [animals, pets]\n"),
+                         "lib.yaml")
+    inherited = parse_checklist(_checklist("    concept: demo.pets\n"), "c.yaml", concepts=lib).items[0]
+    own = parse_checklist(_checklist("    concept: demo.pets\n    headings: [household]\n"), "c.yaml",
+                          concepts=lib).items[0]
+    assert inherited.headings == ("animals", "pets") and own.headings == ("household",)
+
+
+def test_a_heading_word_without_letters_is_located():
+    with pytest.raises(ChecklistError, match=r"c.yaml:\d+:\d+: item \"demo.pets\" -> headings: '42' is not a heading"):
+        parse_checklist(_checklist("    concept: demo.pets\n    headings: ['42']\n"), "c.yaml",
+                        concepts=parse_concepts(LIB, "lib.yaml"))
+
+
+def test_every_shared_concept_names_its_topic_for_headings():
+    concepts = builtin_concepts()
+    assert all(concepts[cid].headings for cid in SHARED)
+
+
 def test_a_bad_vocabulary_name_is_located():
     with pytest.raises(ChecklistError, match=r"lib.yaml:4:\d+: vocabulary -> pets: a word list's name"):
         parse_concepts(LIB.replace("PET:", "pets:"), "lib.yaml")

@@ -86,6 +86,9 @@ class Item:
     examples_missing: tuple[str, ...] = ()
     #: the concept of the library the item's facets come from ("" for an item with facets of its own)
     concept: str = ""
+    #: words a section heading uses for the item's topic ("Annotation", "Ground truth"): evidence under such a
+    #: heading is quoted first among sentences that carry the same facets (the order only, never the status)
+    headings: tuple[str, ...] = ()
 
 
 @dataclass(frozen=True)
@@ -97,6 +100,7 @@ class Concept:
     facets: tuple[Facet, ...]
     needs: tuple[tuple[str, ...], ...]
     applies_when: AppliesWhen | None = None
+    headings: tuple[str, ...] = ()
 
 
 @dataclass(frozen=True)
@@ -350,6 +354,17 @@ def _facets(p: Problems, fields: dict[str, Node], path: str) -> list[Facet]:
     return facets
 
 
+def _headings(p: Problems, fields: dict[str, Node], path: str) -> tuple[str, ...]:
+    """The words of `headings:`, each checked to make a usable cue (letters, at most five words)."""
+    node = fields.get("headings")
+    words = texts_of(p, node, join_path(path, "headings"))
+    for w in words:
+        if not re.search(r"[^\W\d_]", w) or len(w.split()) > 5:
+            p.add(node, join_path(path, "headings"),
+                  f"{w!r} is not a heading word: write the words a section title uses, such as 'annotation'")
+    return tuple(dict.fromkeys(w.strip() for w in words))
+
+
 def _applies(p: Problems, fields: dict[str, Node], path: str) -> AppliesWhen | None:
     if "applies_when" not in fields:
         return None
@@ -366,7 +381,7 @@ def _item(p: Problems, node: Node, path: str, groups: set[str],
     fields = fields_of(
         p, node, path,
         {"id", "group", "title", "question", "why", "ask"} | (set() if has_concept else {"facets"}),
-        {"sources", "needs", "applies_when", "examples", "concept", "facets", "uses"},
+        {"sources", "needs", "applies_when", "examples", "concept", "facets", "uses", "headings"},
     )
     if not fields:
         return None
@@ -405,10 +420,12 @@ def _item(p: Problems, node: Node, path: str, groups: set[str],
         else:  # the concept's alternatives that the chosen facets can meet
             needs = tuple(n for n in concept.needs if set(n) <= ids) or (tuple(sorted(ids)),)
         applies = _applies(p, fields, path) if "applies_when" in fields else concept.applies_when
+        headings = _headings(p, fields, path) if "headings" in fields else concept.headings
     else:
         facets = _facets(p, fields, path)
         needs = _needs(p, fields.get("needs"), join_path(path, "needs"), [f.id for f in facets])
         applies = _applies(p, fields, path)
+        headings = _headings(p, fields, path)
     ex_rep: tuple[str, ...] = ()
     ex_mis: tuple[str, ...] = ()
     if "examples" in fields:
@@ -429,6 +446,7 @@ def _item(p: Problems, node: Node, path: str, groups: set[str],
         examples_reported=ex_rep,
         examples_missing=ex_mis,
         concept=concept.id if concept is not None else "",
+        headings=headings,
     )
 
 
@@ -476,7 +494,7 @@ def parse_concepts(text: str, file: str, *, compile_regexes: bool = True) -> dic
             if isinstance(cnode.value, dict) and isinstance(cnode.value.get("id", (None, Node(None, 0, 0)))[1].value,
                                                             str):
                 path = f'concept "{cnode.value["id"][1].value.strip()}"'
-            fields = fields_of(p, cnode, path, {"id", "facets"}, {"needs", "applies_when", "note"})
+            fields = fields_of(p, cnode, path, {"id", "facets"}, {"needs", "applies_when", "note", "headings"})
             if not fields:
                 continue
             cid = text_of(p, fields.get("id"), join_path(path, "id"))
@@ -486,7 +504,7 @@ def parse_concepts(text: str, file: str, *, compile_regexes: bool = True) -> dic
                 p.add(fields["id"], join_path(path, "id"), f"duplicate concept id {cid!r}")
             facets = _facets(p, fields, path)
             needs = _needs(p, fields.get("needs"), join_path(path, "needs"), [f.id for f in facets])
-            out[cid] = Concept(cid, tuple(facets), needs, _applies(p, fields, path))
+            out[cid] = Concept(cid, tuple(facets), needs, _applies(p, fields, path), _headings(p, fields, path))
     if p.items:
         raise ChecklistError(p.lines())
     return out

@@ -2,7 +2,10 @@
 
 from __future__ import annotations
 
+import re
+from collections.abc import Callable
 from dataclasses import dataclass
+from functools import lru_cache
 
 from ..matching.checklist import Facet, Item
 from ..matching.matcher import APPLIES, CUE, FOUND_AT, NEAR, UNLESS, CompiledChecklist, Hit, Scan, key
@@ -11,6 +14,9 @@ from .report import Evidence, FacetResult, ItemResult
 
 MAX_EVIDENCE = 3
 MAX_FACTS_PER_NAME = 5
+#: how much more a sentence counts, when ordering the evidence, if a heading above it names the item's topic
+#: (the item's `headings:`): a writer who gives a section to the annotation puts the annotation there
+HEADING_ORDER_FACTOR = 1.5
 
 
 @dataclass(frozen=True)
@@ -67,6 +73,29 @@ def is_near(scan: Scan, s: int, others: set[int], within: int) -> bool:
     return False
 
 
+@lru_cache(maxsize=512)
+def _heading_cue(words: tuple[str, ...]) -> re.Pattern | None:
+    """One case-insensitive regex for an item's heading words, each also in its plural."""
+    if not words:
+        return None
+    alts = sorted({re.escape(w.lower()).replace(r"\ ", r"[\s_-]+") for w in words}, key=lambda a: (-len(a), a))
+    return re.compile(r"\b(?:" + "|".join(alts) + r")(?:s|es)?\b", re.IGNORECASE)
+
+
+def under_topic_heading(scan: Scan, item: Item) -> Callable[[int], bool]:
+    """Whether a heading of a sentence's section names the item's topic (its `headings:`), by sentence index."""
+    cue = _heading_cue(item.headings)
+    known: dict[tuple[str, ...], bool] = {}
+
+    def topical(si: int) -> bool:
+        section = scan.sections[si]
+        if section not in known:
+            known[section] = cue is not None and any(cue.search(h) for h in section)
+        return known[section]
+
+    return topical
+
+
 def evaluate_item(compiled: CompiledChecklist, scan: Scan, ii: int, item: Item, waivers: dict[str, str]) -> ItemResult:
     from ..matching.facts import parse_value
     from .fitted import threshold
@@ -80,16 +109,19 @@ def evaluate_item(compiled: CompiledChecklist, scan: Scan, ii: int, item: Item, 
         for fh in per_facet
     )
 
-    # evidence: sentences ranked by how many facets they carry, weighted by where they stand; among equals, the one
-    # with more distinct words matched says more about the item (a word said twice counts once)
+    # evidence: sentences ranked by how many facets they carry, weighted by where they stand and by whether a heading
+    # above them names the item's topic; among equals, the one with more distinct words matched says more about
+    # the item (a word said twice counts once)
     by_sentence: dict[int, dict[str, list[Hit]]] = {}
     for fh in per_facet:
         for h in fh.hits:
             by_sentence.setdefault(h.sentence, {}).setdefault(fh.facet.id, []).append(h)
     weights = {fh.facet.id: fh.facet.weight for fh in per_facet}
+    topical = under_topic_heading(scan, item)
     ranked = sorted(
         by_sentence.items(),
-        key=lambda kv: (-sum(weights[f] for f in kv[1]) * scan.weight(kv[0]),
+        key=lambda kv: (-sum(weights[f] for f in kv[1]) * scan.weight(kv[0])
+                        * (HEADING_ORDER_FACTOR if topical(kv[0]) else 1.0),
                         -len({scan.sentences[kv[0]].text[h.start:h.end].lower() for hs in kv[1].values() for h in hs}),
                         kv[0]),
     )
