@@ -132,3 +132,30 @@ def test_an_item_applies_only_when_text_that_counts_mentions_it():
                         "We ranked three baseline methods by their mean Dice on the test split.")
     report = check_text(text, "dataset-description")
     assert next(i for i in report.items if i.id == "ranking.method").status != "not-applicable"
+
+
+def _status(text, item_id, checklist="validation-study"):
+    return next(i for i in check_text("Methods\n\n" + text, checklist).items if i.id == item_id).status
+
+
+def test_a_metric_with_nothing_to_choose_is_reported_by_its_name_alone():
+    # an error or a correlation has no threshold, tolerance or averaging to state; a sensitivity does
+    assert _status("Forecasts are compared by their root mean square error.", "metrics.definition") == "reported"
+    assert _status("We report accuracy, sensitivity and specificity.", "metrics.definition") == "partial"
+    assert _status("Segmentations are compared with the Dice coefficient.", "metrics.definition") == "partial"
+    # a plain metric completes the item only when no metric of the document leaves something to choose
+    both = "We report the overall accuracy.\n\nSecondary metrics were the F1 score of each class."
+    assert _status(both, "metrics.definition") == "partial"
+
+
+def test_only_without_must_name_another_facet_of_the_item():
+    bad = LIB.replace("        phrases: [pets]\n", "        phrases: [pets]\n        only_without: [colour]\n")
+    with pytest.raises(ChecklistError, match=r"only_without: names facet 'colour', which is not another facet"):
+        parse_concepts(bad, "lib.yaml")
+
+
+def test_a_reference_computed_by_a_stated_method_says_how_it_was_made_unless_people_drew_it():
+    derived = "Hourly flow observations from the national gauge network serve as the ground truth."
+    drawn = "Contours drawn by two radiologists served as the ground truth."
+    assert _status(derived, "reference.protocol") == "reported"
+    assert _status(drawn, "reference.protocol") != "reported"

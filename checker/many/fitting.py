@@ -37,6 +37,8 @@ class ItemScores:
     #: per facet, the best score among sentences that give the details here (see decide.FacetHits.complete);
     #: empty: the same as facet_scores
     complete_scores: tuple[tuple[str, float], ...] = ()
+    #: facets that complete the item only when none of their `only_without` facets is found (decide.decide)
+    only_without: tuple[tuple[str, tuple[str, ...]], ...] = ()
 
     def status_at(self, threshold: float, needs: tuple[tuple[str, ...], ...] | None = None) -> str:
         """The status the verdicts give at this threshold (and with these `needs` instead of the item's)."""
@@ -44,7 +46,8 @@ class ItemScores:
 
         return decide({f for f, s in self.facet_scores if s >= threshold},
                       self.needs if needs is None else needs, self.inapplicable_when_empty,
-                      {f for f, s in self.complete_scores or self.facet_scores if s >= threshold})
+                      {f for f, s in self.complete_scores or self.facet_scores if s >= threshold},
+                      self.only_without)
 
 
 def scores_of(document: str, checklist: str, labels: dict[str, str], limits=None) -> list[ItemScores]:
@@ -53,7 +56,7 @@ def scores_of(document: str, checklist: str, labels: dict[str, str], limits=None
     from ..core.limits import DEFAULT_LIMITS
     from ..matching.nlp import parse_blocks
     from ..reading import read_document
-    from ..verdicts.decide import applies, facet_hits
+    from ..verdicts.decide import applies, facet_hits, only_without_of
 
     limits = limits or DEFAULT_LIMITS
     doc = read_document(document, limits)
@@ -71,6 +74,7 @@ def scores_of(document: str, checklist: str, labels: dict[str, str], limits=None
             facet_scores=tuple((fh.facet.id, round(fh.score, 6)) for fh in per), needs=item.needs,
             inapplicable_when_empty=not applies(scan, ii, item),
             complete_scores=tuple((fh.facet.id, round(fh.complete_score, 6)) for fh in per),
+            only_without=only_without_of(item),
         ))
     return out
 

@@ -61,6 +61,10 @@ class Facet:
     #: `deferred: partial`: a sentence that leaves the details to another document ("following the protocol
     #: described in [12]", "defined in the challenge paper", "available here") finds this facet only for partial
     deferred_partial: bool = False
+    #: `only_without: [ids]`: the facet makes the item reported only in a document where none of these facets is
+    #: found ("accuracy" alone needs no parameters; beside an F1 score whose averaging is not said, it does not
+    #: complete the item); otherwise it counts as found, for partial
+    only_without: tuple[str, ...] = ()
 
 
 @dataclass(frozen=True)
@@ -267,7 +271,8 @@ def cue_block(p: Problems, node: Node, path: str, extra: set[str] = frozenset())
 
 
 def _facet(p: Problems, node: Node, path: str) -> Facet | None:
-    fields = fields_of(p, node, path, {"id"}, {"title", "near", "unless", "weight", "deferred"} | _CUE_KEYS)
+    fields = fields_of(p, node, path, {"id"},
+                       {"title", "near", "unless", "weight", "deferred", "only_without"} | _CUE_KEYS)
     if not fields and not isinstance(node.value, dict):
         return None
     fid = text_of(p, fields.get("id"), join_path(path, "id"))
@@ -300,8 +305,9 @@ def _facet(p: Problems, node: Node, path: str) -> Facet | None:
             p.add(fields["deferred"], join_path(path, "deferred"),
                   "the only value is 'partial' (details left to another document make the facet partial)")
         deferred_partial = value == "partial"
+    only_without = texts_of(p, fields.get("only_without"), join_path(path, "only_without"))
     title = text_of(p, fields.get("title"), join_path(path, "title"), required=False) or fid
-    return Facet(fid, title, cues, near, unless, weight, deferred_partial)
+    return Facet(fid, title, cues, near, unless, weight, deferred_partial, only_without)
 
 
 def _needs(p: Problems, node: Node | None, path: str, facet_ids: list[str]) -> tuple[tuple[str, ...], ...]:
@@ -343,14 +349,24 @@ def _facets(p: Problems, fields: dict[str, Node], path: str) -> list[Facet]:
         if not fields["facets"].value:
             p.add(fields["facets"], join_path(path, "facets"), "an item needs at least one facet")
         seen: set[str] = set()
+        placed: list[tuple[int, Node, Facet]] = []
         for i, fnode in enumerate(fields["facets"].value):
             f = _facet(p, fnode, f"{join_path(path, 'facets')}[{i}]")
             if f is None:
                 continue
+            placed.append((i, fnode, f))
             if f.id in seen:
                 p.add(fnode, f"{join_path(path, 'facets')}[{i}] -> id", f"duplicate facet id {f.id!r}")
             seen.add(f.id)
             facets.append(f)
+        ids = [f.id for f in facets]
+        for i, fnode, f in placed:
+            for other in f.only_without:
+                if other not in ids or other == f.id:
+                    hint = closest(other, set(ids) - {f.id})
+                    p.add(fnode, f"{join_path(path, 'facets')}[{i}] -> only_without",
+                          f"names facet {other!r}, which is not another facet here"
+                          + (f" (did you mean {hint!r}?)" if hint else ""))
     return facets
 
 

@@ -184,15 +184,29 @@ def applies(scan: Scan, ii: int, item: Item) -> bool:
 
 
 def decide(found: set[str], needs: tuple[tuple[str, ...], ...], inapplicable: bool,
-           complete: set[str] | None = None) -> str:
+           complete: set[str] | None = None, only_without: tuple[tuple[str, tuple[str, ...]], ...] = ()) -> str:
     """The status from the facets found: reported when every facet of one `needs` set is found (and `complete`:
-    found in a sentence that gives the details itself, not only leaves them to another document), partial when
-    some facet is found, else not-applicable (the item's `applies_when` found nothing) or missing. The one rule
-    that both the verdicts and the threshold fitting (fitting.py) use."""
+    found in a sentence that gives the details itself, not only leaves them to another document; and not a
+    facet whose `only_without` facets are found), partial when some facet is found, else not-applicable (the
+    item's `applies_when` found nothing) or missing. The one rule that both the verdicts and the threshold
+    fitting (fitting.py) use."""
     if not found:
         return "not-applicable" if inapplicable else "missing"
+    return "reported" if any(set(n) <= completed(found, complete, only_without) for n in needs) else "partial"
+
+
+def completed(found: set[str], complete: set[str] | None,
+              only_without: tuple[tuple[str, tuple[str, ...]], ...] = ()) -> set[str]:
+    """The facets found that can complete a `needs` set: found in a sentence that gives the details itself, and
+    not held back by a facet of their `only_without` that is found too."""
     done = found if complete is None else found & complete
-    return "reported" if any(set(n) <= done for n in needs) else "partial"
+    return done - {f for f, blockers in only_without if found & set(blockers)}
+
+
+def only_without_of(item: Item) -> tuple[tuple[str, tuple[str, ...]], ...]:
+    """The item's facets that complete it only when certain other facets are not found, with those facets."""
+    ids = {f.id for f in item.facets}
+    return tuple((f.id, tuple(b for b in f.only_without if b in ids)) for f in item.facets if f.only_without)
 
 
 def _status(compiled, scan, ii, item, per_facet, found, complete, waivers) -> tuple[str, str, tuple[str, ...]]:
@@ -201,7 +215,8 @@ def _status(compiled, scan, ii, item, per_facet, found, complete, waivers) -> tu
     if item.id in waivers:
         return "waived", f"waived in the configuration: {waivers[item.id]}", ()
     inapplicable = not applies(scan, ii, item)
-    status = decide(found, item.needs, inapplicable, complete)
+    held_back = only_without_of(item)
+    status = decide(found, item.needs, inapplicable, complete, held_back)
     if status == "not-applicable":
         return status, f"not applicable: {item.applies_when.reason}", ()
     titles = {fh.facet.id: fh.facet.title for fh in per_facet}
@@ -210,9 +225,10 @@ def _status(compiled, scan, ii, item, per_facet, found, complete, waivers) -> tu
     if found:
         # name what a best alternative still lacks; a facet whose details are only referred to elsewhere lacks
         # them here
-        done = found & complete
+        done = completed(found, complete, held_back)
         best = min(item.needs, key=lambda n: (len(set(n) - done), item.needs.index(n)))
-        lacking = tuple(titles[f] + (" (only referred to another document)" if f in found else "")
+        deferred = {fh.facet.id for fh in per_facet if fh.facet.deferred_partial}
+        lacking = tuple(titles[f] + (" (only referred to another document)" if f in found and f in deferred else "")
                         for f in best if f not in done)
         return "partial", ("found: " + "; ".join(titles[f] for f in titles if f in found)
                            + " — not found: " + "; ".join(lacking)), lacking
