@@ -158,12 +158,46 @@ def check_document(
             return hit
     # the reader reads the file itself (again): a file changed since `seen` gives a report that is not kept
     reader = read_document if data is None else functools.partial(read_document, data=data)
-    with time_limit(path, limits.seconds):
-        report = _check(path, checklist, config, limits, reader, parse_blocks)
+    ahead = _read_ahead(path, limits) if data is None else None
+    try:
+        with time_limit(path, limits.seconds):
+            report = _check(path, checklist, config, limits, ahead or reader, parse_blocks)
+    finally:
+        if ahead is not None:
+            ahead.close()
     regexcache.save()  # here too, as batch workers end without running exit handlers
     if k is not None and report.sha256 == hashlib.sha256(seen).hexdigest():  # not changed while being read
         resultcache.put(k, report)
     return report
+
+
+class _ReadAhead:
+    """The reader of a process's first check: the file is read in a child process (checker.reading.ahead) while
+    this one imports spaCy and builds the pipeline, the two slowest parts of a first check."""
+
+    def __init__(self, ahead) -> None:
+        self.ahead = ahead
+
+    def __call__(self, path, limits) -> Document:
+        from .matching.nlp import pipeline
+
+        return self.ahead.read(meanwhile=pipeline)
+
+    def close(self) -> None:
+        self.ahead.close()
+
+
+def _read_ahead(path, limits: Limits) -> _ReadAhead | None:
+    """A reader that overlaps reading with spaCy's start-up, or None once the pipeline is built (a later document
+    of a run, a batch worker) or where a child process cannot read it (see checker.reading.ahead)."""
+    from .matching.nlp import pipeline
+
+    if pipeline.cache_info().currsize:
+        return None
+    from .reading.ahead import start
+
+    ahead = start(path, limits)
+    return _ReadAhead(ahead) if ahead is not None else None
 
 
 def check_together(
