@@ -141,3 +141,21 @@ def test_the_report_is_the_same_with_and_without_reading_ahead(tmp_path, name):
         outs[switch] = out.read_bytes()
     assert outs["on"] == outs["off"]
     assert json.loads(outs["on"])["items"]
+
+
+def test_a_failing_spacy_import_reports_the_same_with_and_without_reading_ahead(tmp_path):
+    # a stand-in spaCy package that cannot be imported, ahead of the real one on the path
+    (tmp_path / "broken" / "spacy").mkdir(parents=True)
+    (tmp_path / "broken" / "spacy" / "__init__.py").write_text('raise ImportError("spaCy is broken here")\n')
+    runs = {}
+    for switch in ("on", "off"):
+        env = {**os.environ, "PYTHONPATH": f"{tmp_path / 'broken'}{os.pathsep}{ROOT}", "NO_COLOR": "1",
+               "STUDYGAP_CACHE_DIR": str(tmp_path / "cache"), "STUDYGAP_READ_AHEAD": switch}
+        proc = subprocess.run([sys.executable, "-m", "checker.cli", "check",
+                               str(DEMO / "kidney-stone-benchmark-proposal.md"), "-f", "json", "-o",
+                               str(tmp_path / "out.json")], capture_output=True, text=True, env=env, timeout=300)
+        runs[switch] = (proc.returncode, proc.stderr)
+    assert runs["on"] == runs["off"]
+    code, stderr = runs["on"]
+    assert code == 4 and "ImportError: spaCy is broken here" in stderr and len(stderr.splitlines()) == 1
+    assert not (tmp_path / "out.json").exists()
