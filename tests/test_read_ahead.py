@@ -10,6 +10,7 @@ import os
 import subprocess
 import sys
 import textwrap
+import time
 from pathlib import Path
 
 import pytest
@@ -159,3 +160,43 @@ def test_a_failing_spacy_import_reports_the_same_with_and_without_reading_ahead(
     code, stderr = runs["on"]
     assert code == 4 and "ImportError: spaCy is broken here" in stderr and len(stderr.splitlines()) == 1
     assert not (tmp_path / "out.json").exists()
+
+
+def _alive(pid: int) -> bool:
+    """Whether a process runs (a zombie waiting to be reaped by whoever inherited it counts as gone)."""
+    try:
+        return Path(f"/proc/{pid}/stat").read_text().rsplit(")", 1)[1].split()[0] != "Z"
+    except OSError:
+        return False
+
+
+def test_a_killed_check_takes_its_reading_child_with_it(tmp_path):
+    (tmp_path / "slow.md").write_text("# Methods\n\nOne fictional reader.\n", encoding="utf-8")
+    code = textwrap.dedent(f"""
+        import time
+        import checker.reading
+        from checker.core.limits import DEFAULT_LIMITS
+        from checker.reading.ahead import start
+
+        def slow_read(path, limits):  # a read that takes minutes (the child inherits it)
+            time.sleep(120)
+        checker.reading.read_document = slow_read
+        ahead = start({str(tmp_path / "slow.md")!r}, DEFAULT_LIMITS)
+        print(ahead.pid, flush=True)
+        time.sleep(120)
+    """)
+    env = {**os.environ, "PYTHONPATH": str(ROOT), "STUDYGAP_CACHE_DIR": str(tmp_path / "cache")}
+    proc = subprocess.Popen([sys.executable, "-c", code], stdout=subprocess.PIPE, text=True, env=env)
+    try:
+        child = int(proc.stdout.readline())
+        assert _alive(child)  # still reading
+        proc.kill()  # SIGKILL: no clean-up runs in the parent
+        proc.wait(timeout=30)
+        deadline = time.monotonic() + 20
+        while _alive(child) and time.monotonic() < deadline:
+            time.sleep(0.05)
+        assert not _alive(child), "the reading child outlived its killed parent"
+    finally:
+        if proc.poll() is None:
+            proc.kill()
+            proc.wait()

@@ -17,7 +17,7 @@ from typing import Any, Callable, Iterator, Sequence
 
 from ..core.config import Config
 from ..core.errors import StudygapError, UsageError
-from ..core.limits import DEFAULT_LIMITS, Limits
+from ..core.limits import DEFAULT_LIMITS, Limits, die_with_parent
 from ..verdicts.report import Report
 
 ENGINES = ("local", "dask")
@@ -95,27 +95,13 @@ def _send_later(signum: int) -> None:
     os.kill(os.getpid(), signum)
 
 
-def _die_with_parent(parent: int) -> None:
-    """Linux: this worker gets SIGKILL when its parent dies, even by SIGKILL, so no worker outlives a killed run."""
-    try:
-        import ctypes
-
-        libc = ctypes.CDLL(None, use_errno=True)
-        pr_set_pdeathsig = 1
-        libc.prctl(pr_set_pdeathsig, int(signal.SIGKILL), 0, 0, 0)
-    except (OSError, AttributeError, ValueError):  # not Linux: the parent's clean-up still ends its workers
-        return
-    if os.getppid() != parent:  # the parent died before the request was made
-        os._exit(1)
-
-
 def _start_worker(checklist: str, parent: int) -> None:
     """A pool worker: Ctrl-C at a terminal reaches the whole process group, but only the parent decides (it
     ends the workers), so workers ignore SIGINT and print no tracebacks; SIGTERM ends a worker at once (a
     forked worker would otherwise inherit the parent's handler)."""
     signal.signal(signal.SIGINT, signal.SIG_IGN)
     signal.signal(signal.SIGTERM, signal.SIG_DFL)
-    _die_with_parent(parent)
+    die_with_parent(parent)
     warm(checklist)
 
 

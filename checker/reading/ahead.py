@@ -24,7 +24,7 @@ import threading
 from collections.abc import Callable
 from pathlib import Path
 
-from ..core.limits import Limits
+from ..core.limits import Limits, die_with_parent
 from .document import Document
 
 _OFF = ("off", "0", "no", "false", "none")
@@ -123,6 +123,7 @@ def start(path: str | Path, limits: Limits) -> ReadAhead | None:
         sys.stderr.flush()
     except (OSError, ValueError):
         pass
+    parent = os.getpid()
     try:
         pid = os.fork()
     except OSError:
@@ -130,17 +131,18 @@ def start(path: str | Path, limits: Limits) -> ReadAhead | None:
         os.close(w)
         return None
     if pid == 0:  # pragma: no cover - the child; its coverage is never written (it ends with os._exit)
-        _child(r, w, path, limits)
+        _child(r, w, path, limits, parent)
     os.close(w)
     return ReadAhead(pid, r, path, limits)
 
 
-def _child(r: int, w: int, path: str | Path, limits: Limits) -> None:  # pragma: no cover - runs in the child
+def _child(r: int, w: int, path: str | Path, limits: Limits, parent: int) -> None:  # pragma: no cover - child
     """Read the file, send the pickled Document, end without Python's exit handlers (they belong to the parent:
-    the caches it saves, the output it flushes)."""
+    the caches it saves, the output it flushes). A killed parent takes the child with it."""
     code = 1
     try:
         os.close(r)
+        die_with_parent(parent)
         # Ctrl-C reaches the whole process group: the parent reports it, the child just ends
         signal.signal(signal.SIGINT, signal.SIG_DFL)
         from . import read_document
