@@ -85,14 +85,17 @@ def test_a_file_the_child_cannot_read_gives_the_ordinary_error(tmp_path):
 
 
 def test_an_interrupted_check_leaves_no_reading_child(tmp_path):
-    big = tmp_path / "big.md"
-    big.write_text("# Methods\n\n" + "Readers annotated the scans again and again. " * 400_000, encoding="utf-8")
+    (tmp_path / "slow.md").write_text("# Methods\n\nOne fictional reader.\n", encoding="utf-8")
     proc = _python(f"""
-        import os
+        import os, time
+        import checker.reading
         from checker.core.limits import DEFAULT_LIMITS
         from checker.reading.ahead import start
 
-        ahead = start({str(big)!r}, DEFAULT_LIMITS)
+        def slow_read(path, limits):  # a read that takes minutes (the child inherits it)
+            time.sleep(120)
+        checker.reading.read_document = slow_read
+        ahead = start({str(tmp_path / "slow.md")!r}, DEFAULT_LIMITS)
         pid = ahead.pid
         def stopped():
             raise KeyboardInterrupt
@@ -109,13 +112,16 @@ def test_an_interrupted_check_leaves_no_reading_child(tmp_path):
     assert "child gone" in proc.stdout
 
 
-def test_no_child_when_turned_off_when_a_thread_runs_or_for_what_is_not_a_file(tmp_path):
+def test_no_child_when_turned_off_when_a_thread_runs_or_for_a_long_document_or_what_is_not_a_file(tmp_path):
     proc = _python(f"""
         import os, threading
         from checker.core.limits import DEFAULT_LIMITS
         from checker.reading.ahead import start
         path = {str(DEMO / "kidney-stone-benchmark-proposal.md")!r}
         print("folder", start({str(tmp_path)!r}, DEFAULT_LIMITS))
+        with open("long.md", "w") as fh:  # a long document: sending it back would cost more than it saves
+            fh.write("Readers annotated the scans. " * 20_000)
+        print("long", start("long.md", DEFAULT_LIMITS))
         os.environ["STUDYGAP_READ_AHEAD"] = "off"
         print("off", start(path, DEFAULT_LIMITS))
         del os.environ["STUDYGAP_READ_AHEAD"]
@@ -126,7 +132,7 @@ def test_no_child_when_turned_off_when_a_thread_runs_or_for_what_is_not_a_file(t
         stop.set(); t.join()
     """, tmp_path)
     assert proc.returncode == 0, proc.stderr
-    assert proc.stdout.split("\n")[:3] == ["folder None", "off None", "thread None"], proc.stdout
+    assert proc.stdout.split("\n")[:4] == ["folder None", "long None", "off None", "thread None"], proc.stdout
 
 
 @pytest.mark.parametrize("name", ["wrist-fracture-manuscript.pdf", "kidney-stone-benchmark-proposal.docx"])

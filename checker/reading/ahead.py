@@ -10,7 +10,8 @@ imports spaCy, and sends the Document back pickled through a pipe.
 Whatever goes wrong in the child (the file cannot be read, the child dies or is killed, what it sends is not a
 Document), the caller reads the file itself, so the result and every error message are those of an ordinary read.
 Only on Linux, from the main thread while no other thread runs (forking a process with threads can copy a lock
-that is held), for a regular file within --max-bytes. ``STUDYGAP_READ_AHEAD=off`` turns it off.
+that is held), for a regular file of at most MAX_BYTES (and --max-bytes). ``STUDYGAP_READ_AHEAD=off`` turns it
+off.
 """
 
 from __future__ import annotations
@@ -28,6 +29,11 @@ from ..core.limits import Limits, die_with_parent
 from .document import Document
 
 _OFF = ("off", "0", "no", "false", "none")
+#: files larger than this are read in the calling process: reading ahead saves at most the start-up it overlaps
+#: (about a second), while sending the Document back costs a tenth of the reading time or so; a 300-page PDF
+#: (1.5 MB) was read ahead about as fast as here on an idle core and seconds slower on a busy machine, a 30-page
+#: one (150 KB) half a second faster
+MAX_BYTES = 512 * 1024
 
 
 class ReadAhead:
@@ -112,8 +118,8 @@ def start(path: str | Path, limits: Limits) -> ReadAhead | None:
         st = os.stat(path)
     except (OSError, ValueError):
         return None
-    if not stat.S_ISREG(st.st_mode) or st.st_size > limits.max_bytes:
-        return None  # the ordinary read gives the error (a folder, a pipe, a file too large)
+    if not stat.S_ISREG(st.st_mode) or st.st_size > min(limits.max_bytes, MAX_BYTES):
+        return None  # the ordinary read: its error (a folder, a pipe, a file too large), or a long document
     try:
         r, w = os.pipe()
     except OSError:
