@@ -6,6 +6,7 @@ import dataclasses
 import os
 from functools import lru_cache
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 from rapidfuzz import fuzz
 
@@ -17,6 +18,9 @@ from .core.limits import DEFAULT_LIMITS, Limits
 from .matching.matcher import CompiledChecklist
 from .verdicts.report import Report
 from .verdicts.decide import evaluate
+
+if TYPE_CHECKING:
+    from .reading.ahead import ReadAhead
 
 AUTO = "auto"
 
@@ -157,11 +161,16 @@ def check_document(
         if hit is not None:
             return hit
     # the reader reads the file itself (again): a file changed since `seen` gives a report that is not kept
-    reader = read_document if data is None else functools.partial(read_document, data=data)
     ahead = _read_ahead(path, limits) if data is None else None
+    if data is not None:
+        reader = functools.partial(read_document, data=data)
+    elif ahead is not None:
+        reader = functools.partial(_read_from_child, ahead)
+    else:
+        reader = read_document
     try:
         with time_limit(path, limits.seconds):
-            report = _check(path, checklist, config, limits, ahead or reader, parse_blocks)
+            report = _check(path, checklist, config, limits, reader, parse_blocks)
     finally:
         if ahead is not None:
             ahead.close()
@@ -171,33 +180,24 @@ def check_document(
     return report
 
 
-class _ReadAhead:
-    """The reader of a process's first check: the file is read in a child process (checker.reading.ahead) while
-    this one imports spaCy and builds the pipeline, the two slowest parts of a first check."""
+def _read_from_child(ahead: ReadAhead, path, limits) -> Document:  # noqa: ARG001 - a reader's signature
+    """The document the child read, while this process imports spaCy and builds the pipeline meanwhile."""
+    from .matching.nlp import pipeline
 
-    def __init__(self, ahead) -> None:
-        self.ahead = ahead
-
-    def __call__(self, path, limits) -> Document:
-        from .matching.nlp import pipeline
-
-        return self.ahead.read(meanwhile=pipeline)
-
-    def close(self) -> None:
-        self.ahead.close()
+    return ahead.read(meanwhile=pipeline)
 
 
-def _read_ahead(path, limits: Limits) -> _ReadAhead | None:
-    """A reader that overlaps reading with spaCy's start-up, or None once the pipeline is built (a later document
-    of a run, a batch worker) or where a child process cannot read it (see checker.reading.ahead)."""
+def _read_ahead(path, limits: Limits) -> ReadAhead | None:
+    """The file read in a child process while this one imports spaCy and builds the pipeline (the two slowest
+    parts of a first check), or None once the pipeline is built (a later document of a run, a batch worker) or
+    where a child process cannot read it (see checker.reading.ahead)."""
     from .matching.nlp import pipeline
 
     if pipeline.cache_info().currsize:
         return None
     from .reading.ahead import start
 
-    ahead = start(path, limits)
-    return _ReadAhead(ahead) if ahead is not None else None
+    return start(path, limits)
 
 
 def check_together(

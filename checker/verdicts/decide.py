@@ -227,8 +227,7 @@ def _status(compiled, scan, ii, item, per_facet, found, complete, waivers) -> tu
         # them here
         done = completed(found, complete, held_back)
         best = min(item.needs, key=lambda n: (len(set(n) - done), item.needs.index(n)))
-        deferred = {fh.facet.id for fh in per_facet if fh.facet.deferred_partial}
-        lacking = tuple(titles[f] + (" (only referred to another document)" if f in found and f in deferred else "")
+        lacking = tuple(titles[f] + (" (only referred to another document)" if f in found - complete else "")
                         for f in best if f not in done)
         return "partial", ("found: " + "; ".join(titles[f] for f in titles if f in found)
                            + " — not found: " + "; ".join(lacking)), lacking
