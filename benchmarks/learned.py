@@ -23,9 +23,7 @@ from __future__ import annotations
 
 import argparse
 import os
-import re
 import sys
-import zlib
 from collections import defaultdict
 from concurrent.futures import ProcessPoolExecutor
 from pathlib import Path
@@ -33,22 +31,12 @@ from pathlib import Path
 ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT))
 
+from checker.verdicts.judge import JUDGE_FILE  # noqa: E402
+
 BUCKETS = 1 << 18
 POSITIVE = ("reported", "partial")
-WORD = re.compile(r"[a-z][a-z-]+")
-NUMBER = re.compile(r"\d+(?:[.,]\d+)?%?")
-
-
-def _features(sentence) -> list[int]:
-    words = []
-    for lemma in sentence["lemmas"]:
-        if NUMBER.fullmatch(lemma):
-            words.append("<number>")
-        elif WORD.fullmatch(lemma):
-            words.append(lemma)
-    names = set(words) | {a + "_" + b for a, b in zip(words, words[1:])}
-    names |= {"@role=" + sentence["role"], "@kind=" + sentence["kind"], "@whose=" + sentence["whose"]}
-    return sorted({zlib.crc32(n.encode()) % BUCKETS for n in names})
+#: words kept per item's sentence scorer: those of the largest weights (a smaller file, the same verdicts)
+KEEP_WORDS = 3000
 
 
 def _check(task):
@@ -59,6 +47,7 @@ def _check(task):
     from checker.matching.nlp import parse_blocks
     from checker.reading import read_document
     from checker.verdicts.decide import evaluate
+    from checker.verdicts.judge import cue_sentences, features_of
 
     try:
         doc = read_document(document, DEFAULT_LIMITS)
@@ -71,17 +60,42 @@ def _check(task):
     sentences = []
     for i, s in enumerate(scan.sentences):
         di, a, b = scan.spans[i]
-        sentences.append({"text": s.text, "lemmas": [(t.lemma_ or t.lower_).lower() for t in docs[di][a:b]],
-                          "role": s.role, "kind": s.kind, "whose": scan.attribution(i).kind,
-                          "weight": scan.weight(i)})
+        sentences.append({"text": s.text, "weight": scan.weight(i)})
+    features = features_of(scan, BUCKETS)
     items = {}
     for ii, (item, res) in enumerate(zip(compiled.checklist.items, results)):
         if item.id not in labels:
             continue
-        hit = sorted({h.sentence for k, hs in scan.hits.items() if k.startswith(f"{ii}:") for h in hs})
-        items[item.id] = {"tool": res.status, "evidence": [e.text for e in res.evidence], "hit": hit,
-                          "facets": [(f.found, f.score) for f in res.facets], "label": labels[item.id]}
-    return {"document": document, "sentences": sentences, "items": items}
+        items[item.id] = {"tool": res.status, "evidence": [e.text for e in res.evidence],
+                          "hit": sorted(cue_sentences(scan, ii)), "facets": [(f.found, f.score) for f in res.facets],
+                          "label": labels[item.id]}
+    return {"document": document, "sentences": sentences, "features": features, "items": items}
+
+
+def _sentence_model(lr, keep: int) -> dict:
+    """A fitted sentence scorer as the judge file keeps it: the `keep` words of the largest weights, rounded."""
+    import numpy as np
+
+    coef = lr.coef_[0]
+    words = coef[:BUCKETS]
+    nz = np.flatnonzero(words)
+    top = nz[np.argsort(-np.abs(words[nz]), kind="stable")[:keep]]
+    return {"bias": round(float(lr.intercept_[0]), 4), "cue": round(float(coef[BUCKETS]), 4),
+            "words": {int(j): round(float(words[j]), 4) for j in sorted(top)}}
+
+
+#: an item with too few labelled passages to learn from scores every sentence near zero
+NO_WORDS = {"bias": -30.0, "cue": 0.0, "words": {}}
+
+
+def _judge_model(y: list[str], x: list[list[float]]) -> dict:
+    from sklearn.linear_model import LogisticRegression
+
+    if len(set(y)) < 2:
+        return {"classes": [y[0]], "coef": [], "intercept": []}
+    m = LogisticRegression(max_iter=3000).fit(x, y)
+    return {"classes": [str(c) for c in m.classes_], "coef": [[round(float(v), 4) for v in row] for row in m.coef_],
+            "intercept": [round(float(v), 4) for v in m.intercept_]}
 
 
 def main(argv: list[str] | None = None) -> int:
@@ -91,20 +105,25 @@ def main(argv: list[str] | None = None) -> int:
     ap.add_argument("--test", type=Path, action="append", default=[],
                     help="labelled documents judged by models trained on all the others, never trained on")
     ap.add_argument("--folds", type=int, default=8)
+    ap.add_argument("--keep", type=int, default=KEEP_WORDS, help="words kept per item's sentence scorer")
     ap.add_argument("--jobs", type=int, default=min(2, os.cpu_count() or 1))
+    ap.add_argument("--write", action="store_true",
+                    help=f"store the models fitted on all documents but --test ones in checklists/{JUDGE_FILE}")
+    ap.add_argument("--dump", type=Path, help="write every labelled item's statuses (cues, judge, human) as JSON")
     args = ap.parse_args(argv)
     if not (args.dev / "labels").is_dir():
         print(f"learned: skipped, no labelled documents at {args.dev}")
         return 0
     try:
         import numpy as np
-        from scipy.sparse import csr_matrix, vstack
+        from scipy.sparse import csr_matrix, hstack, vstack
         from sklearn.linear_model import LogisticRegression
     except ImportError:
         print("learned: skipped, scikit-learn is not installed (pip install -e '.[test]')")
         return 0
     from checker.many.evaluation import (Pair, binary_kappa, load_labels, macro_f1, quote_covers, three_class,
                                          three_class_agreement)
+    from checker.verdicts.judge import Models, allowed, judge_features, predict
 
     tasks, folder_of = [], {}
     for folder in [args.dev, *args.extra, *args.test]:
@@ -120,11 +139,10 @@ def main(argv: list[str] | None = None) -> int:
 
     matrices, rows = {}, []
     for d in checked:
-        feats = [_features(s) for s in d["sentences"]]
+        feats = d["features"]
         ind = [j for f in feats for j in f]
         ptr = np.cumsum([0] + [len(f) for f in feats])
-        matrices[d["document"]] = (csr_matrix((np.ones(len(ind)), ind, ptr), shape=(len(feats), BUCKETS)),
-                                   np.array([s["weight"] for s in d["sentences"]]))
+        matrices[d["document"]] = csr_matrix((np.ones(len(ind)), ind, ptr), shape=(len(feats), BUCKETS))
         for item_id, it in d["items"].items():
             status, quote = it["label"]
             hit = np.zeros((len(feats), 1))
@@ -137,87 +155,111 @@ def main(argv: list[str] | None = None) -> int:
                          "wanted": wanted})
 
     def x_of(r):
-        from scipy.sparse import hstack
-
-        return hstack([matrices[r["doc"]["document"]][0], csr_matrix(r["hit"])]).tocsr()
+        return hstack([matrices[r["doc"]["document"]], csr_matrix(r["hit"])]).tocsr()
 
     documents = sorted(matrices)
     tested = {folder.name for folder in args.test}
     trained = [d for d in documents if folder_of[d] not in tested]
     fold = {doc: k % args.folds for k, doc in enumerate(np.random.RandomState(0).permutation(trained))}
     fold.update({d: args.folds for d in documents if folder_of[d] in tested})  # judged by models of all the rest
-    rounds = range(args.folds + (1 if tested else 0))
+    rounds = range(args.folds + 1)  # the last round: models of all trained documents (those --write stores)
 
     def learns_from(doc: str, f: int) -> bool:
         return fold[doc] != f and fold[doc] != args.folds
 
-    scores: dict[int, np.ndarray] = {}
+    scores: dict[int, list[float]] = {}
+    sentence_models: dict[str, dict] = {}
     for f in rounds:
         by_item = defaultdict(list)
         for r in rows:
             if learns_from(r["doc"]["document"], f):
                 by_item[r["item"]].append(r)
-        models = {}
-        for item_id, rs in by_item.items():
+        fitted = {}
+        for item_id, rs in sorted(by_item.items()):
             y = np.concatenate([[int(i in r["wanted"]) for i in range(len(r["doc"]["sentences"]))] for r in rs])
-            if y.sum() >= 3:
-                models[item_id] = LogisticRegression(C=0.5, class_weight="balanced", solver="liblinear").fit(
-                    vstack([x_of(r) for r in rs]), y)
+            fitted[item_id] = NO_WORDS if y.sum() < 3 else _sentence_model(LogisticRegression(
+                C=0.5, class_weight="balanced", solver="liblinear").fit(vstack([x_of(r) for r in rs]), y), args.keep)
+        models = Models.build(BUCKETS, fitted, {})
+        z_of = {}
         for k, r in enumerate(rows):
-            if fold[r["doc"]["document"]] == f:
-                m = models.get(r["item"])
-                weights = matrices[r["doc"]["document"]][1]
-                p = m.predict_proba(x_of(r))[:, 1] if m is not None else np.zeros(len(weights))
-                scores[k] = p * np.minimum(1.0, weights / 0.9)
+            doc = r["doc"]
+            if fold[doc["document"]] == f and r["item"] in fitted:
+                if doc["document"] not in z_of:
+                    z_of[doc["document"]] = models.scores(doc["features"], [s["weight"] for s in doc["sentences"]])
+                scores[k] = models.item_scores(*z_of[doc["document"]], r["item"], set(r["it"]["hit"]))
+            elif fold[doc["document"]] == f:
+                scores[k] = [0.0] * len(doc["sentences"])
+        if f == args.folds:
+            sentence_models = fitted
         print(f"  round {f + 1} of {len(rounds)} scored", file=sys.stderr)
 
-    statuses = ["missing", "not-applicable", "partial", "reported"]
-
-    def judge_features(k):
-        r, p = rows[k], np.sort(scores[k])[::-1]
-        p = np.concatenate([p, [0.0, 0.0, 0.0]])
-        facets = r["it"]["facets"]
-        return [p[0], p[1], p[:3].mean(), min(5, int((p > 0.5).sum())) / 5] + \
-               [float(r["it"]["tool"] == s) for s in statuses] + \
-               [sum(f for f, _ in facets) / max(1, len(facets)), max([s for _, s in facets] + [0.0])]
-
-    feats = {k: judge_features(k) for k in range(len(rows))}
+    feats = {k: judge_features(scores[k], r["it"]["tool"], r["it"]["facets"]) for k, r in enumerate(rows)}
     learned: dict[int, str] = {}
+    free: dict[int, str] = {}  # what the judge said before `allowed` (for --dump)
+    judges_all: dict[str, dict] = {}
     for f in rounds:
         by_item = defaultdict(list)
         for k, r in enumerate(rows):
             if learns_from(r["doc"]["document"], f):
                 by_item[r["item"]].append(k)
-        judges = {}
-        for item_id, ks in by_item.items():
-            y = [three_class(rows[k]["human"]) for k in ks]
-            judges[item_id] = y[0] if len(set(y)) < 2 else LogisticRegression(max_iter=3000).fit([feats[k] for k in ks], y)
+        judges = {item_id: _judge_model([three_class(rows[k]["human"]) for k in ks], [feats[k] for k in ks])
+                  for item_id, ks in sorted(by_item.items())}
         for k, r in enumerate(rows):
             if fold[r["doc"]["document"]] == f:
                 j = judges.get(r["item"])
-                status = r["it"]["tool"] if j is None else j if isinstance(j, str) else j.predict([feats[k]])[0]
-                learned[k] = "not-applicable" if status == "missing" and r["it"]["tool"] == "not-applicable" else status
+                tool = r["it"]["tool"]
+                free[k] = tool if j is None else predict(j, feats[k])
+                learned[k] = allowed(tool, free[k], bool(r["it"]["evidence"]) or bool(r["it"]["hit"]))
+        if f == args.folds:
+            judges_all = judges
 
     print(f"\n{len(documents)} documents, {len(rows)} labelled items, {args.folds} folds grouped by document"
           + (f"; never trained on: {', '.join(sorted(tested))}" if tested else ""))
     print(f"{'folder':<12} {'':<10} {'macro-F1':>9} {'kappa':>7} {'3-class':>8} {'passage in top 3':>18}")
-    for folder in sorted(set(folder_of.values())):
-        ks = [k for k, r in enumerate(rows) if folder_of[r["doc"]["document"]] == folder]
-        for name, tool in (("checker", lambda k: rows[k]["it"]["tool"]), ("learned", lambda k: learned[k])):
+    groups = [(folder, [k for k, r in enumerate(rows) if folder_of[r["doc"]["document"]] == folder])
+              for folder in sorted(set(folder_of.values()))]
+    groups.append(("all trained", [k for k, r in enumerate(rows) if folder_of[r["doc"]["document"]] not in tested]))
+    if tested:
+        groups.append(("all tested", [k for k, r in enumerate(rows) if folder_of[r["doc"]["document"]] in tested]))
+    for folder, ks in groups:
+        for name, tool in (("cues", lambda k: rows[k]["it"]["tool"]), ("judged", lambda k: learned[k])):
             pairs = [Pair(rows[k]["doc"]["document"], "", rows[k]["item"], rows[k]["item"], rows[k]["human"],
                           tool(k)) for k in ks]
             both = [k for k in ks if rows[k]["human"] in POSITIVE and rows[k]["it"]["tool"] in POSITIVE
                     and rows[k]["quote"].strip()]
-            if name == "checker":
+            if name == "cues":
                 covered = sum(quote_covers(rows[k]["quote"], rows[k]["it"]["evidence"][:3]) for k in both)
             else:
                 covered = sum(quote_covers(rows[k]["quote"], [rows[k]["doc"]["sentences"][i]["text"]
-                                                         for i in np.argsort(-scores[k], kind="stable")[:3]])
+                                                         for i in np.argsort(-np.asarray(scores[k]),
+                                                                             kind="stable")[:3]])
                               for k in both)
             f1, kappa, three = macro_f1(pairs), binary_kappa(pairs), three_class_agreement(pairs)
             print(f"{folder:<12} {name:<10} {f1 or 0:>9.3f} {kappa or 0:>7.3f} {three or 0:>8.3f} "
                   f"{covered:>8}/{len(both):<4} {covered / max(1, len(both)):.2f}")
+    if args.dump:
+        import json
+
+        out = [{"document": rows[k]["doc"]["document"], "folder": folder_of[rows[k]["doc"]["document"]],
+                "item": rows[k]["item"], "human": rows[k]["human"], "cues": rows[k]["it"]["tool"],
+                "judged": learned[k], "free": free[k], "hits": len(rows[k]["it"]["hit"]), "evidence": len(rows[k]["it"]["evidence"])} for k in range(len(rows))]
+        args.dump.write_text(json.dumps(out, indent=1) + "\n", encoding="utf-8")
+    if args.write:
+        _write(sentence_models, judges_all, len(trained), sorted({folder_of[d] for d in trained}))
     return 0
+
+
+def _write(sentence_models: dict, judges: dict, documents: int, folders: list[str]) -> None:
+    import json
+
+    from checker.core.output import write_atomic
+
+    items = {i: {"sentence": sentence_models.get(i, NO_WORDS), "judge": judges[i]} for i in sorted(judges)}
+    data = {"about": f"fitted by benchmarks/learned.py --write on {documents} labelled documents; hashed words only",
+            "buckets": BUCKETS, "items": items}
+    target = ROOT / "checklists" / JUDGE_FILE
+    write_atomic(target, json.dumps(data, sort_keys=True, separators=(",", ":")) + "\n")
+    print(f"wrote {target} ({len(items)} items, {target.stat().st_size // 1024} KiB)")
 
 
 if __name__ == "__main__":

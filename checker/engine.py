@@ -259,7 +259,7 @@ def _check(path, checklist, config, limits, read_document, parse_blocks) -> Repo
                                  "named by the user"
     compiled = compiled_for(ref)
     scan = compiled.scan(document, regex_seconds=limits.regex_seconds, docs=docs)
-    items = evaluate(compiled, scan, config.waivers)
+    items = judged(compiled, scan, evaluate(compiled, scan, config.waivers), config)
     unknown_waivers = sorted(set(config.waivers) - {it.id for it in compiled.checklist.items})
     warnings = list(document.warnings)
     if unknown_waivers:
@@ -267,6 +267,17 @@ def _check(path, checklist, config, limits, read_document, parse_blocks) -> Repo
                         f"{compiled.checklist.id} does not have")
     return build_report(document, compiled.checklist, items, choice, tuple(warnings), scan=scan, config=config,
                         regex_seconds=limits.regex_seconds)
+
+
+def judged(compiled: CompiledChecklist, scan, items: tuple, config: Config) -> tuple:
+    """The cues' verdicts, moved by the learned judge where the settings want it (see checker.verdicts.judge). It
+    was fitted on the built-in checklists' items, so a checklist of the user's own keeps the cues' verdicts."""
+    checklist = compiled.checklist
+    if config.judge != "learned" or checklist.path != f"checklists/{checklist.id}.yaml":
+        return items
+    from .verdicts.judge import rejudge
+
+    return rejudge(scan, items)
 
 
 def build_report(document: Document, checklist: Checklist, items, choice: str, warnings: tuple[str, ...],
@@ -322,6 +333,6 @@ def check_text(text: str, checklist: str = "validation-study", config: Config | 
     document = document_from_text(text)
     compiled = compiled_for(checklist)
     scan = compiled.scan(document)
-    items = evaluate(compiled, scan, config.waivers)
+    items = judged(compiled, scan, evaluate(compiled, scan, config.waivers), config)
     return build_report(document, compiled.checklist, items, f"{checklist}: named by the user", (), scan=scan,
                         config=config)

@@ -66,7 +66,7 @@ def _code_stamp() -> str:
             st = p.stat()
             h.update(f"{p.relative_to(root)}\0{st.st_size}\0{st.st_mtime_ns}\n".encode())
     for t in sorted(resources.files("checker.checklists").iterdir(), key=lambda t: t.name):
-        if t.name.endswith((".yaml", ".yml")):
+        if t.name.endswith((".yaml", ".yml", ".json")):
             h.update(f"checklists/{t.name}\0".encode() + hashlib.sha256(t.read_bytes()).digest())
     for name in _LIBRARIES:
         try:

@@ -19,6 +19,15 @@ def pytest_configure(config):
     import tempfile
 
     os.environ.setdefault("STUDYGAP_CACHE_DIR", tempfile.mkdtemp(prefix="studygap-test-cache-"))
+    # most tests assert what the cues find in invented text; the learned judge, fitted on whole real documents,
+    # is tested where it acts on whole documents (test_judge.py, test_golden.py), which ask for it
+    os.environ.setdefault("STUDYGAP_JUDGE", "cues")
+
+
+@pytest.fixture
+def learned_judge(monkeypatch):
+    """The default a user gets: the learned judge over the cues (checker.verdicts.judge)."""
+    monkeypatch.setenv("STUDYGAP_JUDGE", "learned")
 
 
 def pytest_addoption(parser):

@@ -20,6 +20,7 @@ from checker.reports import RenderOptions, render
 from .conftest import DEMO, ROOT
 
 GOLDEN = Path(__file__).resolve().parent / "golden"
+pytestmark = pytest.mark.usefixtures("learned_judge")  # the demo as a user sees it
 EXPECTED = yaml.safe_load((DEMO / "expected.yaml").read_text(encoding="utf-8"))["documents"]
 
 

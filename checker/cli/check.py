@@ -8,7 +8,8 @@ from pathlib import Path
 
 from ..core.errors import ExitCode, InputError, StudygapError, UsageError
 from ..core.status import MISSING, is_gap
-from .options import add_limit_options, color, limits_from, print_internal, write_output
+from .options import (add_judge_option, add_limit_options, color, config_with_judge, limits_from, print_internal,
+                      write_output)
 
 DESCRIPTION = """The gap report for each document: per checklist item a status (reported, partial, missing,
 not applicable, waived), the passages found with their page, section and line, and the facts extracted."""
@@ -46,6 +47,7 @@ def add_parser(sub) -> argparse.ArgumentParser:
     c.add_argument("--no-cache", action="store_true",
                    help="check every file afresh instead of reusing the report of an unchanged file from an "
                         "earlier run")
+    add_judge_option(c)
     add_limit_options(c)
     c.set_defaults(handler=run)
     return c
@@ -58,7 +60,7 @@ def run(args) -> int:
     from ..reports import RenderOptions, info, render
 
     limits = limits_from(args)
-    config = load_config(args.config)
+    config = config_with_judge(load_config(args.config), args)
     checklist = args.checklist or config.checklist
     fail_on = args.fail_on or config.fail_on
     if checklist != "auto":  # a broken checklist is refused before any document is read

@@ -29,6 +29,20 @@ def add_limit_options(p: argparse.ArgumentParser) -> None:
                         "analysis, about ten times slower); both give the same verdicts on the test documents")
 
 
+def add_judge_option(p: argparse.ArgumentParser) -> None:
+    p.add_argument("--judge", choices=("learned", "cues"), default=None,
+                   help="who has the last word on a built-in checklist's statuses: 'learned' (default) lets a model "
+                        "fitted on documents that careful readers labelled move the cues' verdict where the quotes "
+                        "back it; 'cues' keeps the cues' verdict")
+
+
+def config_with_judge(config, args):
+    """The settings with the judge the command line names (the settings' own otherwise)."""
+    import dataclasses
+
+    return dataclasses.replace(config, judge=args.judge) if getattr(args, "judge", None) else config
+
+
 def limits_from(args):
     """The Limits the limit options ask for (the defaults where none is given)."""
     import dataclasses

@@ -11,7 +11,8 @@ from pathlib import Path
 from ..core.errors import ExitCode, StudygapError, UsageError
 from ..core.progress import progress_bar
 from ..reports import names
-from .options import add_limit_options, limits_from, write_csv, write_output
+from ..core.config import Config
+from .options import add_judge_option, add_limit_options, config_with_judge, limits_from, write_csv, write_output
 
 DESCRIPTION = """Check many documents against one checklist and show them side by side: a matrix of documents and
 items, a completeness score per document, and the facts found (annotators, test cases, bootstrap samples...).
@@ -51,6 +52,7 @@ def add_batch_options(p: argparse.ArgumentParser) -> None:
     p.add_argument("--no-cache", action="store_true",
                    help="check every file afresh instead of reusing the report of an unchanged file from an "
                         "earlier run")
+    add_judge_option(p)
     add_limit_options(p)
 
 
@@ -181,8 +183,8 @@ def run_inputs(args, limits=None, skipped: list[tuple[str, str]] | None = None):
     started = time.monotonic()
     checklist, note = resolve_checklist(paths, args.checklist, limits)
     with progress_bar("checking documents", len(paths), args.quiet) as progress:
-        results = run_batch(paths, checklist, None, limits, jobs=args.jobs, engine=args.engine,
-                            scheduler=args.scheduler, send=args.send, progress=progress,
+        results = run_batch(paths, checklist, config_with_judge(Config(), args), limits, jobs=args.jobs,
+                            engine=args.engine, scheduler=args.scheduler, send=args.send, progress=progress,
                             cache=not getattr(args, "no_cache", False), lost_after=task_timeout or DASK_LOST_AFTER)
     for r in results:
         if r.traceback and getattr(args, "debug", False):

@@ -11,7 +11,9 @@ from typing import Any
 from .errors import UsageError
 
 FAIL_ON = ("missing", "partial")
-_KEYS = {"checklist", "fail-on", "fail_on", "waivers", "ignore-sections", "ignore_sections", "rules"}
+_KEYS = {"checklist", "fail-on", "fail_on", "waivers", "ignore-sections", "ignore_sections", "rules", "judge"}
+#: who has the last word on a status: the learned judge over the cues' verdict, or the cues alone
+JUDGES = ("learned", "cues")
 
 
 @dataclass(frozen=True)
@@ -25,6 +27,17 @@ class Config:
     #: rule id -> False to switch a rule off
     rules: dict[str, bool] = field(default_factory=dict)
     source: str = "defaults"
+    #: "learned": the judge fitted on labelled documents may move the cues' verdict (checker.verdicts.judge);
+    #: "cues": the cues alone decide (default: STUDYGAP_JUDGE when it names one of them, else learned)
+    judge: str = field(default_factory=lambda: default_judge())
+
+
+def default_judge() -> str:
+    """The judge when no setting names one: STUDYGAP_JUDGE ("learned" or "cues"), else learned."""
+    import os
+
+    value = os.environ.get("STUDYGAP_JUDGE", "").strip().lower()
+    return value if value in JUDGES else "learned"
 
 
 def _load_toml(path: Path) -> dict[str, Any]:
@@ -130,7 +143,7 @@ def parse_config(data: dict[str, Any], source: str) -> Config:
     unknown = sorted(set(data) - _KEYS)
     if unknown:
         raise UsageError(f"{source}: unknown setting {unknown[0]!r} (known: checklist, fail-on, waivers, "
-                         "ignore-sections, rules)")
+                         "ignore-sections, rules, judge)")
     fail_on = data.get("fail-on", data.get("fail_on"))
     if fail_on is not None and fail_on not in FAIL_ON:
         raise UsageError(f"{source}: fail-on must be 'missing' or 'partial', not {fail_on!r}")
@@ -156,4 +169,7 @@ def parse_config(data: dict[str, Any], source: str) -> Config:
     checklist = data.get("checklist", "auto")
     if not isinstance(checklist, str):
         raise UsageError(f"{source}: checklist must be a checklist id or a path, like \"validation-study\"")
-    return Config(str(checklist), fail_on, waivers, tuple(str(s) for s in ignore), dict(rules), source)
+    judge = data.get("judge", default_judge())
+    if judge not in JUDGES:
+        raise UsageError(f"{source}: judge must be 'learned' or 'cues', not {judge!r}")
+    return Config(str(checklist), fail_on, waivers, tuple(str(s) for s in ignore), dict(rules), source, judge)

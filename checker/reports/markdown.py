@@ -108,6 +108,9 @@ def request(item: ItemResult, r: Report) -> str:
             return f"{title} {head}; could you also report {_join([_object(t) for t in lacking])}?"
         return f"{title} {head}. {_sentence(item.ask) if item.ask else ''}".rstrip()
     ask = _sentence(item.ask) if item.ask else f"Could you add: {item.question}"
+    if item.evidence:  # the judge found the cues' passages not enough (checker.verdicts.judge)
+        return (f"{title} The passages we found on this ({escape(place(item.evidence[0], r))}) do not seem to "
+                f"answer it. {ask}")
     where = f"; it is {escape(item.reason)}" if item.reason.startswith("only mentioned") else ""
     return f"{title} We could not find this in the document{where}. {ask}"
 

@@ -131,8 +131,8 @@ def evaluate_item(compiled: CompiledChecklist, scan: Scan, ii: int, item: Item, 
         if scan.weight(si) * max(weights[f] for f in fhits) < found_at:
             continue
         sent = scan.sentences[si]
-        spans = _merge_spans([(h.start, h.end) for hs in fhits.values() for h in hs])
-        text, spans = _trim(sent.text, spans)
+        spans = merge_spans([(h.start, h.end) for hs in fhits.values() for h in hs])
+        text, spans = trim_passage(sent.text, spans)
         evidence.append(Evidence(text, sent.location, score, spans, tuple(f.id for f in item.facets if f.id in fhits),
                                  scan.attribution(si).kind))
         if len(evidence) >= MAX_EVIDENCE:
@@ -246,7 +246,7 @@ _WEAK_WORDS = {"other-work": "text about other work", "background": "general sta
                "plan": "plans or future work", "template": "a template's prompts"}
 
 
-def _merge_spans(spans: list[tuple[int, int]]) -> tuple[tuple[int, int], ...]:
+def merge_spans(spans: list[tuple[int, int]]) -> tuple[tuple[int, int], ...]:
     out: list[list[int]] = []
     for s, e in sorted(spans):
         if out and s <= out[-1][1]:
@@ -256,7 +256,7 @@ def _merge_spans(spans: list[tuple[int, int]]) -> tuple[tuple[int, int], ...]:
     return tuple((s, e) for s, e in out)
 
 
-def _trim(text: str, spans: tuple[tuple[int, int], ...]) -> tuple[str, tuple[tuple[int, int], ...]]:
+def trim_passage(text: str, spans: tuple[tuple[int, int], ...]) -> tuple[str, tuple[tuple[int, int], ...]]:
     """Strip the sentence's outer white space, moving the spans with it."""
     lead = len(text) - len(text.lstrip())
     t = text.strip()

@@ -1,0 +1,270 @@
+"""A second opinion on the cues' verdict, learned from documents that careful readers labelled.
+
+The cues decide which sentences are evidence and what each facet found (checker.verdicts.decide). Whether such
+evidence is what a careful reader calls reported, partial or missing depends on more than the cues see: how a
+sentence is worded around its cue, where it stands, how many sentences say something like it. Two small models
+per item, fitted by `python benchmarks/learned.py --write` on labelled documents and shipped as data in
+checklists/judge.json, weigh that:
+
+1. a sentence scorer: a logistic regression on hashed lemma unigrams and bigrams of a sentence, its section role,
+   block kind, whose statement it is and whether a cue of the item is in it; it scores how likely the sentence
+   holds what the item asks;
+2. an item judge: a logistic regression from the best sentence scores and the cues' own verdict (status, share of
+   facets found, best facet score) to reported, partial or missing.
+
+The judge may only move a verdict where quotes can back it: it never makes an item reported or partial without a
+cue's evidence to show, and it leaves not-applicable and waived items alone. The quotes a report shows stay the
+cues' sentences; the reason says when the judge moved a verdict and what the cues found. `judge: cues` in the
+settings (or `--judge cues`) turns it off. No word of any document is kept in the model: only hashes of words.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+import re
+import zlib
+from functools import lru_cache
+from importlib import resources
+from typing import TYPE_CHECKING, Any
+
+from ..core.errors import ChecklistError
+
+if TYPE_CHECKING:
+    from ..matching.matcher import Scan
+    from .report import ItemResult
+
+JUDGE_FILE = "judge.json"
+STATUSES = ("missing", "partial", "reported")
+#: the cues' statuses the judge reads, one feature each (the order of the shipped coefficients)
+CUE_STATUSES = ("missing", "not-applicable", "partial", "reported")
+WORD = re.compile(r"[a-z][a-z-]+")
+NUMBER = re.compile(r"\d+(?:[.,]\d+)?%?")
+#: sentences scored together (bounds the memory of a long document's scoring)
+SENTENCES_AT_ONCE = 512
+#: a sentence's score is damped when it stands where evidence counts little (see matcher.Scan.weight)
+FULL_WEIGHT = 0.9
+
+
+def sentence_features(lemmas: list[str], role: str, kind: str, whose: str, buckets: int) -> list[int]:
+    """The hashed features of one sentence: its lemmas (numbers as one word), lemma pairs, and where it stands."""
+    words = []
+    for lemma in lemmas:
+        if NUMBER.fullmatch(lemma):
+            words.append("<number>")
+        elif WORD.fullmatch(lemma):
+            words.append(lemma)
+    names = set(words) | {a + "_" + b for a, b in zip(words, words[1:])}
+    names |= {"@role=" + role, "@kind=" + kind, "@whose=" + whose}
+    return sorted({zlib.crc32(n.encode()) % buckets for n in names})
+
+
+@dataclasses.dataclass(frozen=True)
+class Models:
+    """The sentence scorers of all items as one matrix (a row per kept word, a column per item) and the judges."""
+
+    buckets: int
+    items: tuple[str, ...]
+    #: word bucket -> row of `words`; the last row is all zeros (a sentence without a kept word)
+    rows: dict[int, int]
+    words: Any  # numpy array (len(rows) + 1, len(items))
+    bias: Any  # numpy array (len(items),)
+    cue: Any  # numpy array (len(items),)
+    judges: dict[str, dict[str, Any]]
+
+    @classmethod
+    def build(cls, buckets: int, sentence: dict[str, dict[str, Any]], judges: dict[str, dict[str, Any]]) -> Models:
+        import numpy as np
+
+        items = tuple(sorted(sentence))
+        rows = {b: r for r, b in enumerate(sorted({b for m in sentence.values() for b in m["words"]}))}
+        words = np.zeros((len(rows) + 1, len(items)))
+        for k, item in enumerate(items):
+            for b, w in sentence[item]["words"].items():
+                words[rows[b], k] = w
+        return cls(buckets, items, rows, words, np.array([float(sentence[i]["bias"]) for i in items]),
+                   np.array([float(sentence[i]["cue"]) for i in items]), judges)
+
+    def scores(self, features: list[list[int]], weights: list[float]) -> tuple[Any, Any]:
+        """Every sentence's linear score per item before its cue (sentences x items), and the damping of each
+        sentence where it counts little."""
+        import numpy as np
+
+        empty = len(self.rows)
+        parts = []
+        for c in range(0, len(features), SENTENCES_AT_ONCE):  # a 300-page thesis must not hold all rows at once
+            cols: list[int] = []
+            starts = []
+            for fs in features[c:c + SENTENCES_AT_ONCE]:
+                starts.append(len(cols))
+                cols.extend(self.rows[f] for f in fs if f in self.rows)
+                cols.append(empty)
+            parts.append(np.add.reduceat(self.words[cols], starts, axis=0))
+        z = np.concatenate(parts) if parts else np.zeros((0, len(self.items)))
+        return z, np.minimum(1.0, np.asarray(weights, dtype=float) / FULL_WEIGHT)
+
+    def item_scores(self, z: Any, damp: Any, item: str, cue_hit: set[int]) -> list[float]:
+        """How likely each sentence holds what the item asks, damped where the sentence counts little."""
+        import numpy as np
+
+        k = self.items.index(item)
+        hit = np.zeros(len(damp))
+        hit[sorted(cue_hit)] = 1.0
+        lin = z[:, k] + self.bias[k] + self.cue[k] * hit
+        return list(damp / (1.0 + np.exp(-np.clip(lin, -30.0, 30.0))))
+
+
+def judge_features(scores: list[float], status: str, facets: list[tuple[bool, float]]) -> list[float]:
+    """What the item judge reads: the best sentence scores and the cues' own verdict."""
+    p = sorted(scores, reverse=True) + [0.0, 0.0, 0.0]
+    return [p[0], p[1], (p[0] + p[1] + p[2]) / 3, min(5, sum(1 for x in scores if x > 0.5)) / 5] + \
+           [float(status == s) for s in CUE_STATUSES] + \
+           [sum(f for f, _ in facets) / max(1, len(facets)), max([s for _, s in facets] + [0.0])]
+
+
+def predict(judge: dict[str, Any], x: list[float]) -> str:
+    """The judge's status: the class whose linear score is highest (one score: the second class when above 0)."""
+    classes, coef, intercept = judge["classes"], judge["coef"], judge["intercept"]
+    z = [b + sum(w * v for w, v in zip(row, x)) for row, b in zip(coef, intercept)]
+    if len(classes) == 1:
+        return classes[0]
+    if len(z) == 1:
+        return classes[1] if z[0] > 0 else classes[0]
+    return classes[max(range(len(z)), key=lambda k: (z[k], -k))]
+
+
+def allowed(cue_status: str, judged: str, has_evidence: bool) -> str:
+    """The judge's status where quotes can back it: without a sentence where a cue of the item was found (even one
+    that counted too little on its own) an item stays missing; an item the cues found not applicable or a waived
+    one keeps its status."""
+    if cue_status not in STATUSES:
+        return cue_status
+    if judged in ("reported", "partial") and not has_evidence:
+        return cue_status
+    return judged
+
+
+def parse_model(text: str, file: str) -> Models:
+    """The shipped models, checked enough that a damaged file is named rather than half used."""
+    import json
+
+    try:
+        data = json.loads(text)
+        buckets = int(data["buckets"])
+        sentence, judges = {}, {}
+        for item_id, m in data["items"].items():
+            s, j = m["sentence"], m["judge"]
+            words = {int(k): float(v) for k, v in s["words"].items()}
+            if any(not 0 <= k < buckets for k in words):
+                raise ValueError(f"{item_id}: a word bucket outside 0..{buckets - 1}")
+            classes = [str(c) for c in j["classes"]]
+            if not classes or not set(classes) <= set(STATUSES):
+                raise ValueError(f"{item_id}: unknown status in {classes}")
+            coef = [[float(v) for v in row] for row in j["coef"]]
+            intercept = [float(v) for v in j["intercept"]]
+            if len(coef) != len(intercept) or any(len(row) != len(judge_features([], "missing", [])) for row in coef):
+                raise ValueError(f"{item_id}: the judge's coefficients do not fit its features")
+            sentence[str(item_id)] = {"bias": float(s["bias"]), "cue": float(s["cue"]), "words": words}
+            judges[str(item_id)] = {"classes": classes, "coef": coef, "intercept": intercept}
+    except (ValueError, KeyError, TypeError, AttributeError) as exc:
+        raise ChecklistError([f"{file}:1:1: not a judge model studygap can use: {exc}"]) from None
+    return Models.build(buckets, sentence, judges)
+
+
+@lru_cache(maxsize=1)
+def shipped() -> Models | None:
+    """The shipped models (None when the file is absent: the cues alone decide)."""
+    res = resources.files("checker.checklists") / JUDGE_FILE
+    if not res.is_file():
+        return None
+    return parse_model(res.read_text(encoding="utf-8"), f"checklists/{JUDGE_FILE}")
+
+
+def features_of(scan: Scan, buckets: int) -> list[list[int]]:
+    """Every sentence's hashed features, from the lemmas the pipeline gave it."""
+    current, lemmas = -1, []
+    out = []
+    for i, (di, a, b) in enumerate(scan.spans):
+        if di != current:  # one parsed block's lemmas at a time
+            current, lemmas = di, [(t.lemma_ or t.lower_).lower() for t in scan.docs[di]]
+        s = scan.sentences[i]
+        out.append(sentence_features(lemmas[a:b], s.role, s.kind, scan.attribution(i).kind, buckets))
+    return out
+
+
+def cue_sentences(scan: Scan, ii: int) -> set[int]:
+    """The sentences where any cue of item ii was found."""
+    prefix = f"{ii}:"
+    return {h.sentence for k, hs in scan.hits.items() if k.startswith(prefix) for h in hs}
+
+
+def rejudge(scan: Scan, results: tuple[ItemResult, ...], models: Models | None = None,
+            facets_of: dict[str, tuple[str, ...]] | None = None) -> tuple[ItemResult, ...]:
+    """The results with the judge's status where it has a model for the item and quotes can back its verdict."""
+    models = models if models is not None else shipped()
+    if models is None or not scan.sentences:
+        return results
+    if not any(r.id in models.judges and r.status in STATUSES for r in results):
+        return results
+    z, damp = models.scores(features_of(scan, models.buckets), [scan.weight(i) for i in range(len(scan.sentences))])
+    out = []
+    for ii, r in enumerate(results):
+        if r.id not in models.judges or r.status not in STATUSES:
+            out.append(r)
+            continue
+        hits = cue_sentences(scan, ii)
+        scores = models.item_scores(z, damp, r.id, hits)
+        x = judge_features(scores, r.status, [(f.found, f.score) for f in r.facets])
+        status = allowed(r.status, predict(models.judges[r.id], x), bool(r.evidence) or bool(hits))
+        if status == r.status:
+            out.append(r)
+            continue
+        if status in ("reported", "partial") and not r.evidence:
+            r = dataclasses.replace(r, evidence=weak_evidence(scan, ii, [f.id for f in r.facets], scores, hits))
+        out.append(moved(r, status))
+    return tuple(out)
+
+
+def weak_evidence(scan: Scan, ii: int, facet_ids: list[str], scores: list[float], hits: set[int]) -> tuple:
+    """The quotes of an item the judge found where the cues' hits counted too little on their own: the sentences
+    with a cue of the item, those the sentence scorer rates highest first."""
+    from ..matching.matcher import CUE
+    from .decide import MAX_EVIDENCE, merge_spans, trim_passage
+    from .report import Evidence
+
+    spans: dict[int, list[tuple[int, int]]] = {}
+    facets: dict[int, set[str]] = {}
+    for fi, fid in enumerate(facet_ids):
+        for h in scan.hits.get(f"{ii}:{fi}:{CUE}", ()):
+            spans.setdefault(h.sentence, []).append((h.start, h.end))
+            facets.setdefault(h.sentence, set()).add(fid)
+    out = []
+    for si in sorted(hits, key=lambda i: (-scores[i], i))[:MAX_EVIDENCE]:
+        sent = scan.sentences[si]
+        text, marked = trim_passage(sent.text, merge_spans(spans.get(si, [])))
+        out.append(Evidence(text, sent.location, round(scores[si], 3), marked,
+                            tuple(f for f in facet_ids if f in facets.get(si, ())), scan.attribution(si).kind))
+    return tuple(out)
+
+
+def moved(r: ItemResult, status: str) -> ItemResult:
+    """An item whose verdict the judge moved, with a reason that says so and what the cues found."""
+    found = [f.title for f in r.facets if f.found]
+    cues = "the cues found " + "; ".join(found) if found else "the cues found nothing that counts"
+    if status == "reported":
+        reason = (f"judged reported: {cues}, and careful readers count passages like these as reporting it"
+                  f" (the cues alone said {r.status})")
+        return dataclasses.replace(r, status=status, reason=reason, lacking=())
+    if status == "partial":
+        if r.status == "missing":
+            reason = ("judged partial: the cues' passages counted too little on their own (the cues alone said "
+                      "missing), but careful readers count passages like these as a partial report")
+        elif r.status == "reported":
+            reason = (f"judged partial: {cues}, but careful readers often find passages like these incomplete;"
+                      " check that they give every detail the question asks (the cues alone said reported)")
+        else:
+            reason = f"judged partial: {cues} (the cues alone said {r.status})"
+        return dataclasses.replace(r, status=status, reason=reason, lacking=())
+    reason = (f"judged missing: {cues}, but careful readers seldom count passages like these as reporting it;"
+              f" read them to be sure (the cues alone said {r.status})")
+    return dataclasses.replace(r, status=status, reason=reason, lacking=())

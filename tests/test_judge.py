@@ -1,0 +1,195 @@
+"""The learned judge: it moves a cue verdict only where quotes back the new one, says so in the reason, computes
+what scikit-learn's logistic regression computes, and can be turned off."""
+
+from __future__ import annotations
+
+import json
+import subprocess
+import sys
+
+import pytest
+
+from checker.core.config import Config, parse_config
+from checker.core.errors import ChecklistError, UsageError
+from checker.engine import check_text, compiled_for
+from checker.matching.checklist import builtin_ids, load_checklist
+from checker.verdicts.decide import evaluate
+from checker.verdicts.judge import (Models, allowed, judge_features, parse_model, predict, rejudge, sentence_features,
+                                    shipped)
+
+from .conftest import DEMO
+
+N_FEATURES = len(judge_features([], "missing", []))
+TEXT = ("Two radiologists with ten years of experience each outlined every lesion. We report the Dice "
+        "similarity coefficient per case.")
+
+
+def _always(status: str, items: list[str]) -> Models:
+    """Models whose judge says `status` whatever it reads (one class), for every item named."""
+    sentence = {i: {"bias": 0.0, "cue": 0.0, "words": {}} for i in items}
+    return Models.build(16, sentence, {i: {"classes": [status], "coef": [], "intercept": []} for i in items})
+
+
+def _scan_and_results(text: str, checklist: str = "validation-study"):
+    from checker.engine import document_from_text
+
+    compiled = compiled_for(checklist)
+    scan = compiled.scan(document_from_text(text))
+    return scan, evaluate(compiled, scan, {})
+
+
+def test_the_judge_never_makes_an_item_reported_without_a_quote_to_show():
+    assert allowed("missing", "reported", has_evidence=False) == "missing"
+    assert allowed("missing", "partial", has_evidence=False) == "missing"
+    assert allowed("missing", "partial", has_evidence=True) == "partial"
+    assert allowed("reported", "partial", has_evidence=True) == "partial"
+    assert allowed("partial", "reported", has_evidence=True) == "reported"
+    # the cues' not-applicable and a user's waiver are not the judge's to move
+    assert allowed("not-applicable", "reported", has_evidence=True) == "not-applicable"
+    assert allowed("waived", "missing", has_evidence=True) == "waived"
+
+
+def test_a_moved_verdict_says_so_and_keeps_the_cues_quotes():
+    scan, results = _scan_and_results(TEXT)
+    before = {r.id: r for r in results}
+    assert before["reference.annotators"].status == "reported"
+    from checker.verdicts.judge import cue_sentences
+
+    silent = [r.id for ii, r in enumerate(results) if r.status == "missing" and not cue_sentences(scan, ii)]
+    assert silent
+    after = {r.id: r for r in rejudge(scan, results, _always("partial", ["reference.annotators", *silent]))}
+    moved = after["reference.annotators"]
+    assert moved.status == "partial"
+    assert moved.reason.startswith("judged partial") and "the cues alone said reported" in moved.reason
+    assert moved.evidence == before["reference.annotators"].evidence  # the quotes stay the cues' sentences
+    # an item without a sentence where its cues were found stays missing, whatever the judge says
+    assert all(after[i].status == "missing" for i in silent)
+    # items the models do not know keep the cues' verdict
+    assert after["metrics.definition"] == before["metrics.definition"]
+
+
+def test_an_item_raised_from_missing_quotes_the_cue_sentences_that_counted_too_little():
+    # the cues' verdict as it is when the annotators sentence counts too little (e.g. a low-weight section):
+    # missing, no quotes, but a cue hit in the scan; a judge that calls the item partial must show that sentence
+    import dataclasses
+
+    scan, results = _scan_and_results(TEXT)
+    weak = tuple(dataclasses.replace(r, status="missing", evidence=()) if r.id == "reference.annotators" else r
+                 for r in results)
+    after = next(r for r in rejudge(scan, weak, _always("partial", ["reference.annotators"]))
+                 if r.id == "reference.annotators")
+    assert after.status == "partial" and after.reason.startswith("judged partial")
+    assert "the cues alone said missing" in after.reason
+    assert after.evidence and "radiologists" in after.evidence[0].text
+    assert after.evidence[0].matches  # the cue's words are marked as in any quote
+
+
+def test_a_judged_missing_item_asks_about_the_passages_it_found():
+    from checker.engine import build_report, document_from_text
+    from checker.reports.markdown import request
+
+    scan, results = _scan_and_results(TEXT)
+    moved = rejudge(scan, results, _always("missing", ["reference.annotators"]))
+    item = next(r for r in moved if r.id == "reference.annotators")
+    assert item.status == "missing" and item.evidence
+    report = build_report(document_from_text(TEXT), compiled_for("validation-study").checklist, moved, "", ())
+    text = request(item, report)
+    assert "do not seem to answer it" in text and "could not find" not in text
+
+
+def test_scores_and_statuses_equal_scikit_learns_logistic_regression():
+    # External check: the judge reads its shipped coefficients the way scikit-learn's LogisticRegression
+    # predicts (predict_proba for the sentence scorer, predict for the three-class judge)
+    np = pytest.importorskip("numpy")
+    linear = pytest.importorskip("sklearn.linear_model")
+    rng = np.random.RandomState(3)
+    buckets = 64
+    features = [sorted(set(rng.randint(0, buckets, size=rng.randint(1, 8)).tolist())) for _ in range(120)]
+    hit = rng.rand(120) < 0.3
+    x = np.zeros((120, buckets + 1))
+    for i, fs in enumerate(features):
+        x[i, fs] = 1
+    x[:, buckets] = hit
+    y = ((x[:, 3] + x[:, 7] + hit) > 0.5).astype(int)
+    lr = linear.LogisticRegression(C=0.5, solver="liblinear").fit(x, y)
+    words = {b: float(w) for b, w in enumerate(lr.coef_[0][:buckets]) if w}
+    sentence = {"bias": float(lr.intercept_[0]), "cue": float(lr.coef_[0][buckets]), "words": words}
+    j = rng.rand(90, N_FEATURES)
+    labels = np.array(["missing", "partial", "reported"])[(j[:, 0] * 2 + j[:, 5] + rng.rand(90) * 0.5).astype(int) % 3]
+    judge = linear.LogisticRegression(max_iter=3000).fit(j, labels)
+    models = Models.build(buckets, {"data.source": sentence},
+                          {"data.source": {"classes": list(judge.classes_), "coef": judge.coef_.tolist(),
+                                           "intercept": judge.intercept_.tolist()}})
+    z, damp = models.scores(features, [0.9] * 120)
+    got = models.item_scores(z, damp, "data.source", set(np.flatnonzero(hit).tolist()))
+    assert np.allclose(got, lr.predict_proba(x)[:, 1], atol=1e-9)
+    assert [predict(models.judges["data.source"], row.tolist()) for row in j] == judge.predict(j).tolist()
+
+
+def test_a_sentence_standing_where_evidence_counts_little_scores_lower():
+    models = Models.build(8, {"a": {"bias": 2.0, "cue": 0.0, "words": {}}}, {})
+    z, damp = models.scores([[1], [1]], [0.9, 0.3])
+    high, low = models.item_scores(z, damp, "a", set())
+    assert low == pytest.approx(high / 3)
+
+
+def test_features_are_hashed_words_numbers_and_where_the_sentence_stands():
+    a = sentence_features(["two", "rater", "label", "120", "case"], "methods", "paragraph", "this-study", 1 << 18)
+    b = sentence_features(["two", "rater", "label", "75", "case"], "methods", "paragraph", "this-study", 1 << 18)
+    c = sentence_features(["two", "rater", "label", "75", "case"], "introduction", "paragraph", "this-study", 1 << 18)
+    assert a == b  # any number is the same word
+    assert a != c  # the section is a feature
+    assert a == sorted(set(a)) and all(0 <= f < 1 << 18 for f in a)
+
+
+def test_a_damaged_model_file_is_named():
+    with pytest.raises(ChecklistError, match=r"checklists/judge.json:1:1: not a judge model"):
+        parse_model("{not json", "checklists/judge.json")
+    bad = {"buckets": 8, "items": {"x": {"sentence": {"bias": 0, "cue": 0, "words": {"9": 1.0}},
+                                         "judge": {"classes": ["reported"], "coef": [], "intercept": []}}}}
+    with pytest.raises(ChecklistError, match="outside 0..7"):
+        parse_model(json.dumps(bad), "judge.json")
+    bad["items"]["x"]["sentence"]["words"] = {}
+    bad["items"]["x"]["judge"] = {"classes": ["done"], "coef": [], "intercept": []}
+    with pytest.raises(ChecklistError, match="unknown status"):
+        parse_model(json.dumps(bad), "judge.json")
+
+
+def test_the_shipped_judge_knows_only_items_of_the_built_in_checklists():
+    models = shipped()
+    assert models is not None, "checklists/judge.json is shipped (python benchmarks/learned.py --write)"
+    ids = {it.id for cid in builtin_ids() for it in load_checklist(cid).items}
+    assert set(models.judges) <= ids
+    assert {"data.source", "reference.annotators", "metrics.definition"} <= set(models.judges)
+
+
+def test_the_settings_and_the_command_line_can_leave_the_verdicts_to_the_cues(learned_judge, monkeypatch):
+    assert Config().judge == "learned"
+    monkeypatch.setenv("STUDYGAP_JUDGE", "cues")
+    assert Config().judge == "cues"
+    monkeypatch.setenv("STUDYGAP_JUDGE", "learned")
+    assert parse_config({"judge": "cues"}, "studygap.yaml").judge == "cues"
+    with pytest.raises(UsageError, match="judge must be 'learned' or 'cues'"):
+        parse_config({"judge": "model"}, "studygap.yaml")
+    doc = DEMO / "wrist-fracture-manuscript.md"
+    out = {}
+    for judge in ("learned", "cues"):
+        p = subprocess.run([sys.executable, "-m", "checker.cli", "check", str(doc), "--format", "json", "--no-cache",
+                            "--quiet", "--judge", judge], capture_output=True, text=True, check=False)
+        assert p.returncode == 0, p.stderr
+        out[judge] = {it["id"]: it for it in json.loads(p.stdout)["items"]}
+    for item_id, it in out["cues"].items():
+        assert not it["reason"].startswith("judged "), item_id
+    for item_id, it in out["learned"].items():
+        if it["status"] != out["cues"][item_id]["status"]:
+            assert it["reason"].startswith("judged "), item_id
+
+
+def test_a_checklist_of_the_users_own_keeps_the_cues_verdicts(tmp_path):
+    own = tmp_path / "mine.yaml"
+    from importlib import resources
+
+    own.write_text(resources.files("checker.checklists").joinpath("validation-study.yaml").read_text(encoding="utf-8"),
+                   encoding="utf-8")
+    report = check_text(TEXT, str(own))
+    assert not any(it.reason.startswith("judged ") for it in report.items)
