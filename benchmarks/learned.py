@@ -47,7 +47,7 @@ def _check(task):
     from checker.matching.nlp import parse_blocks
     from checker.reading import read_document
     from checker.verdicts.decide import evaluate
-    from checker.verdicts.judge import cue_sentences, features_of
+    from checker.verdicts.judge import cue_sentences, features_of, quotable_sentences
 
     try:
         doc = read_document(document, DEFAULT_LIMITS)
@@ -68,6 +68,7 @@ def _check(task):
             continue
         items[item.id] = {"tool": res.status, "evidence": [e.text for e in res.evidence],
                           "hit": sorted(cue_sentences(scan, ii)), "facets": [(f.found, f.score) for f in res.facets],
+                          "quotable": bool(quotable_sentences(scan, ii, [f.id for f in item.facets])),
                           "label": labels[item.id]}
     return {"document": document, "sentences": sentences, "features": features, "items": items}
 
@@ -209,7 +210,7 @@ def main(argv: list[str] | None = None) -> int:
                 j = judges.get(r["item"])
                 tool = r["it"]["tool"]
                 free[k] = tool if j is None else predict(j, feats[k])
-                learned[k] = allowed(tool, free[k], bool(r["it"]["evidence"]) or bool(r["it"]["hit"]))
+                learned[k] = allowed(tool, free[k], bool(r["it"]["evidence"]) or r["it"]["quotable"])
         if f == args.folds:
             judges_all = judges
 

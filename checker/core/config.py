@@ -16,6 +16,14 @@ _KEYS = {"checklist", "fail-on", "fail_on", "waivers", "ignore-sections", "ignor
 JUDGES = ("learned", "cues")
 
 
+def default_judge() -> str:
+    """The judge when no setting names one: STUDYGAP_JUDGE ("learned" or "cues"), else learned."""
+    import os
+
+    value = os.environ.get("STUDYGAP_JUDGE", "").strip().lower()
+    return value if value in JUDGES else "learned"
+
+
 @dataclass(frozen=True)
 class Config:
     checklist: str = "auto"
@@ -29,15 +37,8 @@ class Config:
     source: str = "defaults"
     #: "learned": the judge fitted on labelled documents may move the cues' verdict (checker.verdicts.judge);
     #: "cues": the cues alone decide (default: STUDYGAP_JUDGE when it names one of them, else learned)
-    judge: str = field(default_factory=lambda: default_judge())
+    judge: str = field(default_factory=default_judge)
 
-
-def default_judge() -> str:
-    """The judge when no setting names one: STUDYGAP_JUDGE ("learned" or "cues"), else learned."""
-    import os
-
-    value = os.environ.get("STUDYGAP_JUDGE", "").strip().lower()
-    return value if value in JUDGES else "learned"
 
 
 def _load_toml(path: Path) -> dict[str, Any]:

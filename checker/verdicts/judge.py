@@ -13,7 +13,7 @@ checklists/judge.json, weigh that:
    facets found, best facet score) to reported, partial or missing.
 
 The judge may only move a verdict where quotes can back it: it never makes an item reported or partial without a
-cue's evidence to show, and it leaves not-applicable and waived items alone. The quotes a report shows stay the
+sentence where one of the item's facet cues was found (quoted, if the cues had counted it too little), and it leaves not-applicable and waived items alone. The quotes a report shows stay the
 cues' sentences; the reason says when the judge moved a verdict and what the cues found. `judge: cues` in the
 settings (or `--judge cues`) turns it off. No word of any document is kept in the model: only hashes of words.
 """
@@ -21,7 +21,6 @@ settings (or `--judge cues`) turns it off. No word of any document is kept in th
 from __future__ import annotations
 
 import dataclasses
-import math
 import re
 import zlib
 from functools import lru_cache
@@ -122,6 +121,10 @@ def judge_features(scores: list[float], status: str, facets: list[tuple[bool, fl
            [sum(f for f, _ in facets) / max(1, len(facets)), max([s for _, s in facets] + [0.0])]
 
 
+#: how many numbers the item judge reads
+N_JUDGE_FEATURES = len(judge_features([], "missing", []))
+
+
 def predict(judge: dict[str, Any], x: list[float]) -> str:
     """The judge's status: the class whose linear score is highest (one score: the second class when above 0)."""
     classes, coef, intercept = judge["classes"], judge["coef"], judge["intercept"]
@@ -162,7 +165,7 @@ def parse_model(text: str, file: str) -> Models:
                 raise ValueError(f"{item_id}: unknown status in {classes}")
             coef = [[float(v) for v in row] for row in j["coef"]]
             intercept = [float(v) for v in j["intercept"]]
-            if len(coef) != len(intercept) or any(len(row) != len(judge_features([], "missing", [])) for row in coef):
+            if len(coef) != len(intercept) or any(len(row) != N_JUDGE_FEATURES for row in coef):
                 raise ValueError(f"{item_id}: the judge's coefficients do not fit its features")
             sentence[str(item_id)] = {"bias": float(s["bias"]), "cue": float(s["cue"]), "words": words}
             judges[str(item_id)] = {"classes": classes, "coef": coef, "intercept": intercept}
@@ -198,8 +201,7 @@ def cue_sentences(scan: Scan, ii: int) -> set[int]:
     return {h.sentence for k, hs in scan.hits.items() if k.startswith(prefix) for h in hs}
 
 
-def rejudge(scan: Scan, results: tuple[ItemResult, ...], models: Models | None = None,
-            facets_of: dict[str, tuple[str, ...]] | None = None) -> tuple[ItemResult, ...]:
+def rejudge(scan: Scan, results: tuple[ItemResult, ...], models: Models | None = None) -> tuple[ItemResult, ...]:
     """The results with the judge's status where it has a model for the item and quotes can back its verdict."""
     models = models if models is not None else shipped()
     if models is None or not scan.sentences:
@@ -212,38 +214,47 @@ def rejudge(scan: Scan, results: tuple[ItemResult, ...], models: Models | None =
         if r.id not in models.judges or r.status not in STATUSES:
             out.append(r)
             continue
-        hits = cue_sentences(scan, ii)
-        scores = models.item_scores(z, damp, r.id, hits)
+        scores = models.item_scores(z, damp, r.id, cue_sentences(scan, ii))
         x = judge_features(scores, r.status, [(f.found, f.score) for f in r.facets])
-        status = allowed(r.status, predict(models.judges[r.id], x), bool(r.evidence) or bool(hits))
+        quotable = quotable_sentences(scan, ii, [f.id for f in r.facets])
+        status = allowed(r.status, predict(models.judges[r.id], x), bool(r.evidence) or bool(quotable))
         if status == r.status:
             out.append(r)
             continue
         if status in ("reported", "partial") and not r.evidence:
-            r = dataclasses.replace(r, evidence=weak_evidence(scan, ii, [f.id for f in r.facets], scores, hits))
+            r = dataclasses.replace(r, evidence=weak_evidence(scan, quotable, scores))
         out.append(moved(r, status))
     return tuple(out)
 
 
-def weak_evidence(scan: Scan, ii: int, facet_ids: list[str], scores: list[float], hits: set[int]) -> tuple:
+def quotable_sentences(scan: Scan, ii: int, facet_ids: list[str]) -> dict[int, tuple[list[tuple[int, int]], set[str]]]:
+    """The sentences where a facet's own cue of item ii was found (not only a `near`, `unless` or `applies_when`
+    cue), with the matched spans and the facets."""
+    from ..matching.matcher import CUE, key
+
+    out: dict[int, tuple[list[tuple[int, int]], set[str]]] = {}
+    for fi, fid in enumerate(facet_ids):
+        for h in scan.hits.get(key(ii, fi, CUE), ()):
+            spans, facets = out.setdefault(h.sentence, ([], set()))
+            spans.append((h.start, h.end))
+            facets.add(fid)
+    return out
+
+
+def weak_evidence(scan: Scan, quotable: dict[int, tuple[list[tuple[int, int]], set[str]]],
+                  scores: list[float]) -> tuple:
     """The quotes of an item the judge found where the cues' hits counted too little on their own: the sentences
-    with a cue of the item, those the sentence scorer rates highest first."""
-    from ..matching.matcher import CUE
+    with a facet's cue (see quotable_sentences), those the sentence scorer rates highest first."""
     from .decide import MAX_EVIDENCE, merge_spans, trim_passage
     from .report import Evidence
 
-    spans: dict[int, list[tuple[int, int]]] = {}
-    facets: dict[int, set[str]] = {}
-    for fi, fid in enumerate(facet_ids):
-        for h in scan.hits.get(f"{ii}:{fi}:{CUE}", ()):
-            spans.setdefault(h.sentence, []).append((h.start, h.end))
-            facets.setdefault(h.sentence, set()).add(fid)
     out = []
-    for si in sorted(hits, key=lambda i: (-scores[i], i))[:MAX_EVIDENCE]:
+    for si in sorted(quotable, key=lambda i: (-scores[i], i))[:MAX_EVIDENCE]:
+        spans, facets = quotable[si]
         sent = scan.sentences[si]
-        text, marked = trim_passage(sent.text, merge_spans(spans.get(si, [])))
-        out.append(Evidence(text, sent.location, round(scores[si], 3), marked,
-                            tuple(f for f in facet_ids if f in facets.get(si, ())), scan.attribution(si).kind))
+        text, marked = trim_passage(sent.text, merge_spans(spans))
+        out.append(Evidence(text, sent.location, round(scores[si], 3), marked, tuple(sorted(facets)),
+                            scan.attribution(si).kind))
     return tuple(out)
 
 
