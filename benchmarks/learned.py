@@ -11,7 +11,8 @@ grouped by document, so that each document is judged by models that never saw it
    trained to find the sentences that hold the labelled passage;
 2. an item judge: logistic regression from the sentence scores (best, second, mean of the top three, how many
    above one half) and the checker's own verdict (status, share of facets found, best facet score) to the
-   labelled status (reported, partial or missing).
+   labelled status (reported, partial or missing); it asks first whether the item is there at all (partial and
+   reported together against missing), then which of the two.
 
 It prints, per labelled folder, the checker's figures against the learned ones (binary macro-F1, kappa,
 three-class agreement), and how often the top three sentences cover the labelled passage for the checker's
@@ -89,14 +90,14 @@ def _sentence_model(lr, keep: int) -> dict:
 NO_WORDS = {"bias": -30.0, "cue": 0.0, "words": {}}
 
 
-def _judge_model(y: list[str], x: list[list[float]]) -> dict:
+def _judge_model(y: list[str], x: list[list[float]], positive_first: bool = True) -> dict:
     from sklearn.linear_model import LogisticRegression
 
     if len(set(y)) < 2:
         return {"classes": [y[0]], "coef": [], "intercept": []}
     m = LogisticRegression(max_iter=3000).fit(x, y)
     return {"classes": [str(c) for c in m.classes_], "coef": [[round(float(v), 4) for v in row] for row in m.coef_],
-            "intercept": [round(float(v), 4) for v in m.intercept_]}
+            "intercept": [round(float(v), 4) for v in m.intercept_], "positive_first": positive_first}
 
 
 def main(argv: list[str] | None = None) -> int:
@@ -110,6 +111,8 @@ def main(argv: list[str] | None = None) -> int:
     ap.add_argument("--jobs", type=int, default=min(2, os.cpu_count() or 1))
     ap.add_argument("--write", action="store_true",
                     help=f"store the models fitted on all documents but --test ones in checklists/{JUDGE_FILE}")
+    ap.add_argument("--compare", action="store_true",
+                    help="also show the judge that takes the likeliest of the three statuses at once")
     ap.add_argument("--dump", type=Path, help="write every labelled item's statuses (cues, judge, human) as JSON")
     args = ap.parse_args(argv)
     if not (args.dev / "labels").is_dir():
@@ -195,24 +198,34 @@ def main(argv: list[str] | None = None) -> int:
         print(f"  round {f + 1} of {len(rounds)} scored", file=sys.stderr)
 
     feats = {k: judge_features(scores[k], r["it"]["tool"], r["it"]["facets"]) for k, r in enumerate(rows)}
-    learned: dict[int, str] = {}
-    free: dict[int, str] = {}  # what the judge said before `allowed` (for --dump)
+    # the shipped judge asks first whether the item is there at all; --compare also shows the one that takes the
+    # likeliest of the three statuses at once
+    variants = {"judged": True, "argmax": False} if args.compare else {"judged": True}
+    learned_by: dict[str, dict[int, str]] = {}
+    free: dict[int, str] = {}  # what the shipped judge said before `allowed` (for --dump)
     judges_all: dict[str, dict] = {}
-    for f in rounds:
-        by_item = defaultdict(list)
-        for k, r in enumerate(rows):
-            if learns_from(r["doc"]["document"], f):
-                by_item[r["item"]].append(k)
-        judges = {item_id: _judge_model([three_class(rows[k]["human"]) for k in ks], [feats[k] for k in ks])
-                  for item_id, ks in sorted(by_item.items())}
-        for k, r in enumerate(rows):
-            if fold[r["doc"]["document"]] == f:
-                j = judges.get(r["item"])
-                tool = r["it"]["tool"]
-                free[k] = tool if j is None else predict(j, feats[k])
-                learned[k] = allowed(tool, free[k], bool(r["it"]["evidence"]) or r["it"]["quotable"])
-        if f == args.folds:
-            judges_all = judges
+    for variant, positive_first in variants.items():
+        learned: dict[int, str] = {}
+        for f in rounds:
+            by_item = defaultdict(list)
+            for k, r in enumerate(rows):
+                if learns_from(r["doc"]["document"], f):
+                    by_item[r["item"]].append(k)
+            judges = {item_id: _judge_model([three_class(rows[k]["human"]) for k in ks], [feats[k] for k in ks],
+                                            positive_first)
+                      for item_id, ks in sorted(by_item.items())}
+            for k, r in enumerate(rows):
+                if fold[r["doc"]["document"]] == f:
+                    j = judges.get(r["item"])
+                    tool = r["it"]["tool"]
+                    said = tool if j is None else predict(j, feats[k])
+                    learned[k] = allowed(tool, said, bool(r["it"]["evidence"]) or r["it"]["quotable"])
+                    if variant == "judged":
+                        free[k] = said
+            if f == args.folds and variant == "judged":
+                judges_all = judges
+        learned_by[variant] = learned
+    learned = learned_by["judged"]
 
     print(f"\n{len(documents)} documents, {len(rows)} labelled items, {args.folds} folds grouped by document"
           + (f"; never trained on: {', '.join(sorted(tested))}" if tested else ""))
@@ -223,7 +236,9 @@ def main(argv: list[str] | None = None) -> int:
     if tested:
         groups.append(("all tested", [k for k, r in enumerate(rows) if folder_of[r["doc"]["document"]] in tested]))
     for folder, ks in groups:
-        for name, tool in (("cues", lambda k: rows[k]["it"]["tool"]), ("judged", lambda k: learned[k])):
+        shown = [("cues", lambda k: rows[k]["it"]["tool"])] + \
+            [(v, lambda k, v=v: learned_by[v][k]) for v in variants]
+        for name, tool in shown:
             pairs = [Pair(rows[k]["doc"]["document"], "", rows[k]["item"], rows[k]["item"], rows[k]["human"],
                           tool(k)) for k in ks]
             both = [k for k in ks if rows[k]["human"] in POSITIVE and rows[k]["it"]["tool"] in POSITIVE

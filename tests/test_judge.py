@@ -124,6 +124,26 @@ def test_scores_and_statuses_equal_scikit_learns_logistic_regression():
     got = models.item_scores(z, damp, "data.source", set(np.flatnonzero(hit).tolist()))
     assert np.allclose(got, lr.predict_proba(x)[:, 1], atol=1e-9)
     assert [predict(models.judges["data.source"], row.tolist()) for row in j] == judge.predict(j).tolist()
+    # the shipped judges ask first whether the item is there at all: partial and reported together against
+    # missing, from the same predict_proba, then the likelier of the two
+    first = {**models.judges["data.source"], "positive_first": True}
+    p = judge.predict_proba(j)
+    k = {c: i for i, c in enumerate(judge.classes_)}
+    expected = ["missing" if p[n, k["missing"]] >= p[n, k["partial"]] + p[n, k["reported"]] else
+                ("partial" if p[n, k["partial"]] >= p[n, k["reported"]] else "reported") for n in range(len(j))]
+    assert [predict(first, row.tolist()) for row in j] == expected
+    assert expected != judge.predict(j).tolist()  # the two rules differ on this sample
+
+
+def test_an_item_that_is_likelier_there_than_not_is_not_judged_missing():
+    # missing 0.4, partial 0.3, reported 0.3: the likeliest single status is missing, yet the item is likelier
+    # there (0.6) than not; the judge then says which of the two, partial on a tie
+    import math
+
+    judge = {"classes": ["missing", "partial", "reported"], "coef": [[0.0], [0.0], [0.0]],
+             "intercept": [math.log(0.4), math.log(0.3), math.log(0.3)]}
+    assert predict(judge, [0.0]) == "missing"
+    assert predict({**judge, "positive_first": True}, [0.0]) == "partial"
 
 
 def test_a_sentence_standing_where_evidence_counts_little_scores_lower():

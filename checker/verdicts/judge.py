@@ -10,7 +10,8 @@ checklists/judge.json, weigh that:
    block kind, whose statement it is and whether a cue of the item is in it; it scores how likely the sentence
    holds what the item asks;
 2. an item judge: a logistic regression from the best sentence scores and the cues' own verdict (status, share of
-   facets found, best facet score) to reported, partial or missing.
+   facets found, best facet score) to reported, partial or missing; it first weighs whether the item is there at
+   all (partial and reported together against missing), then which of the two.
 
 The judge may only move a verdict where quotes can back it: it never makes an item reported or partial without a
 sentence where one of the item's facet cues was found (quoted, if the cues had counted it too little), and it leaves not-applicable and waived items alone. The quotes a report shows stay the
@@ -21,6 +22,7 @@ settings (or `--judge cues`) turns it off. No word of any document is kept in th
 from __future__ import annotations
 
 import dataclasses
+import math
 import re
 import zlib
 from functools import lru_cache
@@ -126,13 +128,23 @@ N_JUDGE_FEATURES = len(judge_features([], "missing", []))
 
 
 def predict(judge: dict[str, Any], x: list[float]) -> str:
-    """The judge's status: the class whose linear score is highest (one score: the second class when above 0)."""
+    """The judge's status. A judge marked `positive_first` asks first whether partial and reported together are
+    likelier than missing, and only then which of the two it is (a careful reader's first question is whether the
+    item is there at all); otherwise the class whose linear score is highest (one score: the second class when
+    above 0)."""
     classes, coef, intercept = judge["classes"], judge["coef"], judge["intercept"]
     z = [b + sum(w * v for w, v in zip(row, x)) for row, b in zip(coef, intercept)]
     if len(classes) == 1:
         return classes[0]
     if len(z) == 1:
         return classes[1] if z[0] > 0 else classes[0]
+    if judge.get("positive_first") and "missing" in classes:
+        top = max(z)
+        p = {c: math.exp(v - top) for c, v in zip(classes, z)}  # the softmax of the multinomial model, unscaled
+        present = [c for c in classes if c != "missing"]
+        if sum(p[c] for c in present) > p["missing"]:
+            return max(present, key=lambda c: (p[c], -classes.index(c)))
+        return "missing"
     return classes[max(range(len(z)), key=lambda k: (z[k], -k))]
 
 
@@ -168,7 +180,8 @@ def parse_model(text: str, file: str) -> Models:
             if len(coef) != len(intercept) or any(len(row) != N_JUDGE_FEATURES for row in coef):
                 raise ValueError(f"{item_id}: the judge's coefficients do not fit its features")
             sentence[str(item_id)] = {"bias": float(s["bias"]), "cue": float(s["cue"]), "words": words}
-            judges[str(item_id)] = {"classes": classes, "coef": coef, "intercept": intercept}
+            judges[str(item_id)] = {"classes": classes, "coef": coef, "intercept": intercept,
+                                    "positive_first": bool(j.get("positive_first", False))}
     except (ValueError, KeyError, TypeError, AttributeError) as exc:
         raise ChecklistError([f"{file}:1:1: not a judge model studygap can use: {exc}"]) from None
     return Models.build(buckets, sentence, judges)
