@@ -30,6 +30,12 @@ def _always(status: str, items: list[str]) -> Models:
     return Models.build(16, sentence, {i: {"classes": [status], "coef": [], "intercept": []} for i in items})
 
 
+def _saying(statuses: dict[str, str]) -> Models:
+    """Models whose judge says, per item named, that status whatever it reads."""
+    sentence = {i: {"bias": 0.0, "cue": 0.0, "words": {}} for i in statuses}
+    return Models.build(16, sentence, {i: {"classes": [s], "coef": [], "intercept": []} for i, s in statuses.items()})
+
+
 def _scan_and_results(text: str, checklist: str = "validation-study"):
     from checker.engine import document_from_text
 
@@ -42,7 +48,8 @@ def test_the_judge_never_makes_an_item_reported_without_a_quote_to_show():
     assert allowed("missing", "reported", has_evidence=False) == "missing"
     assert allowed("missing", "partial", has_evidence=False) == "missing"
     assert allowed("missing", "partial", has_evidence=True) == "partial"
-    assert allowed("reported", "partial", has_evidence=True) == "partial"
+    assert allowed("reported", "partial", has_evidence=True) == "reported"  # complete cues are not second-guessed
+    assert allowed("reported", "missing", has_evidence=True) == "missing"
     assert allowed("partial", "reported", has_evidence=True) == "reported"
     # the cues' not-applicable and a user's waiver are not the judge's to move
     assert allowed("not-applicable", "reported", has_evidence=True) == "not-applicable"
@@ -57,15 +64,24 @@ def test_a_moved_verdict_says_so_and_keeps_the_cues_quotes():
 
     silent = [r.id for ii, r in enumerate(results) if r.status == "missing" and not cue_sentences(scan, ii)]
     assert silent
-    after = {r.id: r for r in rejudge(scan, results, _always("partial", ["reference.annotators", *silent]))}
+    after = {r.id: r for r in rejudge(scan, results, _saying({"reference.annotators": "missing",
+                                                                **{i: "partial" for i in silent}}))}
     moved = after["reference.annotators"]
-    assert moved.status == "partial"
-    assert moved.reason.startswith("judged partial") and "the cues alone said reported" in moved.reason
+    assert moved.status == "missing"
+    assert moved.reason.startswith("judged missing") and "the cues alone said reported" in moved.reason
     assert moved.evidence == before["reference.annotators"].evidence  # the quotes stay the cues' sentences
     # an item without a sentence where its cues were found stays missing, whatever the judge says
     assert all(after[i].status == "missing" for i in silent)
     # items the models do not know keep the cues' verdict
     assert after["metrics.definition"] == before["metrics.definition"]
+
+
+def test_the_judge_does_not_call_incomplete_what_the_cues_found_complete():
+    scan, results = _scan_and_results(TEXT)
+    before = {r.id: r for r in results}
+    assert before["reference.annotators"].status == "reported"
+    after = {r.id: r for r in rejudge(scan, results, _always("partial", ["reference.annotators"]))}
+    assert after["reference.annotators"] == before["reference.annotators"]
 
 
 def test_an_item_raised_from_missing_quotes_the_cue_sentences_that_counted_too_little():
