@@ -24,16 +24,15 @@ TEXT = ("Two radiologists with ten years of experience each outlined every lesio
         "similarity coefficient per case.")
 
 
-def _always(status: str, items: list[str]) -> Models:
-    """Models whose judge says `status` whatever it reads (one class), for every item named."""
-    sentence = {i: {"bias": 0.0, "cue": 0.0, "words": {}} for i in items}
-    return Models.build(16, sentence, {i: {"classes": [status], "coef": [], "intercept": []} for i in items})
-
-
 def _saying(statuses: dict[str, str]) -> Models:
-    """Models whose judge says, per item named, that status whatever it reads."""
+    """Models whose judge says, per item named, that status whatever it reads (one class)."""
     sentence = {i: {"bias": 0.0, "cue": 0.0, "words": {}} for i in statuses}
     return Models.build(16, sentence, {i: {"classes": [s], "coef": [], "intercept": []} for i, s in statuses.items()})
+
+
+def _always(status: str, items: list[str]) -> Models:
+    """Models whose judge says `status` whatever it reads, for every item named."""
+    return _saying({i: status for i in items})
 
 
 def _scan_and_results(text: str, checklist: str = "validation-study"):

@@ -282,12 +282,9 @@ def moved(r: ItemResult, status: str) -> ItemResult:
         reason = (f"judged reported: {cues}, and careful readers count passages like these as reporting it"
                   f" (the cues alone said {r.status})")
         return dataclasses.replace(r, status=status, reason=reason, lacking=())
-    if status == "partial":
-        if r.status == "missing":
-            reason = ("judged partial: the cues' passages counted too little on their own (the cues alone said "
-                      "missing), but careful readers count passages like these as a partial report")
-        else:
-            reason = f"judged partial: {cues} (the cues alone said {r.status})"
+    if status == "partial":  # only ever from missing: `allowed` keeps a reported item reported
+        reason = ("judged partial: the cues' passages counted too little on their own (the cues alone said "
+                  "missing), but careful readers count passages like these as a partial report")
         return dataclasses.replace(r, status=status, reason=reason, lacking=())
     reason = (f"judged missing: {cues}, but careful readers seldom count passages like these as reporting it;"
               f" read them to be sure (the cues alone said {r.status})")
