@@ -64,7 +64,23 @@ def test_an_item_may_choose_facets_and_needs_of_its_concept():
     assert [f.id for f in item.facets] == ["word"] and item.needs == (("word",),)
 
 
+def test_an_item_may_say_a_facet_completes_it_only_without_another():
+    # a count of pets is the whole answer, unless the text also speaks of pets in words it leaves vague
+    lib = parse_concepts(LIB, "lib.yaml")
+    cl = parse_checklist(_checklist("    concept: demo.pets\n    only_without: {count: [word]}\n"), "c.yaml",
+                         concepts=lib)
+    assert dict((f.id, f.only_without) for f in cl.items[0].facets) == {"count": ("word",), "word": ()}
+    assert lib["demo.pets"].facets[0].only_without == ()  # the concept itself is unchanged
+    from checker.verdicts.decide import decide, only_without_of
+
+    held = only_without_of(cl.items[0])
+    assert decide({"count"}, (("count",),), False, only_without=held) == "reported"
+    assert decide({"count", "word"}, (("count",),), False, only_without=held) == "partial"
+
+
 @pytest.mark.parametrize("item_yaml, message", [
+    ("    concept: demo.pets\n    only_without: {count: [wrod]}\n",
+     "names facet 'wrod', which is not another facet of this item (did you mean 'word'?)"),
     ("    concept: demo.pet\n", "no concept 'demo.pet' in the concept library (did you mean 'demo.pets'?)"),
     ("    concept: demo.pets\n    uses: [colour]\n", "names facet 'colour', which concept 'demo.pets' does not have"),
     ("    concept: demo.pets\n    facets:\n      - id: x\n        phrases: [x]\n",

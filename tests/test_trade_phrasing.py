@@ -93,3 +93,18 @@ def test_releasing_every_annotators_labels_unmerged_is_a_fusion_design():
     # subjective labels)
     text = "Each image was labelled by three annotators. We provide the full, non-aggregated dataset."
     assert _status(text, "dataset-description", "reference.fusion") == "reported"
+
+
+@pytest.mark.parametrize("text, status", [
+    # a dataset that defines no split is wholly counted by its total (common practice in dataset cards)
+    ("The dataset contains 1,797 images of handwritten digits.", "reported"),
+    # one that names its own split but leaves out the sizes reports only part of its counts (the development
+    # set's labelling conventions: totals without the split sizes are partial)
+    ("The dataset contains 1,797 images of handwritten digits. We recommend the official split into training "
+     "and test images.", "partial"),
+    ("The dataset contains 1,797 images. Use the predefined train/val/test splits.", "partial"),
+    # a split its source had is not the dataset's own
+    ("The dataset contains 1,797 images; it is a copy of the test set of an older collection.", "reported"),
+])
+def test_a_datasets_total_is_its_whole_count_unless_it_names_a_split_without_sizes(text, status):
+    assert _status(text, "dataset-description", "data.counts") == status

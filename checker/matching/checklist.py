@@ -6,6 +6,7 @@ that has any.
 
 from __future__ import annotations
 
+import dataclasses
 import re
 from dataclasses import dataclass, field
 from functools import lru_cache
@@ -370,6 +371,24 @@ def _facets(p: Problems, fields: dict[str, Node], path: str) -> list[Facet]:
     return facets
 
 
+def _only_without(p: Problems, node: Node, path: str, facets: list[Facet]) -> list[Facet]:
+    """The concept's facets with the item's own `only_without: {facet: [facets]}`: which facets complete this item
+    only in a document where none of the others is found (a dataset's total is its whole count unless the document
+    names a split whose sizes it leaves out)."""
+    ids = [f.id for f in facets]
+    fields = fields_of(p, node, path, set(), set(ids))
+    wanted = {}
+    for fid, sub in fields.items():
+        others = texts_of(p, sub, join_path(path, fid))
+        for other in others:
+            if other not in ids or other == fid:
+                hint = closest(other, set(ids) - {fid})
+                p.add(sub, join_path(path, fid), f"names facet {other!r}, which is not another facet of this item"
+                      + (f" (did you mean {hint!r}?)" if hint else ""))
+        wanted[fid] = tuple(others)
+    return [dataclasses.replace(f, only_without=wanted[f.id]) if f.id in wanted else f for f in facets]
+
+
 def _headings(p: Problems, fields: dict[str, Node], path: str) -> tuple[str, ...]:
     """The words of `headings:`, each checked to make a usable cue (letters, at most five words)."""
     node = fields.get("headings")
@@ -397,7 +416,7 @@ def _item(p: Problems, node: Node, path: str, groups: set[str],
     fields = fields_of(
         p, node, path,
         {"id", "group", "title", "question", "why", "ask"} | (set() if has_concept else {"facets"}),
-        {"sources", "needs", "applies_when", "examples", "concept", "facets", "uses", "headings"},
+        {"sources", "needs", "applies_when", "examples", "concept", "facets", "uses", "headings", "only_without"},
     )
     if not fields:
         return None
@@ -419,6 +438,9 @@ def _item(p: Problems, node: Node, path: str, groups: set[str],
             hint = closest(cid, set(concepts or ()))
             p.add(fields["concept"], join_path(path, "concept"), f"no concept {cid!r} in the concept library"
                   + (f" (did you mean {hint!r}?)" if hint else ""))
+    if "only_without" in fields and concept is None and "concept" not in fields:
+        p.add(fields["only_without"], join_path(path, "only_without"),
+              "only an item with a concept sets only_without here (an item's own facets say it themselves)")
     if "uses" in fields and concept is None and "concept" not in fields:
         p.add(fields["uses"], join_path(path, "uses"), "only an item with a concept can choose which of its facets it uses")
     if concept is not None:
@@ -430,6 +452,8 @@ def _item(p: Problems, node: Node, path: str, groups: set[str],
                     p.add(fields["uses"], join_path(path, "uses"), f"names facet {w!r}, which concept {concept.id!r} "
                           f"does not have (it has {', '.join(f.id for f in facets)})")
             facets = [f for f in facets if f.id in wanted]
+        if "only_without" in fields:
+            facets = _only_without(p, fields["only_without"], join_path(path, "only_without"), facets)
         ids = {f.id for f in facets}
         if "needs" in fields:
             needs = _needs(p, fields["needs"], join_path(path, "needs"), [f.id for f in facets])
