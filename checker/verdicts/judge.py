@@ -151,15 +151,13 @@ def predict(judge: dict[str, Any], x: list[float]) -> str:
 def allowed(cue_status: str, judged: str, has_evidence: bool) -> str:
     """The judge's status where quotes can back it: without a sentence where a cue of the item was found (even one
     that counted too little on its own) an item stays missing; an item the cues found not applicable or a waived
-    one keeps its status; and an item whose cues found every detail the question asks stays reported. Lowering such
-    an item was as often wrong as right on documents the judge never saw, and for items that few documents report
-    (missing outputs) it dismissed plain statements such as "cases without a prediction are assigned the worst
-    value", because the judge had seen too few of them to score their words."""
+    one keeps its status; and an item whose cues found every detail the question asks stays reported rather than
+    partial (on the labelled documents such moves were as often wrong as right)."""
     if cue_status not in STATUSES:
         return cue_status
     if judged in ("reported", "partial") and not has_evidence:
         return cue_status
-    if cue_status == "reported":
+    if cue_status == "reported" and judged == "partial":
         return cue_status
     return judged
 
