@@ -101,6 +101,21 @@ READINGS = [
                  id="a-specialist"),
     pytest.param(DS, "reference.annotators", "Labels were assigned using a rule-based script.", "missing",
                  id="a-script"),
+    # ... or as a service, a team or a kind of worker (common practice in dataset cards)
+    pytest.param(DS, "reference.annotators", "The transcriptions are done by a data company.", "partial",
+                 id="done-by-a-company"),
+    pytest.param(DS, "reference.annotators", "Skin types were labelled through two data annotation services.",
+                 "partial", id="annotation-services"),
+    pytest.param(DS, "reference.annotators", "The labels were collected from crowd and in-house workers.",
+                 "partial", id="in-house-workers"),
+    pytest.param(DS, "reference.annotators", "Results are provided by the organisers.", "not-applicable",
+                 id="not-a-labeller"),
+    # releasing every annotator's labels apart is a design statement about fusion (common practice for
+    # subjective labels)
+    pytest.param(DS, "reference.fusion", "Each conversation was annotated by two workers. Both annotations are "
+                 "included in this collection.", "reported", id="both-annotations-included"),
+    pytest.param(DS, "reference.fusion", "All images are included in the archive.", "not-applicable",
+                 id="not-annotations"),
     # accuracy as a virtue of annotations or text, as annotation guidelines and datasheets use the word (common
     # practice), is no metric; accuracy as the metric still is one
     pytest.param(VS, "metrics.definition", "Annotators follow a fixed process for each document to ensure "
