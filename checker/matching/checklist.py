@@ -362,13 +362,19 @@ def _facets(p: Problems, fields: dict[str, Node], path: str) -> list[Facet]:
             facets.append(f)
         ids = [f.id for f in facets]
         for i, fnode, f in placed:
-            for other in f.only_without:
-                if other not in ids or other == f.id:
-                    hint = closest(other, set(ids) - {f.id})
-                    p.add(fnode, f"{join_path(path, 'facets')}[{i}] -> only_without",
-                          f"names facet {other!r}, which is not another facet here"
-                          + (f" (did you mean {hint!r}?)" if hint else ""))
+            _check_only_without(p, fnode, f"{join_path(path, 'facets')}[{i}] -> only_without", f.id,
+                                f.only_without, ids)
     return facets
+
+
+def _check_only_without(p: Problems, node: Node, path: str, fid: str, others: tuple[str, ...],
+                        ids: list[str]) -> None:
+    """Each facet that `only_without` names must be another facet of the same item."""
+    for other in others:
+        if other not in ids or other == fid:
+            hint = closest(other, set(ids) - {fid})
+            p.add(node, path, f"names facet {other!r}, which is not another facet of this item"
+                  + (f" (did you mean {hint!r}?)" if hint else ""))
 
 
 def _only_without(p: Problems, node: Node, path: str, facets: list[Facet]) -> list[Facet]:
@@ -379,13 +385,8 @@ def _only_without(p: Problems, node: Node, path: str, facets: list[Facet]) -> li
     fields = fields_of(p, node, path, set(), set(ids))
     wanted = {}
     for fid, sub in fields.items():
-        others = texts_of(p, sub, join_path(path, fid))
-        for other in others:
-            if other not in ids or other == fid:
-                hint = closest(other, set(ids) - {fid})
-                p.add(sub, join_path(path, fid), f"names facet {other!r}, which is not another facet of this item"
-                      + (f" (did you mean {hint!r}?)" if hint else ""))
-        wanted[fid] = tuple(others)
+        wanted[fid] = texts_of(p, sub, join_path(path, fid))
+        _check_only_without(p, sub, join_path(path, fid), fid, wanted[fid], ids)
     return [dataclasses.replace(f, only_without=wanted[f.id]) if f.id in wanted else f for f in facets]
 
 
