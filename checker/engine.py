@@ -277,7 +277,8 @@ def judged(compiled: CompiledChecklist, scan, items: tuple, config: Config) -> t
         return items
     from .verdicts.judge import rejudge
 
-    return rejudge(scan, items)
+    needed = {it.id: frozenset(f for n in it.needs for f in n) for it in checklist.items if it.judge_needs_facet}
+    return rejudge(scan, items, needed=needed)
 
 
 def build_report(document: Document, checklist: Checklist, items, choice: str, warnings: tuple[str, ...],

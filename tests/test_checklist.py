@@ -101,3 +101,21 @@ def test_builtin_checklists_load_and_unknown_ids_are_named():
     with pytest.raises(UsageError) as info:
         load_checklist("no-such-list")
     assert "validation-study" in str(info.value)
+
+
+def test_a_strict_applies_when_makes_an_item_not_applicable_even_where_its_facets_are_found():
+    from checker.verdicts.decide import decide
+
+    # without strict a found facet makes the item reported although nothing calls for it; with it, not-applicable
+    needs = (("count", "expertise"),)
+    assert decide({"count", "expertise"}, needs, True) == "reported"
+    assert decide({"count", "expertise"}, needs, True, strict=True) == "not-applicable"
+    assert decide({"count"}, needs, False, strict=True) == "partial"
+    cl = parse_checklist(GOOD, "mini.yaml")
+    assert cl.item("reference.annotators").applies_when.strict is False
+    strict = GOOD.replace("reason: the document describes", "strict: true\n      reason: the document describes", 1)
+    cl = parse_checklist(strict, "mini.yaml")
+    assert cl.item("reference.annotators").applies_when.strict is True
+    bad = GOOD.replace("reason: the document describes", "strict: maybe\n      reason: the document describes", 1)
+    (p,) = problems(bad)
+    assert "applies_when -> strict: expected true or false, got text" in p

@@ -175,3 +175,15 @@ def test_a_reference_computed_by_a_stated_method_says_how_it_was_made_unless_peo
     drawn = "Contours drawn by two radiologists served as the ground truth."
     assert _status(derived, "reference.protocol") == "reported"
     assert _status(drawn, "reference.protocol") != "reported"
+
+
+def test_a_concept_may_hold_the_judge_to_its_needs_and_its_items_inherit_it():
+    lib = parse_concepts(LIB.replace("    needs: [[count]]\n", "    needs: [[count]]\n    judge_needs_facet: true\n"),
+                         "lib.yaml")
+    assert lib["demo.pets"].judge_needs_facet
+    cl = parse_checklist(_checklist("    concept: demo.pets\n"), "c.yaml", concepts=lib)
+    assert cl.items[0].judge_needs_facet
+    assert not parse_concepts(LIB, "lib.yaml")["demo.pets"].judge_needs_facet
+    bad = LIB.replace("    needs: [[count]]\n", "    needs: [[count]]\n    judge_needs_facet: often\n")
+    with pytest.raises(ChecklistError, match=r"judge_needs_facet: expected true or false, got text"):
+        parse_concepts(bad, "lib.yaml")

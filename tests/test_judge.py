@@ -55,6 +55,33 @@ def test_the_judge_never_makes_an_item_reported_without_a_quote_to_show():
     assert allowed("waived", "missing", has_evidence=True) == "waived"
 
 
+def test_a_concept_can_keep_the_judge_from_completing_what_only_a_mention_found():
+    # an approximate count is partial by the labelling conventions (shared/eval/dev/README.md); a judge that says
+    # reported is held to partial where the concept sets judge_needs_facet, and obeyed where it does not
+    text = "The archive contains approximately 1,100 annotated reading passages from six school districts."
+    scan, results = _scan_and_results(text)
+    counts = next(r for r in results if r.id == "data.counts")
+    assert counts.status == "partial" and not any(f.found for f in counts.facets if f.id in ("split_counts", "total"))
+    assert load_checklist("validation-study").item("data.counts").judge_needs_facet
+    models = _saying({"data.counts": "reported"})
+    held = rejudge(scan, results, models, needed={"data.counts": frozenset({"split_counts", "total", "scheme"})})
+    free = rejudge(scan, results, models)
+    assert next(r for r in held if r.id == "data.counts").status == "partial"
+    assert next(r for r in free if r.id == "data.counts").status == "reported"
+
+
+def test_an_approximate_challenge_dataset_stays_partial_under_the_shipped_judge(learned_judge):
+    # the shipped judge alone would call this count reported (it did before the concept held it back); only a
+    # size in numbers completes it (the labelling conventions: approximate counts are partial)
+    page = ("# The Harbour Reading Challenge\n\n## Data\n\nThe challenge data contains approximately 1,100 annotated "
+            "reading passages from six school districts of the Harbour region.\nAround 900 passages are released for "
+            "training and the remaining passages form the hidden test set.\nEach passage was manually annotated with "
+            "its difficulty level.\n\n## Evaluation\n\nSubmissions are scored with macro-averaged F1 over the "
+            "difficulty levels.\n")
+    counts = next(it for it in check_text(page, "benchmark-proposal").items if it.id == "data.counts")
+    assert counts.status == "partial", counts.reason
+
+
 def test_a_moved_verdict_says_so_and_keeps_the_cues_quotes():
     scan, results = _scan_and_results(TEXT)
     before = {r.id: r for r in results}

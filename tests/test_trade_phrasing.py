@@ -72,7 +72,7 @@ def test_split_sizes_in_a_table_are_counts(tmp_path):
     assert counts(results) == "missing"  # scores per split are not split sizes
 
 
-DS, VS = "dataset-description", "validation-study"
+DS, VS, BP = "dataset-description", "validation-study", "benchmark-proposal"
 
 READINGS = [
     # datasheets state the size of a corpus with "there are" (common practice in dataset cards); a dataset that
@@ -125,7 +125,45 @@ READINGS = [
     pytest.param(VS, "metrics.definition", "We report the classification accuracy on the test set.", "reported",
                  id="accuracy-metric"),
     pytest.param(VS, "metrics.definition", "Models were compared for accuracy on the test set.", "reported",
-                 id="compared-for-accuracy"),
+                 id="compared-for-accuracy"),    # the statistician's bootstrap is rank uncertainty; the verb and a random forest's bootstrap samples are not
+    # (common practice in statistics sections, and in machine-learning and challenge texts)
+    pytest.param(VS, "ranking.uncertainty", "Confidence intervals of the Dice differences between the methods were "
+                 "computed from 1,000 bootstrap resamples of the test cases.", "reported", id="bootstrap-intervals"),
+    pytest.param(VS, "ranking.uncertainty", "The two models were compared with a paired bootstrap of their AUC.",
+                 "reported", id="paired-bootstrap"),
+    pytest.param(VS, "ranking.uncertainty", "Participants may bootstrap their solutions from the models of the "
+                 "previous phase and compare their scores.", "missing", id="bootstrap-the-verb"),
+    pytest.param(VS, "ranking.uncertainty", "Each tree of the random forest draws bootstrap samples of the training "
+                 "data; its performance is measured by accuracy.", "missing", id="random-forest-bootstrap"),
+    # a draft's placeholder is no statement (common practice in drafts: "[to be added]", "(TBD)")
+    pytest.param(VS, "ranking.uncertainty", "[Statistical tests of the differences between methods to be added]",
+                 "missing", id="placeholder"),
+    # a rule on external data stated with a modal (common practice in challenge rules)
+    pytest.param(BP, "data.external-policy", "Participants' models could not be trained on external data.",
+                 "reported", id="could-not-be-trained"),
+    # a datasheet that names metrics without evaluating anything does not report an evaluation (the labelling
+    # conventions: evaluation items are not-applicable for a datasheet); one that evaluates baselines does
+    pytest.param(DS, "metrics.definition", "Each image is labelled benign or malignant; accuracy and sensitivity "
+                 "are the usual measures for such labels.", "not-applicable", id="datasheet-names-metrics"),
+    pytest.param(DS, "metrics.definition", "Baseline models are evaluated with the mean absolute error on the test "
+                 "set.", "reported", id="datasheet-evaluates-baselines"),    # a licence, a release and weights of the data or code, not a software key, a button or weights being trained
+    # (common practice in dataset cards and papers)
+    pytest.param(DS, "availability.data-code", "The dataset is released under the MIT license.", "reported",
+                 id="data-licence"),
+    pytest.param(DS, "availability.data-code", "The trained model weights are publicly available.", "reported",
+                 id="weights-available"),
+    pytest.param(DS, "availability.data-code", "Every licence number in the notes is annotated as an identifier.",
+                 "missing", id="licence-number"),
+    pytest.param(DS, "availability.data-code", "When the left mouse button is released, a window asks for the "
+                 "entity type.", "missing", id="button-released"),
+    pytest.param(VS, "availability.data-code", "The network weights are optimised with stochastic gradient "
+                 "descent.", "missing", id="weights-optimised"),
+    # organisers who receive results or answer e-mails set no rule on their own taking part (common practice in
+    # challenge pages); a rule names their eligibility
+    pytest.param(BP, "governance.organizer-participation", "Participants submit their outputs by email to the task "
+                 "organisers, who compute the scores.", "missing", id="submit-to-organisers"),
+    pytest.param(BP, "governance.organizer-participation", "Organisers may participate but are not eligible for "
+                 "prizes.", "reported", id="organisers-may-participate"),
 ]
 
 

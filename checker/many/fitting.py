@@ -39,6 +39,8 @@ class ItemScores:
     complete_scores: tuple[tuple[str, float], ...] = ()
     #: facets that complete the item only when none of their `only_without` facets is found (decide.decide)
     only_without: tuple[tuple[str, tuple[str, ...]], ...] = ()
+    #: the item's `applies_when` is strict: inapplicable whatever is found (decide.decide)
+    strict: bool = False
 
     def status_at(self, threshold: float, needs: tuple[tuple[str, ...], ...] | None = None) -> str:
         """The status the verdicts give at this threshold (and with these `needs` instead of the item's)."""
@@ -47,7 +49,7 @@ class ItemScores:
         return decide({f for f, s in self.facet_scores if s >= threshold},
                       self.needs if needs is None else needs, self.inapplicable_when_empty,
                       {f for f, s in self.complete_scores or self.facet_scores if s >= threshold},
-                      self.only_without)
+                      self.only_without, self.strict)
 
 
 def scores_of(document: str, checklist: str, labels: dict[str, str], limits=None) -> list[ItemScores]:
@@ -56,7 +58,7 @@ def scores_of(document: str, checklist: str, labels: dict[str, str], limits=None
     from ..core.limits import DEFAULT_LIMITS
     from ..matching.nlp import parse_blocks
     from ..reading import read_document
-    from ..verdicts.decide import applies, facet_hits, only_without_of
+    from ..verdicts.decide import applies, facet_hits, only_without_of, strict_applies
 
     limits = limits or DEFAULT_LIMITS
     doc = read_document(document, limits)
@@ -74,7 +76,7 @@ def scores_of(document: str, checklist: str, labels: dict[str, str], limits=None
             facet_scores=tuple((fh.facet.id, round(fh.score, 6)) for fh in per), needs=item.needs,
             inapplicable_when_empty=not applies(scan, ii, item),
             complete_scores=tuple((fh.facet.id, round(fh.complete_score, 6)) for fh in per),
-            only_without=only_without_of(item),
+            only_without=only_without_of(item), strict=strict_applies(item),
         ))
     return out
 

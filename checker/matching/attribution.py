@@ -82,6 +82,9 @@ _TEMPLATE = re.compile(
     r"|^\s*(?:please|kindly)\s+(?:describe|provide|state|specify|indicate|list|explain|justify|give|report|"
     r"include|summari[sz]e|name|add|fill)\b"
     r"|\[(?:insert|describe|add|enter|your|name\s+of|number\s+of|e\.g\.)[^\]]{0,80}\]"
+    # a draft's placeholder standing for a passage still to come: "[Results to be added]", "(TBD)"
+    r"|^\s*[\[(][^\])]{0,80}?\b(?:to\s+be\s+(?:added|completed|written|filled\s+in|inserted|determined|confirmed|"
+    r"announced|updated|decided)|TBD|TBA|TODO|FIXME)\b[^\])]{0,40}[\])]"
     r"|<(?:insert|describe|add|enter|your)[^>]{0,80}>",
     re.IGNORECASE,
 )

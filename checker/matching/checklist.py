@@ -72,6 +72,10 @@ class Facet:
 class AppliesWhen:
     cues: Cues
     reason: str
+    #: `strict: true`: where none of the cues occurs the item is not-applicable even if its facets are found
+    #: (metric names in a datasheet that evaluates nothing are not its evaluation); otherwise only an item with
+    #: nothing found is
+    strict: bool = False
 
 
 @dataclass(frozen=True)
@@ -94,6 +98,9 @@ class Item:
     #: words a section heading uses for the item's topic ("Annotation", "Ground truth"): evidence under such a
     #: heading is quoted first among sentences that carry the same facets (the order only, never the status)
     headings: tuple[str, ...] = ()
+    #: the concept's `judge_needs_facet`: the learned judge calls the item reported only where the cues found a
+    #: facet of one of its `needs` sets (see checker.verdicts.judge)
+    judge_needs_facet: bool = False
 
 
 @dataclass(frozen=True)
@@ -106,6 +113,7 @@ class Concept:
     needs: tuple[tuple[str, ...], ...]
     applies_when: AppliesWhen | None = None
     headings: tuple[str, ...] = ()
+    judge_needs_facet: bool = False
 
 
 @dataclass(frozen=True)
@@ -404,9 +412,12 @@ def _headings(p: Problems, fields: dict[str, Node], path: str) -> tuple[str, ...
 def _applies(p: Problems, fields: dict[str, Node], path: str) -> AppliesWhen | None:
     if "applies_when" not in fields:
         return None
-    cues, afields = cue_block(p, fields["applies_when"], join_path(path, "applies_when"), {"reason"})
+    cues, afields = cue_block(p, fields["applies_when"], join_path(path, "applies_when"), {"reason", "strict"})
     reason = text_of(p, afields.get("reason"), join_path(path, "applies_when -> reason"), required=False)
-    return AppliesWhen(cues, reason or "nothing in the document calls for it")
+    strict = False
+    if "strict" in afields and expect_type(p, afields["strict"], join_path(path, "applies_when -> strict"), bool):
+        strict = afields["strict"].value
+    return AppliesWhen(cues, reason or "nothing in the document calls for it", strict)
 
 
 def _item(p: Problems, node: Node, path: str, groups: set[str],
@@ -488,6 +499,7 @@ def _item(p: Problems, node: Node, path: str, groups: set[str],
         examples_missing=ex_mis,
         concept=concept.id if concept is not None else "",
         headings=headings,
+        judge_needs_facet=concept.judge_needs_facet if concept is not None else False,
     )
 
 
@@ -535,7 +547,8 @@ def parse_concepts(text: str, file: str, *, compile_regexes: bool = True) -> dic
             if isinstance(cnode.value, dict) and isinstance(cnode.value.get("id", (None, Node(None, 0, 0)))[1].value,
                                                             str):
                 path = f'concept "{cnode.value["id"][1].value.strip()}"'
-            fields = fields_of(p, cnode, path, {"id", "facets"}, {"needs", "applies_when", "note", "headings"})
+            fields = fields_of(p, cnode, path, {"id", "facets"},
+                               {"needs", "applies_when", "note", "headings", "judge_needs_facet"})
             if not fields:
                 continue
             cid = text_of(p, fields.get("id"), join_path(path, "id"))
@@ -545,7 +558,12 @@ def parse_concepts(text: str, file: str, *, compile_regexes: bool = True) -> dic
                 p.add(fields["id"], join_path(path, "id"), f"duplicate concept id {cid!r}")
             facets = _facets(p, fields, path)
             needs = _needs(p, fields.get("needs"), join_path(path, "needs"), [f.id for f in facets])
-            out[cid] = Concept(cid, tuple(facets), needs, _applies(p, fields, path), _headings(p, fields, path))
+            judge_needs = False
+            if "judge_needs_facet" in fields and expect_type(p, fields["judge_needs_facet"],
+                                                             join_path(path, "judge_needs_facet"), bool):
+                judge_needs = fields["judge_needs_facet"].value
+            out[cid] = Concept(cid, tuple(facets), needs, _applies(p, fields, path), _headings(p, fields, path),
+                               judge_needs)
     if p.items:
         raise ChecklistError(p.lines())
     return out

@@ -183,13 +183,22 @@ def applies(scan: Scan, ii: int, item: Item) -> bool:
     return any(scan.weight(h.sentence) >= APPLIES_AT for h in scan.hits.get(key(ii, -1, APPLIES), ()))
 
 
+def strict_applies(item: Item) -> bool:
+    """Whether the item's `applies_when` makes it not-applicable even where its facets are found."""
+    return item.applies_when is not None and item.applies_when.strict
+
+
 def decide(found: set[str], needs: tuple[tuple[str, ...], ...], inapplicable: bool,
-           complete: set[str] | None = None, only_without: tuple[tuple[str, tuple[str, ...]], ...] = ()) -> str:
+           complete: set[str] | None = None, only_without: tuple[tuple[str, tuple[str, ...]], ...] = (),
+           strict: bool = False) -> str:
     """The status from the facets found: reported when every facet of one `needs` set is found (and `complete`:
     found in a sentence that gives the details itself, not only leaves them to another document; and not a
     facet whose `only_without` facets are found), partial when some facet is found, else not-applicable (the
-    item's `applies_when` found nothing) or missing. The one rule that both the verdicts and the threshold
-    fitting (fitting.py) use."""
+    item's `applies_when` found nothing) or missing. With `strict` (the item's `applies_when: strict: true`) an
+    inapplicable item is not-applicable whatever is found. The one rule that both the verdicts and the
+    threshold fitting (fitting.py) use."""
+    if inapplicable and strict:
+        return "not-applicable"
     if not found:
         return "not-applicable" if inapplicable else "missing"
     return "reported" if any(set(n) <= completed(found, complete, only_without) for n in needs) else "partial"
@@ -216,7 +225,7 @@ def _status(compiled, scan, ii, item, per_facet, found, complete, waivers) -> tu
         return "waived", f"waived in the configuration: {waivers[item.id]}", ()
     inapplicable = not applies(scan, ii, item)
     held_back = only_without_of(item)
-    status = decide(found, item.needs, inapplicable, complete, held_back)
+    status = decide(found, item.needs, inapplicable, complete, held_back, strict_applies(item))
     if status == "not-applicable":
         return status, f"not applicable: {item.applies_when.reason}", ()
     titles = {fh.facet.id: fh.facet.title for fh in per_facet}

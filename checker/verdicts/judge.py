@@ -217,8 +217,11 @@ def cue_sentences(scan: Scan, ii: int) -> set[int]:
     return {h.sentence for k, hs in scan.hits.items() if k.startswith(prefix) for h in hs}
 
 
-def rejudge(scan: Scan, results: tuple[ItemResult, ...], models: Models | None = None) -> tuple[ItemResult, ...]:
-    """The results with the judge's status where it has a model for the item and quotes can back its verdict."""
+def rejudge(scan: Scan, results: tuple[ItemResult, ...], models: Models | None = None,
+            needed: dict[str, frozenset[str]] | None = None) -> tuple[ItemResult, ...]:
+    """The results with the judge's status where it has a model for the item and quotes can back its verdict.
+    `needed`: for the items whose concept sets `judge_needs_facet`, the facets of their `needs` sets; the judge
+    calls such an item reported only where the cues found one of them, else partial at most."""
     models = models if models is not None else shipped()
     if models is None or not scan.sentences:
         return results
@@ -234,6 +237,9 @@ def rejudge(scan: Scan, results: tuple[ItemResult, ...], models: Models | None =
         x = judge_features(scores, r.status, [(f.found, f.score) for f in r.facets])
         quotable = quotable_sentences(scan, ii, [f.id for f in r.facets])
         status = allowed(r.status, predict(models.judges[r.id], x), bool(r.evidence) or bool(quotable))
+        if status == "reported" and r.id in (needed or {}) and not any(f.found for f in r.facets
+                                                                        if f.id in needed[r.id]):
+            status = "partial"
         if status == r.status:
             out.append(r)
             continue
