@@ -158,6 +158,12 @@ READINGS = [
                  "entity type.", "missing", id="button-released"),
     pytest.param(VS, "availability.data-code", "The network weights are optimised with stochastic gradient "
                  "descent.", "missing", id="weights-optimised"),
+    # a paper that ranks features or patients ranks no methods (the labelling conventions: ranking items are
+    # not-applicable for a single-method paper); one that ranks its compared models does
+    pytest.param(VS, "ranking.method", "We rank features by their importance and order patients by their risk.",
+                 "not-applicable", id="ranks-features"),
+    pytest.param(VS, "ranking.method", "The five models were ranked by their mean AUC.", "reported",
+                 id="ranks-models"),
     # organisers who receive results or answer e-mails set no rule on their own taking part (common practice in
     # challenge pages); a rule names their eligibility
     pytest.param(BP, "governance.organizer-participation", "Participants submit their outputs by email to the task "
