@@ -183,3 +183,17 @@ def test_releasing_every_annotators_labels_unmerged_is_a_fusion_design():
     # subjective labels)
     text = "Each image was labelled by three annotators. We provide the full, non-aggregated dataset."
     assert _status(text, "dataset-description", "reference.fusion") == "reported"
+
+
+def test_annotation_guidelines_are_taken_for_a_dataset_description():
+    # a dataset's annotation guidelines or codebook speak to annotators in the trade's usual imperative ("annotators
+    # should ...", "do not annotate ...", "the tagset"), not of a method: the checklist choice takes them for the
+    # dataset description they belong to (common practice in annotation manuals)
+    from checker.engine import choose_checklist
+    from checker.matching.nlp import parse_blocks
+
+    text = ("Annotation guidelines for the Harbour clinic notes\n\nAnnotators should mark every medication name. "
+            "Dosages should not be annotated as medications, and do not annotate negated findings.\n\n"
+            "The tagset has four labels: DRUG, DOSE, ROUTE and FREQUENCY. In this study we compared two rounds.")
+    cid, why = choose_checklist(list(parse_blocks(text.split("\n\n"))))
+    assert cid == "dataset-description", why
