@@ -108,6 +108,9 @@ READINGS = [
                  "partial", id="annotation-services"),
     pytest.param(DS, "reference.annotators", "The labels were collected from crowd and in-house workers.",
                  "partial", id="in-house-workers"),
+    # people who check labels are annotators too (common practice in dataset documentation)
+    pytest.param(DS, "reference.annotators", "Every transcribed line was inspected by two independent reviewers.",
+                 "reported", id="two-reviewers"),
     pytest.param(DS, "reference.annotators", "Results are provided by the organisers.", "not-applicable",
                  id="not-a-labeller"),
     # releasing every annotator's labels apart is a design statement about fusion (common practice for
@@ -197,3 +200,12 @@ def test_annotation_guidelines_are_taken_for_a_dataset_description():
             "The tagset has four labels: DRUG, DOSE, ROUTE and FREQUENCY. In this study we compared two rounds.")
     cid, why = choose_checklist(list(parse_blocks(text.split("\n\n"))))
     assert cid == "dataset-description", why
+
+
+def test_a_datasheet_that_only_names_metrics_says_why_its_quotes_do_not_count():
+    # the quotes stay, so that a reader sees what was set aside, and the reason says why
+    text = "Each image is labelled benign or malignant; accuracy and sensitivity are the usual measures for such labels."
+    item = next(it for it in check_text(text, DS).items if it.id == "metrics.definition")
+    assert item.status == "not-applicable" and item.evidence
+    assert item.reason == ("not applicable: the document evaluates no methods on the data (the quoted passages only "
+                           "mention the topic)")

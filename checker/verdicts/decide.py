@@ -227,7 +227,9 @@ def _status(compiled, scan, ii, item, per_facet, found, complete, waivers) -> tu
     held_back = only_without_of(item)
     status = decide(found, item.needs, inapplicable, complete, held_back, strict_applies(item))
     if status == "not-applicable":
-        return status, f"not applicable: {item.applies_when.reason}", ()
+        # a strict applies_when can leave passages found: say why they do not count
+        aside = " (the quoted passages only mention the topic)" if found else ""
+        return status, f"not applicable: {item.applies_when.reason}{aside}", ()
     titles = {fh.facet.id: fh.facet.title for fh in per_facet}
     if status == "reported":
         return "reported", "found: " + "; ".join(titles[f] for f in titles if f in found), ()
