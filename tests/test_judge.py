@@ -53,6 +53,10 @@ def test_the_judge_never_makes_an_item_reported_without_a_quote_to_show():
     # the cues' not-applicable and a user's waiver are not the judge's to move
     assert allowed("not-applicable", "reported", has_evidence=True) == "not-applicable"
     assert allowed("waived", "missing", has_evidence=True) == "waived"
+    # where the cues found only a mention and the concept holds the judge to its needs: partial at most
+    assert allowed("partial", "reported", has_evidence=True, mention_only=True) == "partial"
+    assert allowed("missing", "reported", has_evidence=True, mention_only=True) == "partial"
+    assert allowed("partial", "missing", has_evidence=True, mention_only=True) == "missing"
 
 
 def test_a_concept_can_keep_the_judge_from_completing_what_only_a_mention_found():

@@ -138,6 +138,11 @@ def text_of(p: Problems, node: Node | None, path: str, *, required: bool = True)
     return node.value.strip()
 
 
+def flag_of(p: Problems, node: Node | None, path: str) -> bool:
+    """An optional true/false value: false when absent or not a boolean (the latter reported)."""
+    return node is not None and expect_type(p, node, path, bool) and node.value
+
+
 def texts_of(p: Problems, node: Node | None, path: str) -> tuple[str, ...]:
     if node is None:
         return ()

@@ -16,7 +16,8 @@ from typing import Any
 
 
 from ..core.errors import ChecklistError, UsageError
-from ..core.marked import Node, Problems, closest, compose, expect_type, fields_of, join_path, text_of, texts_of
+from ..core.marked import (Node, Problems, closest, compose, expect_type, fields_of, flag_of, join_path, text_of,
+                            texts_of)
 from .regexscan import required_words
 
 MAX_FILE_BYTES = 5 * 1024 * 1024
@@ -414,9 +415,7 @@ def _applies(p: Problems, fields: dict[str, Node], path: str) -> AppliesWhen | N
         return None
     cues, afields = cue_block(p, fields["applies_when"], join_path(path, "applies_when"), {"reason", "strict"})
     reason = text_of(p, afields.get("reason"), join_path(path, "applies_when -> reason"), required=False)
-    strict = False
-    if "strict" in afields and expect_type(p, afields["strict"], join_path(path, "applies_when -> strict"), bool):
-        strict = afields["strict"].value
+    strict = flag_of(p, afields.get("strict"), join_path(path, "applies_when -> strict"))
     return AppliesWhen(cues, reason or "nothing in the document calls for it", strict)
 
 
@@ -558,10 +557,7 @@ def parse_concepts(text: str, file: str, *, compile_regexes: bool = True) -> dic
                 p.add(fields["id"], join_path(path, "id"), f"duplicate concept id {cid!r}")
             facets = _facets(p, fields, path)
             needs = _needs(p, fields.get("needs"), join_path(path, "needs"), [f.id for f in facets])
-            judge_needs = False
-            if "judge_needs_facet" in fields and expect_type(p, fields["judge_needs_facet"],
-                                                             join_path(path, "judge_needs_facet"), bool):
-                judge_needs = fields["judge_needs_facet"].value
+            judge_needs = flag_of(p, fields.get("judge_needs_facet"), join_path(path, "judge_needs_facet"))
             out[cid] = Concept(cid, tuple(facets), needs, _applies(p, fields, path), _headings(p, fields, path),
                                judge_needs)
     if p.items:

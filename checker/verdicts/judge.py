@@ -148,17 +148,21 @@ def predict(judge: dict[str, Any], x: list[float]) -> str:
     return classes[max(range(len(z)), key=lambda k: (z[k], -k))]
 
 
-def allowed(cue_status: str, judged: str, has_evidence: bool) -> str:
+def allowed(cue_status: str, judged: str, has_evidence: bool, mention_only: bool = False) -> str:
     """The judge's status where quotes can back it: without a sentence where a cue of the item was found (even one
     that counted too little on its own) an item stays missing; an item the cues found not applicable or a waived
-    one keeps its status; and an item whose cues found every detail the question asks stays reported rather than
-    partial (on the labelled documents such moves were as often wrong as right)."""
+    one keeps its status; an item whose cues found every detail the question asks stays reported rather than
+    partial (on the labelled documents such moves were as often wrong as right); and an item whose cues found only
+    a mention (`mention_only`: no facet of its `needs`, where its concept sets `judge_needs_facet`) is partial at
+    most."""
     if cue_status not in STATUSES:
         return cue_status
     if judged in ("reported", "partial") and not has_evidence:
         return cue_status
     if cue_status == "reported" and judged == "partial":
         return cue_status
+    if judged == "reported" and mention_only:
+        return "partial"
     return judged
 
 
@@ -236,10 +240,9 @@ def rejudge(scan: Scan, results: tuple[ItemResult, ...], models: Models | None =
         scores = models.item_scores(z, damp, r.id, cue_sentences(scan, ii))
         x = judge_features(scores, r.status, [(f.found, f.score) for f in r.facets])
         quotable = quotable_sentences(scan, ii, [f.id for f in r.facets])
-        status = allowed(r.status, predict(models.judges[r.id], x), bool(r.evidence) or bool(quotable))
-        if status == "reported" and r.id in (needed or {}) and not any(f.found for f in r.facets
-                                                                        if f.id in needed[r.id]):
-            status = "partial"
+        held = (needed or {}).get(r.id)
+        mention_only = held is not None and not any(f.found for f in r.facets if f.id in held)
+        status = allowed(r.status, predict(models.judges[r.id], x), bool(r.evidence) or bool(quotable), mention_only)
         if status == r.status:
             out.append(r)
             continue
