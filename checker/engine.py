@@ -11,7 +11,8 @@ from typing import TYPE_CHECKING
 from rapidfuzz import fuzz
 
 from . import __version__
-from .matching.checklist import Checklist, builtin_ids, load_checklist
+from .matching.checklist import Checklist, load_checklist
+from .matching.choice import choose_checklist, paper_skeleton  # noqa: F401 - also their home for callers
 from .core.config import Config
 from .reading.document import Document
 from .core.limits import DEFAULT_LIMITS, Limits
@@ -42,79 +43,6 @@ def ignore_sections(document: Document, headings: tuple[str, ...]) -> Document:
 
     blocks = tuple(dataclasses.replace(b, role="references") if hit(b.section) else b for b in document.blocks)
     return dataclasses.replace(document, blocks=blocks)
-
-
-@lru_cache(maxsize=8)
-def _choice_matcher(cid: str):
-    """A matcher of one built-in checklist's `choose_when` cues (its other cues are not needed to choose)."""
-    from .matching.matcher import TokenPatterns, add_phrases
-    from .matching.nlp import pipeline
-
-    nlp = pipeline()  # imports spaCy (see checker.matching.spacyimport) before the matchers below
-    from spacy.matcher import PhraseMatcher
-
-    cues = load_checklist(cid).choose_when
-    if not cues.phrases and not cues.patterns:
-        return None
-    matchers = []
-    if cues.phrases:
-        m = PhraseMatcher(nlp.vocab, attr="LEMMA")
-        add_phrases(nlp, {"choose": [p.lstrip("=") for p in cues.phrases]}, m)
-        matchers.append(m)
-    if cues.patterns:
-        t = TokenPatterns(nlp.vocab)
-        t.add("choose", [list(p) for p in cues.patterns])
-        matchers.append(t)
-    return lambda doc: [hit for m in matchers for hit in m(doc)]
-
-
-#: a paper's build (see paper_skeleton) weighs as this many cue words for the validation-study checklist:
-#: benchmark pages and dataset cards seldom have all three parts, and papers name datasets a lot
-PAPER_SKELETON_WEIGHT = 8
-
-
-def paper_skeleton(document: Document | None) -> bool:
-    """Whether the document is built like a paper: abstract or introduction, references or related work, and
-    methods, results or discussion."""
-    if document is None:
-        return False
-    roles = {b.role for b in document.blocks if b.kind == "heading"}
-    return bool(roles & {"abstract", "introduction"} and roles & {"references", "related-work"}
-                and roles & {"methods", "results", "discussion"})
-
-
-def choose_checklist(docs: list, nlp=None, document: Document | None = None) -> tuple[str, str]:  # noqa: ARG001
-    """The built-in checklist whose `choose_when` cues the document uses most, and a sentence saying why.
-
-    Each distinct cue counts up to three times; a document built like a paper (see `paper_skeleton`) adds to the
-    validation-study checklist, since benchmark participants' papers mention organisers and leaderboards too.
-    """
-    scores = []
-    skeleton = paper_skeleton(document)
-    for cid in builtin_ids():
-        matcher = _choice_matcher(cid)
-        if matcher is None:
-            continue
-        found: dict[str, int] = {}
-        for doc in docs:
-            for _mid, s, e in matcher(doc):
-                word = doc[s:e].text.lower()
-                found[word] = found.get(word, 0) + 1
-        score = sum(min(n, 3) for n in found.values())
-        if skeleton and cid == "validation-study":
-            score += PAPER_SKELETON_WEIGHT
-        scores.append((score, len(found), cid, found))
-    if not scores:
-        return "validation-study", "validation-study: the default checklist"
-    scores.sort(key=lambda t: (-t[0], -t[1], t[2]))
-    score, _, cid, found = scores[0]
-    if score == 0:
-        return "validation-study", "validation-study: nothing pointed to another kind of document, so the default"
-    top = sorted(found, key=lambda w: (-found[w], w))[:4]
-    why = "mentions " + ", ".join(top) if top else ""
-    if skeleton and cid == "validation-study":
-        why = "built like a paper (introduction, methods or results, references)" + ("; " + why if why else "")
-    return cid, f"{cid}: {why}"
 
 
 def choose_for_file(path: str | Path, limits: Limits = DEFAULT_LIMITS) -> tuple[str, str]:
