@@ -47,6 +47,8 @@ def test_the_judge_never_makes_an_item_reported_without_a_quote_to_show():
     assert allowed("missing", "reported", has_evidence=False) == "missing"
     assert allowed("missing", "partial", has_evidence=False) == "missing"
     assert allowed("missing", "partial", has_evidence=True) == "partial"
+    # one step up at most from what the cues found: a false 'reported' is the costliest error
+    assert allowed("missing", "reported", has_evidence=True) == "partial"
     assert allowed("reported", "partial", has_evidence=True) == "reported"  # complete cues are not second-guessed
     assert allowed("reported", "missing", has_evidence=True) == "missing"
     assert allowed("partial", "reported", has_evidence=True) == "reported"
