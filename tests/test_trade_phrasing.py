@@ -101,6 +101,11 @@ READINGS = [
                  id="a-specialist"),
     pytest.param(DS, "reference.annotators", "Labels were assigned using a rule-based script.", "missing",
                  id="a-script"),
+    # an unnumbered plural of annotators, after an adverb (common practice in challenge and dataset pages)
+    pytest.param("benchmark-proposal", "reference.annotators", "Each slide is annotated in detail by several expert "
+                 "pathologists.", "partial", id="several-experts"),
+    pytest.param(DS, "reference.annotators", "All clips were labelled independently by multiple raters.", "partial",
+                 id="multiple-raters"),
     # ... or as a service, a team or a kind of worker (common practice in dataset cards)
     pytest.param(DS, "reference.annotators", "The transcriptions are done by a data company.", "partial",
                  id="done-by-a-company"),
