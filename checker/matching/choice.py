@@ -84,17 +84,19 @@ def cue_counts(docs: list) -> dict[str, dict[str, int]]:
 
 
 def choice_features(docs: list, document: Document | None, counts: dict[str, dict[str, int]]) -> dict[str, float]:
-    """What the choice model reads, by name: the cue counts per checklist and per cue, whether the document is
-    built like a paper, the kinds of its headings, and which words (lemmas, not stop words) it uses."""
+    """What the choice model reads, by name: per checklist, its cue count (the log), its share of all counts (a
+    paper's build counted as in choose_by_cues) and how many distinct cues; the checklist the counts alone would
+    choose; each cue found; whether the document is built like a paper; the kinds of its headings; and which words
+    (lemmas, not stop words) it uses."""
     f: dict[str, float] = {}
     skeleton = paper_skeleton(document)
-    scores = {cid: sum(min(n, CUE_CAP) for n in found.values()) for cid, found in counts.items()}
-    total = sum(scores.values()) + (PAPER_SKELETON_WEIGHT if skeleton else 0)
+    built = cue_scores(counts, skeleton)
+    total = sum(built.values())
     f["@cues=" + choose_by_cues(counts, skeleton)[0]] = 1.0
     for cid, found in counts.items():
-        f["@score=" + cid] = math.log1p(scores[cid])
+        f["@score=" + cid] = math.log1p(sum(min(n, CUE_CAP) for n in found.values()))
         if total:
-            f["@share=" + cid] = (scores[cid] + (PAPER_SKELETON_WEIGHT if skeleton and cid == DEFAULT else 0)) / total
+            f["@share=" + cid] = built[cid] / total
         f["@distinct=" + cid] = math.log1p(len(found))
         for word, n in found.items():
             f[f"@cue={cid}:{word}"] = min(n, CUE_CAP) / CUE_CAP
@@ -172,15 +174,18 @@ def _mentions(found: dict[str, int]) -> str:
     return "mentions " + ", ".join(top) if top else ""
 
 
+def cue_scores(counts: dict[str, dict[str, int]], skeleton: bool) -> dict[str, int]:
+    """Per checklist, its cues counted (each distinct cue up to CUE_CAP times); a paper's build adds
+    PAPER_SKELETON_WEIGHT to the validation-study checklist."""
+    return {cid: sum(min(n, CUE_CAP) for n in found.values()) + (PAPER_SKELETON_WEIGHT if skeleton and cid == DEFAULT
+                                                                 else 0)
+            for cid, found in counts.items()}
+
+
 def choose_by_cues(counts: dict[str, dict[str, int]], skeleton: bool) -> tuple[str, str]:
-    """The checklist whose cues the document uses most (each distinct cue up to CUE_CAP times; a paper's build
-    adds PAPER_SKELETON_WEIGHT to the validation-study checklist), and why."""
-    scores = []
-    for cid, found in counts.items():
-        score = sum(min(n, CUE_CAP) for n in found.values())
-        if skeleton and cid == DEFAULT:
-            score += PAPER_SKELETON_WEIGHT
-        scores.append((score, len(found), cid))
+    """The checklist whose cues the document uses most (see cue_scores), and why."""
+    built = cue_scores(counts, skeleton)
+    scores = [(built[cid], len(found), cid) for cid, found in counts.items()]
     if not scores:
         return DEFAULT, f"{DEFAULT}: the default checklist"
     scores.sort(key=lambda t: (-t[0], -t[1], t[2]))
