@@ -171,7 +171,8 @@ def main(argv: list[str] | None = None) -> int:
         ks = [k for k, d in enumerate(done) if name == "all" or folder_of[d["document"]] == name]
         cues = sum(done[k]["cues"] == y[k] for k in ks)
         learned = sum(chosen[k] == y[k] for k in ks)
-        es = [j for j, k in enumerate(owner) if k in set(ks)]
+        in_folder = set(ks)
+        es = [j for j, k in enumerate(owner) if k in in_folder]
         short = f"{sum(cues_e[j] == ye[j] for j in es)} {sum(chosen_e[j] == ye[j] for j in es)}/{len(es)}" if es else ""
         print(f"{name:<14} {len(ks):>9} {cues:>11} {learned:>8}   {short:>13}")
     if args.misses:

@@ -48,7 +48,7 @@ def _check(task):
     from checker.matching.nlp import parse_blocks
     from checker.reading import read_document
     from checker.verdicts.decide import evaluate
-    from checker.verdicts.judge import cue_sentences, features_of, quotable_sentences
+    from checker.verdicts.judge import cue_sentences, features_of, needed_facets, only_mentioned, quotable_sentences
 
     try:
         doc = read_document(document, DEFAULT_LIMITS)
@@ -56,6 +56,7 @@ def _check(task):
         compiled = compiled_for(checklist)
         scan = compiled.scan(doc, regex_seconds=DEFAULT_LIMITS.regex_seconds, docs=docs)
         results = evaluate(compiled, scan, {})
+        held = needed_facets(compiled.checklist)
     except Exception as exc:  # noqa: BLE001 - a document that cannot be checked is named, the others go on
         return {"document": document, "error": str(exc)}
     sentences = []
@@ -70,6 +71,7 @@ def _check(task):
         items[item.id] = {"tool": res.status, "evidence": [e.text for e in res.evidence],
                           "hit": sorted(cue_sentences(scan, ii)), "facets": [(f.found, f.score) for f in res.facets],
                           "quotable": bool(quotable_sentences(scan, ii, [f.id for f in item.facets])),
+                          "mention_only": only_mentioned(held.get(item.id), res.facets),
                           "label": labels[item.id]}
     return {"document": document, "sentences": sentences, "features": features, "items": items}
 
@@ -219,7 +221,8 @@ def main(argv: list[str] | None = None) -> int:
                     j = judges.get(r["item"])
                     tool = r["it"]["tool"]
                     said = tool if j is None else predict(j, feats[k])
-                    learned[k] = allowed(tool, said, bool(r["it"]["evidence"]) or r["it"]["quotable"])
+                    learned[k] = allowed(tool, said, bool(r["it"]["evidence"]) or r["it"]["quotable"],
+                                         r["it"]["mention_only"])
                     if variant == "judged":
                         free[k] = said
             if f == args.folds and variant == "judged":

@@ -203,10 +203,9 @@ def judged(compiled: CompiledChecklist, scan, items: tuple, config: Config) -> t
     checklist = compiled.checklist
     if config.judge != "learned" or checklist.path != f"checklists/{checklist.id}.yaml":
         return items
-    from .verdicts.judge import rejudge
+    from .verdicts.judge import needed_facets, rejudge
 
-    needed = {it.id: frozenset(f for n in it.needs for f in n) for it in checklist.items if it.judge_needs_facet}
-    return rejudge(scan, items, needed=needed)
+    return rejudge(scan, items, needed=needed_facets(checklist))
 
 
 def build_report(document: Document, checklist: Checklist, items, choice: str, warnings: tuple[str, ...],

@@ -32,6 +32,7 @@ from typing import TYPE_CHECKING, Any
 from ..core.errors import ChecklistError
 
 if TYPE_CHECKING:
+    from ..matching.checklist import Checklist
     from ..matching.matcher import Scan
     from .report import ItemResult
 
@@ -217,6 +218,17 @@ def features_of(scan: Scan, buckets: int) -> list[list[int]]:
     return out
 
 
+def needed_facets(checklist: Checklist) -> dict[str, frozenset[str]]:
+    """For the items whose concept sets `judge_needs_facet`: the facets of their `needs` sets."""
+    return {it.id: frozenset(f for n in it.needs for f in n) for it in checklist.items if it.judge_needs_facet}
+
+
+def only_mentioned(held: frozenset[str] | None, facets) -> bool:
+    """Whether an item held to its needs (`held`, see needed_facets) has none of those facets found: the cues
+    found only a mention."""
+    return held is not None and not any(f.found for f in facets if f.id in held)
+
+
 def cue_sentences(scan: Scan, ii: int) -> set[int]:
     """The sentences where any cue of item ii was found."""
     prefix = f"{ii}:"
@@ -226,8 +238,8 @@ def cue_sentences(scan: Scan, ii: int) -> set[int]:
 def rejudge(scan: Scan, results: tuple[ItemResult, ...], models: Models | None = None,
             needed: dict[str, frozenset[str]] | None = None) -> tuple[ItemResult, ...]:
     """The results with the judge's status where it has a model for the item and quotes can back its verdict.
-    `needed`: for the items whose concept sets `judge_needs_facet`, the facets of their `needs` sets; the judge
-    calls such an item reported only where the cues found one of them, else partial at most."""
+    `needed` (see needed_facets): the judge calls such an item reported only where the cues found one of its
+    facets, else partial at most."""
     models = models if models is not None else shipped()
     if models is None or not scan.sentences:
         return results
@@ -242,9 +254,8 @@ def rejudge(scan: Scan, results: tuple[ItemResult, ...], models: Models | None =
         scores = models.item_scores(z, damp, r.id, cue_sentences(scan, ii))
         x = judge_features(scores, r.status, [(f.found, f.score) for f in r.facets])
         quotable = quotable_sentences(scan, ii, [f.id for f in r.facets])
-        held = (needed or {}).get(r.id)
-        mention_only = held is not None and not any(f.found for f in r.facets if f.id in held)
-        status = allowed(r.status, predict(models.judges[r.id], x), bool(r.evidence) or bool(quotable), mention_only)
+        status = allowed(r.status, predict(models.judges[r.id], x), bool(r.evidence) or bool(quotable),
+                         only_mentioned((needed or {}).get(r.id), r.facets))
         if status == r.status:
             out.append(r)
             continue
