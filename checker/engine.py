@@ -187,7 +187,7 @@ def _check(path, checklist, config, limits, read_document, parse_blocks) -> Repo
                                  "named by the user"
     compiled = compiled_for(ref)
     scan = compiled.scan(document, regex_seconds=limits.regex_seconds, docs=docs)
-    items = judged(compiled, scan, evaluate(compiled, scan, config.waivers), config)
+    items = verdicts(compiled, scan, config)
     unknown_waivers = sorted(set(config.waivers) - {it.id for it in compiled.checklist.items})
     warnings = list(document.warnings)
     if unknown_waivers:
@@ -197,15 +197,32 @@ def _check(path, checklist, config, limits, read_document, parse_blocks) -> Repo
                         regex_seconds=limits.regex_seconds)
 
 
-def judged(compiled: CompiledChecklist, scan, items: tuple, config: Config) -> tuple:
-    """The cues' verdicts, moved by the learned judge where the settings want it (see checker.verdicts.judge). It
-    was fitted on the built-in checklists' items, so a checklist of the user's own keeps the cues' verdicts."""
+def _learned(compiled: CompiledChecklist, config: Config) -> bool:
+    """Whether the learned judge takes part: the settings want it and the checklist is a built-in one (it was
+    fitted on their items, so a checklist of the user's own keeps the cues' verdicts and their order)."""
     checklist = compiled.checklist
-    if config.judge != "learned" or checklist.path != f"checklists/{checklist.id}.yaml":
+    return config.judge == "learned" and checklist.path == f"checklists/{checklist.id}.yaml"
+
+
+def verdicts(compiled: CompiledChecklist, scan, config: Config) -> tuple:
+    """Every item's result: the cues' verdicts, with quotes in the order the learned sentence scorer finds likeliest
+    and moved by the learned judge, where the settings want it (see checker.verdicts.judge)."""
+    scores = None
+    if _learned(compiled, config):
+        from .verdicts.judge import sentence_scores
+
+        scores = sentence_scores(scan)
+    return judged(compiled, scan, evaluate(compiled, scan, config.waivers, scores), config, scores)
+
+
+def judged(compiled: CompiledChecklist, scan, items: tuple, config: Config, scores=None) -> tuple:
+    """The cues' verdicts, moved by the learned judge where the settings want it (see checker.verdicts.judge).
+    `scores`: the document's sentence scores (judge.SentenceScores), if already at hand."""
+    if not _learned(compiled, config):
         return items
     from .verdicts.judge import needed_facets, rejudge
 
-    return rejudge(scan, items, needed=needed_facets(checklist))
+    return rejudge(scan, items, needed=needed_facets(compiled.checklist), scores=scores)
 
 
 def build_report(document: Document, checklist: Checklist, items, choice: str, warnings: tuple[str, ...],
@@ -261,6 +278,6 @@ def check_text(text: str, checklist: str = "validation-study", config: Config | 
     document = document_from_text(text)
     compiled = compiled_for(checklist)
     scan = compiled.scan(document)
-    items = judged(compiled, scan, evaluate(compiled, scan, config.waivers), config)
+    items = verdicts(compiled, scan, config)
     return build_report(document, compiled.checklist, items, f"{checklist}: named by the user", (), scan=scan,
                         config=config)

@@ -261,3 +261,49 @@ def test_a_checklist_of_the_users_own_keeps_the_cues_verdicts(tmp_path):
                    encoding="utf-8")
     report = check_text(TEXT, str(own))
     assert not any(it.reason.startswith("judged ") for it in report.items)
+
+
+ORDER_TEXT = ("The software is available under an open licence at https://example.org/harbour/tool. "
+              "The evaluation code is available at https://example.org/harbour/eval.")
+
+
+def _favouring(item: str, word: str, buckets: int = 1 << 18) -> Models:
+    """Models whose sentence scorer for `item` likes sentences with `word` and whose judge agrees with the cues."""
+    import zlib
+
+    sentence = {item: {"bias": -1.0, "cue": 0.0, "words": {zlib.crc32(word.encode()) % buckets: 4.0}}}
+    return Models.build(buckets, sentence, {})
+
+
+def test_the_sentence_scorer_orders_an_items_quotes_and_never_its_status():
+    # two sentences with the same cues: the cues alone quote first the one with more of its facets' words; with a scorer
+    # that finds the other likelier to hold what the item asks, a reader sees that one first, and the verdicts stay
+    from checker.engine import document_from_text
+    from checker.verdicts.judge import SentenceScores
+
+    compiled = compiled_for("validation-study")
+    scan = compiled.scan(document_from_text(ORDER_TEXT))
+    plain = {r.id: r for r in evaluate(compiled, scan, {})}
+    item = "availability.data-code"
+    assert len(plain[item].evidence) == 2 and "harbour/eval" in plain[item].evidence[0].text
+    ordered = {r.id: r for r in evaluate(compiled, scan, {}, SentenceScores(scan, _favouring(item, "software")))}
+    assert "harbour/tool" in ordered[item].evidence[0].text
+    assert {e.text for e in ordered[item].evidence} == {e.text for e in plain[item].evidence}
+    assert {i: r.status for i, r in ordered.items()} == {i: r.status for i, r in plain.items()}
+    # items the scorer does not know keep the cues' order
+    assert all(ordered[i] == plain[i] for i in plain if i != item)
+
+
+def test_the_default_report_quotes_in_the_scorers_order_and_the_cues_setting_in_the_cues_order(learned_judge,
+                                                                                               monkeypatch):
+    # the order a user sees comes from the same shipped models as the judge; with `--judge cues` the cues' order
+    from checker.verdicts import judge
+
+    item = "availability.data-code"
+    models = _favouring(item, "software")
+    monkeypatch.setattr(judge, "shipped", lambda: models)
+    learned = next(it for it in check_text(ORDER_TEXT).items if it.id == item)
+    assert "harbour/tool" in learned.evidence[0].text
+    monkeypatch.setenv("STUDYGAP_JUDGE", "cues")
+    cues = next(it for it in check_text(ORDER_TEXT).items if it.id == item)
+    assert "harbour/eval" in cues.evidence[0].text

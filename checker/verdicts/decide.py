@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 import re
-from collections.abc import Callable
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 from functools import lru_cache
 
@@ -96,7 +96,8 @@ def under_topic_heading(scan: Scan, item: Item) -> Callable[[int], bool]:
     return topical
 
 
-def evaluate_item(compiled: CompiledChecklist, scan: Scan, ii: int, item: Item, waivers: dict[str, str]) -> ItemResult:
+def evaluate_item(compiled: CompiledChecklist, scan: Scan, ii: int, item: Item, waivers: dict[str, str],
+                  scores: Callable[[int, str], Sequence[float] | None] | None = None) -> ItemResult:
     from ..matching.facts import parse_value
     from .fitted import threshold
 
@@ -110,18 +111,22 @@ def evaluate_item(compiled: CompiledChecklist, scan: Scan, ii: int, item: Item, 
     )
 
     # evidence: sentences ranked by how many facets they carry, weighted by where they stand and by whether a heading
-    # above them names the item's topic; among equals, the one with more distinct words matched says more about
-    # the item (a word said twice counts once)
+    # above them names the item's topic, and, where the learned sentence scorer is at hand (`scores`, see
+    # judge.SentenceScores), by how likely the scorer finds that the sentence holds what the item asks: of several
+    # sentences with the same cues, careful readers quote the one that says it; among equals, the one with more
+    # distinct words matched says more about the item (a word said twice counts once)
     by_sentence: dict[int, dict[str, list[Hit]]] = {}
     for fh in per_facet:
         for h in fh.hits:
             by_sentence.setdefault(h.sentence, {}).setdefault(fh.facet.id, []).append(h)
     weights = {fh.facet.id: fh.facet.weight for fh in per_facet}
     topical = under_topic_heading(scan, item)
+    likely = scores(ii, item.id) if scores is not None else None
     ranked = sorted(
         by_sentence.items(),
         key=lambda kv: (-sum(weights[f] for f in kv[1]) * scan.weight(kv[0])
-                        * (HEADING_ORDER_FACTOR if topical(kv[0]) else 1.0),
+                        * (HEADING_ORDER_FACTOR if topical(kv[0]) else 1.0)
+                        * (likely[kv[0]] if likely is not None else 1.0),
                         -len({scan.sentences[kv[0]].text[h.start:h.end].lower() for hs in kv[1].values() for h in hs}),
                         kv[0]),
     )
@@ -283,6 +288,10 @@ def trim_passage(text: str, spans: tuple[tuple[int, int], ...]) -> tuple[str, tu
     return t, tuple(out)
 
 
-def evaluate(compiled: CompiledChecklist, scan: Scan, waivers: dict[str, str] | None = None) -> tuple[ItemResult, ...]:
+def evaluate(compiled: CompiledChecklist, scan: Scan, waivers: dict[str, str] | None = None,
+             scores: Callable[[int, str], Sequence[float] | None] | None = None) -> tuple[ItemResult, ...]:
+    """Every item's result from the cues. `scores` (item index, item id -> a score per sentence, or None) orders
+    each item's quotes where given; it never changes a status."""
     waivers = waivers or {}
-    return tuple(evaluate_item(compiled, scan, ii, it, waivers) for ii, it in enumerate(compiled.checklist.items))
+    return tuple(evaluate_item(compiled, scan, ii, it, waivers, scores)
+                 for ii, it in enumerate(compiled.checklist.items))

@@ -14,8 +14,10 @@ checklists/judge.json, weigh that:
    all (partial and reported together against missing), then which of the two.
 
 The judge may only move a verdict where quotes can back it: it never makes an item reported or partial without a
-sentence where one of the item's facet cues was found (quoted, if the cues had counted it too little), and it leaves not-applicable and waived items alone. The quotes a report shows stay the
-cues' sentences; the reason says when the judge moved a verdict and what the cues found. `judge: cues` in the
+sentence where one of the item's facet cues was found (quoted, if the cues had counted it too little), and it
+leaves not-applicable and waived items alone. The quotes a report shows stay the cues' sentences; the sentence
+scorer only orders them (the likeliest first, see decide.evaluate_item). The reason says when the judge moved a
+verdict and what the cues found. `judge: cues` in the
 settings (or `--judge cues`) turns it off. No word of any document is kept in the model: only hashes of words.
 """
 
@@ -235,24 +237,56 @@ def cue_sentences(scan: Scan, ii: int) -> set[int]:
     return {h.sentence for k, hs in scan.hits.items() if k.startswith(prefix) for h in hs}
 
 
+class SentenceScores:
+    """The sentence scorer's scores of one scanned document, worked out on first use and kept: they order an
+    item's quotes (decide.evaluate) and feed its judge (rejudge)."""
+
+    def __init__(self, scan: Scan, models: Models) -> None:
+        self.scan, self.models = scan, models
+        self._z: Any = None
+        self._damp: Any = None
+        self._items: dict[int, list[float]] = {}
+
+    def __call__(self, ii: int, item: str) -> list[float] | None:
+        """How likely each sentence holds what item `item` (index ii of the checklist) asks; None when the
+        models have no scorer for the item."""
+        if item not in self.models.items or not self.scan.sentences:
+            return None
+        if ii not in self._items:
+            if self._z is None:
+                self._z, self._damp = self.models.scores(
+                    features_of(self.scan, self.models.buckets),
+                    [self.scan.weight(i) for i in range(len(self.scan.sentences))])
+            self._items[ii] = self.models.item_scores(self._z, self._damp, item, cue_sentences(self.scan, ii))
+        return self._items[ii]
+
+
+def sentence_scores(scan: Scan, models: Models | None = None) -> SentenceScores | None:
+    """The scorer of a document's sentences by the shipped models (None without them)."""
+    models = models if models is not None else shipped()
+    return SentenceScores(scan, models) if models is not None else None
+
+
 def rejudge(scan: Scan, results: tuple[ItemResult, ...], models: Models | None = None,
-            needed: dict[str, frozenset[str]] | None = None) -> tuple[ItemResult, ...]:
+            needed: dict[str, frozenset[str]] | None = None,
+            scores: SentenceScores | None = None) -> tuple[ItemResult, ...]:
     """The results with the judge's status where it has a model for the item and quotes can back its verdict.
     `needed` (see needed_facets): the judge calls such an item reported only where the cues found one of its
-    facets, else partial at most."""
-    models = models if models is not None else shipped()
+    facets, else partial at most. `scores`: the document's sentence scores, if already at hand."""
+    models = models if models is not None else (scores.models if scores is not None else shipped())
     if models is None or not scan.sentences:
         return results
     if not any(r.id in models.judges and r.status in STATUSES for r in results):
         return results
-    z, damp = models.scores(features_of(scan, models.buckets), [scan.weight(i) for i in range(len(scan.sentences))])
+    if scores is None or scores.models is not models:
+        scores = SentenceScores(scan, models)
     out = []
     for ii, r in enumerate(results):
         if r.id not in models.judges or r.status not in STATUSES:
             out.append(r)
             continue
-        scores = models.item_scores(z, damp, r.id, cue_sentences(scan, ii))
-        x = judge_features(scores, r.status, [(f.found, f.score) for f in r.facets])
+        scores_ = scores(ii, r.id)
+        x = judge_features(scores_, r.status, [(f.found, f.score) for f in r.facets])
         quotable = quotable_sentences(scan, ii, [f.id for f in r.facets])
         status = allowed(r.status, predict(models.judges[r.id], x), bool(r.evidence) or bool(quotable),
                          only_mentioned((needed or {}).get(r.id), r.facets))
@@ -260,7 +294,7 @@ def rejudge(scan: Scan, results: tuple[ItemResult, ...], models: Models | None =
             out.append(r)
             continue
         if status in ("reported", "partial") and not r.evidence:
-            r = dataclasses.replace(r, evidence=weak_evidence(scan, quotable, scores))
+            r = dataclasses.replace(r, evidence=weak_evidence(scan, quotable, scores_))
         out.append(moved(r, status))
     return tuple(out)
 
