@@ -202,8 +202,17 @@ def _breakdown(ev, kinds: dict[str, str], args, parts: bool = True) -> None:
     pairs = [p for u in ev.pairs_by_document for p in u]
     covered, total = _coverage(pairs)
     if total:
+        from checker.many.stats import bootstrap_ci
+
+        def share(units) -> float | None:
+            t = sum(u[1] for u in units)
+            return sum(u[0] for u in units) / t if t else None
+
+        # resampled by document, as the other figures, from each document's counts
+        iv = bootstrap_ci([_coverage(u) for u in ev.pairs_by_document if u], share, args.resamples, args.seed)
+        ivs = f" [{iv.low:.3f} to {iv.high:.3f}]" if iv.low is not None else ""
         print(f"\nquotes covering the labelled passage, where both sides found the item: {covered}/{total} "
-              f"= {covered / total:.3f}")
+              f"= {covered / total:.3f}{ivs}")
     false_rep = [p for p in pairs if p.tool == "reported" and p.human in ("missing", "not-applicable")]
     by_attr: dict[str, int] = {}
     for p in false_rep:
