@@ -178,6 +178,19 @@ READINGS = [
                  "organisers, who compute the scores.", "missing", id="submit-to-organisers"),
     pytest.param(BP, "governance.organizer-participation", "Organisers may participate but are not eligible for "
                  "prizes.", "reported", id="organisers-may-participate"),
+    # where the data come from, said by how and where they were gathered or by the public set used (common practice
+    # in papers and dataset cards); naming the public dataset a paper used is its data source (the development
+    # set's labelling conventions)
+    pytest.param(DS, "data.source", "Participants were recruited through social media advertisements.",
+                 "reported", id="recruited-through"),
+    pytest.param(DS, "data.source", "Essays were gathered through a regional writing portal.", "reported",
+                 id="gathered-through-a-portal"),
+    pytest.param(VS, "data.source", "All experiments were conducted on the Harbour Street object detection dataset.",
+                 "reported", id="conducted-on-the-named-dataset"),
+    pytest.param(VS, "data.source", "Here, the public Northfield Lung dataset will be used.", "reported",
+                 id="named-dataset-will-be-used"),
+    pytest.param(VS, "data.source", "We used the default settings of the detector.", "missing",
+                 id="used-the-settings"),
 ]
 
 
