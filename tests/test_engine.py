@@ -141,3 +141,15 @@ def test_the_engine_takes_a_documents_bytes_as_well_as_its_path(tmp_path):
     small = dataclasses.replace(DEFAULT_LIMITS, max_bytes=10)
     with pytest.raises(InputError, match="over the limit"):
         check_document(elsewhere, MINI, None, small, data=data)
+
+
+def test_a_sentence_met_twice_is_quoted_once_and_leaves_its_place_to_another():
+    # a site's pages repeat their lines (a download link on every page), an abstract repeats the body: a reader
+    # wants each statement once, and the room for another passage
+    line = "The evaluation code is available at https://example.org/harbour/eval."
+    text = "\n\n".join([line, "Overview of the tasks.", line,
+                        "The images are available at https://example.org/harbour/data.", line])
+    item = next(it for it in check_text(text).items if it.id == "availability.data-code")
+    quotes = [e.text for e in item.evidence]
+    assert quotes.count(line) == 1
+    assert any("harbour/data" in q for q in quotes)

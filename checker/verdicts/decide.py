@@ -131,6 +131,7 @@ def evaluate_item(compiled: CompiledChecklist, scan: Scan, ii: int, item: Item, 
                         kv[0]),
     )
     evidence = []
+    quoted: set[str] = set()
     for si, fhits in ranked:
         score = min(1.0, scan.weight(si) * sum(weights[f] for f in fhits) / max(1, len(item.facets)))
         if scan.weight(si) * max(weights[f] for f in fhits) < found_at:
@@ -138,6 +139,8 @@ def evaluate_item(compiled: CompiledChecklist, scan: Scan, ii: int, item: Item, 
         sent = scan.sentences[si]
         spans = merge_spans([(h.start, h.end) for hs in fhits.values() for h in hs])
         text, spans = trim_passage(sent.text, spans)
+        if not first_quote(text, quoted):
+            continue
         evidence.append(Evidence(text, sent.location, score, spans, tuple(f.id for f in item.facets if f.id in fhits),
                                  scan.attribution(si).kind))
         if len(evidence) >= MAX_EVIDENCE:
@@ -270,6 +273,17 @@ def merge_spans(spans: list[tuple[int, int]]) -> tuple[tuple[int, int], ...]:
         else:
             out.append([s, e])
     return tuple((s, e) for s, e in out)
+
+
+def first_quote(text: str, quoted: set[str]) -> bool:
+    """Whether a passage says something not quoted yet for the item, and note it: the same sentence met again (a
+    line repeated on several pages of a site, an abstract's sentence in the body) is quoted once, leaving its
+    place to another passage."""
+    said = " ".join(text.split()).casefold()
+    if said in quoted:
+        return False
+    quoted.add(said)
+    return True
 
 
 def trim_passage(text: str, spans: tuple[tuple[int, int], ...]) -> tuple[str, tuple[tuple[int, int], ...]]:

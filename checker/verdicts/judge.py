@@ -317,14 +317,19 @@ def weak_evidence(scan: Scan, quotable: dict[int, tuple[list[tuple[int, int]], s
                   scores: list[float]) -> tuple:
     """The quotes of an item the judge found where the cues' hits counted too little on their own: the sentences
     with a facet's cue (see quotable_sentences), those the sentence scorer rates highest first."""
-    from .decide import MAX_EVIDENCE, merge_spans, trim_passage
+    from .decide import MAX_EVIDENCE, first_quote, merge_spans, trim_passage
     from .report import Evidence
 
-    out = []
-    for si in sorted(quotable, key=lambda i: (-scores[i], i))[:MAX_EVIDENCE]:
+    out: list = []
+    quoted: set[str] = set()
+    for si in sorted(quotable, key=lambda i: (-scores[i], i)):
+        if len(out) >= MAX_EVIDENCE:
+            break
         spans, facets = quotable[si]
         sent = scan.sentences[si]
         text, marked = trim_passage(sent.text, merge_spans(spans))
+        if not first_quote(text, quoted):
+            continue
         out.append(Evidence(text, sent.location, round(scores[si], 3), marked, tuple(sorted(facets)),
                             scan.attribution(si).kind))
     return tuple(out)
