@@ -17,8 +17,8 @@ The judge may only move a verdict where quotes can back it: it never makes an it
 sentence where one of the item's facet cues was found (quoted, if the cues had counted it too little), and it
 leaves not-applicable and waived items alone. The quotes a report shows stay the cues' sentences; the sentence
 scorer only orders them (the likeliest first, see decide.evaluate_item). The reason says when the judge moved a
-verdict and what the cues found. `judge: cues` in the
-settings (or `--judge cues`) turns it off. No word of any document is kept in the model: only hashes of words.
+verdict and what the cues found. `judge: cues` in the settings (or `--judge cues`) turns it off. No word of any
+document is kept in the model: only hashes of words.
 """
 
 from __future__ import annotations
@@ -285,8 +285,8 @@ def rejudge(scan: Scan, results: tuple[ItemResult, ...], models: Models | None =
         if r.id not in models.judges or r.status not in STATUSES:
             out.append(r)
             continue
-        scores_ = scores(ii, r.id)
-        x = judge_features(scores_, r.status, [(f.found, f.score) for f in r.facets])
+        likely = scores(ii, r.id)
+        x = judge_features(likely, r.status, [(f.found, f.score) for f in r.facets])
         quotable = quotable_sentences(scan, ii, [f.id for f in r.facets])
         status = allowed(r.status, predict(models.judges[r.id], x), bool(r.evidence) or bool(quotable),
                          only_mentioned((needed or {}).get(r.id), r.facets))
@@ -294,7 +294,7 @@ def rejudge(scan: Scan, results: tuple[ItemResult, ...], models: Models | None =
             out.append(r)
             continue
         if status in ("reported", "partial") and not r.evidence:
-            r = dataclasses.replace(r, evidence=weak_evidence(scan, quotable, scores_))
+            r = dataclasses.replace(r, evidence=weak_evidence(scan, quotable, likely))
         out.append(moved(r, status))
     return tuple(out)
 
