@@ -7,8 +7,8 @@ document is checked once with the checklist its label names. Two models are then
 grouped by document, so that each document is judged by models that never saw it:
 
 1. a sentence scorer: logistic regression on hashed lemma unigrams and bigrams of a sentence, its section role,
-   its block kind, whose statement it is (checker.matching.attribution) and whether a cue of the item hit it,
-   trained to find the sentences that hold the labelled passage;
+   its block kind, whose statement it is (checker.matching.attribution), whether a cue of the item hit it and
+   which of the item's facets' own cues matched it, trained to find the sentences that hold the labelled passage;
 2. an item judge: logistic regression from the sentence scores (best, second, mean of the top three, how many
    above one half) and the checker's own verdict (status, share of facets found, best facet score) to the
    labelled status (reported, partial or missing); it asks first whether the item is there at all (partial and
@@ -48,7 +48,8 @@ def _check(task):
     from checker.matching.nlp import parse_blocks
     from checker.reading import read_document
     from checker.verdicts.decide import evaluate
-    from checker.verdicts.judge import cue_sentences, features_of, needed_facets, only_mentioned, quotable_sentences
+    from checker.verdicts.judge import (cue_sentences, facet_sentences, features_of, needed_facets, only_mentioned,
+                                        quotable_sentences)
 
     try:
         doc = read_document(document, DEFAULT_LIMITS)
@@ -72,12 +73,15 @@ def _check(task):
                           "hit": sorted(cue_sentences(scan, ii)), "facets": [(f.found, f.score) for f in res.facets],
                           "quotable": bool(quotable_sentences(scan, ii, [f.id for f in item.facets])),
                           "mention_only": only_mentioned(held.get(item.id), res.facets),
-                          "label": labels[item.id]}
+                          "label": labels[item.id],
+                          "facet_hits": {f: sorted(v) for f, v in
+                                         facet_sentences(scan, ii, [f.id for f in item.facets]).items() if v}}
     return {"document": document, "sentences": sentences, "features": features, "items": items}
 
 
-def _sentence_model(lr, keep: int) -> dict:
-    """A fitted sentence scorer as the judge file keeps it: the `keep` words of the largest weights, rounded."""
+def _sentence_model(lr, keep: int, facet_ids: list[str]) -> dict:
+    """A fitted sentence scorer as the judge file keeps it: the `keep` words of the largest weights, rounded, and
+    the weight of each facet's own cue."""
     import numpy as np
 
     coef = lr.coef_[0]
@@ -85,7 +89,8 @@ def _sentence_model(lr, keep: int) -> dict:
     nz = np.flatnonzero(words)
     top = nz[np.argsort(-np.abs(words[nz]), kind="stable")[:keep]]
     return {"bias": round(float(lr.intercept_[0]), 4), "cue": round(float(coef[BUCKETS]), 4),
-            "words": {int(j): round(float(words[j]), 4) for j in sorted(top)}}
+            "words": {int(j): round(float(words[j]), 4) for j in sorted(top)},
+            "facets": {f: round(float(coef[BUCKETS + 1 + j]), 4) for j, f in enumerate(facet_ids)}}
 
 
 #: an item with too few labelled passages to learn from scores every sentence near zero
@@ -143,6 +148,10 @@ def main(argv: list[str] | None = None) -> int:
             print(f"  not checked: {d['document']}: {d['error']}")
     checked = [d for d in checked if "error" not in d]
 
+    facets_of: dict[str, list[str]] = defaultdict(list)  # item -> its facet ids, one column each
+    for d in checked:
+        for item_id, it in d["items"].items():
+            facets_of[item_id] = sorted(set(facets_of[item_id]) | set(it["facet_hits"]))
     matrices, rows = {}, []
     for d in checked:
         feats = d["features"]
@@ -151,8 +160,10 @@ def main(argv: list[str] | None = None) -> int:
         matrices[d["document"]] = csr_matrix((np.ones(len(ind)), ind, ptr), shape=(len(feats), BUCKETS))
         for item_id, it in d["items"].items():
             status, quote = it["label"]
-            hit = np.zeros((len(feats), 1))
-            hit[it["hit"]] = 1
+            hit = np.zeros((len(feats), 1 + len(facets_of[item_id])))
+            hit[it["hit"], 0] = 1
+            for j, f in enumerate(facets_of[item_id]):
+                hit[it["facet_hits"].get(f, []), 1 + j] = 1
             wanted = set()
             if status in POSITIVE and quote:
                 wanted = {i for i, s in enumerate(d["sentences"])
@@ -184,7 +195,8 @@ def main(argv: list[str] | None = None) -> int:
         for item_id, rs in sorted(by_item.items()):
             y = np.concatenate([[int(i in r["wanted"]) for i in range(len(r["doc"]["sentences"]))] for r in rs])
             fitted[item_id] = NO_WORDS if y.sum() < 3 else _sentence_model(LogisticRegression(
-                C=0.5, class_weight="balanced", solver="liblinear").fit(vstack([x_of(r) for r in rs]), y), args.keep)
+                C=0.5, class_weight="balanced", solver="liblinear").fit(vstack([x_of(r) for r in rs]), y), args.keep,
+                facets_of[item_id])
         models = Models.build(BUCKETS, fitted, {})
         z_of = {}
         for k, r in enumerate(rows):
@@ -192,7 +204,8 @@ def main(argv: list[str] | None = None) -> int:
             if fold[doc["document"]] == f and r["item"] in fitted:
                 if doc["document"] not in z_of:
                     z_of[doc["document"]] = models.scores(doc["features"], [s["weight"] for s in doc["sentences"]])
-                scores[k] = models.item_scores(*z_of[doc["document"]], r["item"], set(r["it"]["hit"]))
+                scores[k] = models.item_scores(*z_of[doc["document"]], r["item"], set(r["it"]["hit"]),
+                                               {f: set(v) for f, v in r["it"]["facet_hits"].items()})
             elif fold[doc["document"]] == f:
                 scores[k] = [0.0] * len(doc["sentences"])
         if f == args.folds:

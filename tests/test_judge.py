@@ -307,3 +307,30 @@ def test_the_default_report_quotes_in_the_scorers_order_and_the_cues_setting_in_
     monkeypatch.setenv("STUDYGAP_JUDGE", "cues")
     cues = next(it for it in check_text(ORDER_TEXT).items if it.id == item)
     assert "harbour/eval" in cues.evidence[0].text
+
+
+def test_a_facets_own_cue_weighs_in_as_scikit_learns_logistic_regression_computes():
+    # External check, as above: a sentence scorer with a column for whether each facet's own cue matched the
+    # sentence scores what scikit-learn's LogisticRegression.predict_proba gives for the same columns
+    np = pytest.importorskip("numpy")
+    linear = pytest.importorskip("sklearn.linear_model")
+    rng = np.random.RandomState(5)
+    buckets, n = 32, 150
+    features = [sorted(set(rng.randint(0, buckets, size=rng.randint(1, 6)).tolist())) for _ in range(n)]
+    hit = rng.rand(n) < 0.4
+    count = hit & (rng.rand(n) < 0.5)  # the facet "count" matched a part of the sentences with a cue
+    x = np.zeros((n, buckets + 2))
+    for i, fs in enumerate(features):
+        x[i, fs] = 1
+    x[:, buckets], x[:, buckets + 1] = hit, count
+    y = ((x[:, 2] + 2 * count + rng.rand(n)) > 1.2).astype(int)
+    lr = linear.LogisticRegression(C=0.5, solver="liblinear").fit(x, y)
+    sentence = {"bias": float(lr.intercept_[0]), "cue": float(lr.coef_[0][buckets]),
+                "words": {b: float(w) for b, w in enumerate(lr.coef_[0][:buckets]) if w},
+                "facets": {"count": float(lr.coef_[0][buckets + 1])}}
+    models = Models.build(buckets, {"data.counts": sentence}, {})
+    z, damp = models.scores(features, [0.9] * n)
+    got = models.item_scores(z, damp, "data.counts", set(np.flatnonzero(hit).tolist()),
+                             {"count": set(np.flatnonzero(count).tolist())})
+    assert np.allclose(got, lr.predict_proba(x)[:, 1], atol=1e-9)
+    assert models.facet_cues["data.counts"]["count"] != 0.0

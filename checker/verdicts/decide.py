@@ -97,7 +97,7 @@ def under_topic_heading(scan: Scan, item: Item) -> Callable[[int], bool]:
 
 
 def evaluate_item(compiled: CompiledChecklist, scan: Scan, ii: int, item: Item, waivers: dict[str, str],
-                  scores: Callable[[int, str], Sequence[float] | None] | None = None) -> ItemResult:
+                  scores: Callable[[int, str, list[str]], Sequence[float] | None] | None = None) -> ItemResult:
     from ..matching.facts import parse_value
     from .fitted import threshold
 
@@ -121,7 +121,7 @@ def evaluate_item(compiled: CompiledChecklist, scan: Scan, ii: int, item: Item, 
             by_sentence.setdefault(h.sentence, {}).setdefault(fh.facet.id, []).append(h)
     weights = {fh.facet.id: fh.facet.weight for fh in per_facet}
     topical = under_topic_heading(scan, item)
-    likely = scores(ii, item.id) if scores is not None else None
+    likely = scores(ii, item.id, [f.id for f in item.facets]) if scores is not None else None
     ranked = sorted(
         by_sentence.items(),
         key=lambda kv: (-sum(weights[f] for f in kv[1]) * scan.weight(kv[0])
@@ -303,9 +303,10 @@ def trim_passage(text: str, spans: tuple[tuple[int, int], ...]) -> tuple[str, tu
 
 
 def evaluate(compiled: CompiledChecklist, scan: Scan, waivers: dict[str, str] | None = None,
-             scores: Callable[[int, str], Sequence[float] | None] | None = None) -> tuple[ItemResult, ...]:
-    """Every item's result from the cues. `scores` (item index, item id -> a score per sentence, or None) orders
-    each item's quotes where given; it never changes a status."""
+             scores: Callable[[int, str, list[str]], Sequence[float] | None] | None = None
+             ) -> tuple[ItemResult, ...]:
+    """Every item's result from the cues. `scores` (item index, item id, facet ids -> a score per sentence, or None)
+    orders each item's quotes where given; it never changes a status."""
     waivers = waivers or {}
     return tuple(evaluate_item(compiled, scan, ii, it, waivers, scores)
                  for ii, it in enumerate(compiled.checklist.items))

@@ -7,7 +7,8 @@ per item, fitted by `python benchmarks/learned.py --write` on labelled documents
 checklists/judge.json, weigh that:
 
 1. a sentence scorer: a logistic regression on hashed lemma unigrams and bigrams of a sentence, its section role,
-   block kind, whose statement it is and whether a cue of the item is in it; it scores how likely the sentence
+   block kind, whose statement it is, whether a cue of the item is in it and which of the item's facets' own
+   cues matched it; it scores how likely the sentence
    holds what the item asks;
 2. an item judge: a logistic regression from the best sentence scores and the cues' own verdict (status, share of
    facets found, best facet score) to reported, partial or missing; it first weighs whether the item is there at
@@ -29,6 +30,7 @@ import re
 import zlib
 from functools import lru_cache
 from importlib import resources
+from collections.abc import Sequence
 from typing import TYPE_CHECKING, Any
 
 from ..core.errors import ChecklistError
@@ -75,6 +77,8 @@ class Models:
     bias: Any  # numpy array (len(items),)
     cue: Any  # numpy array (len(items),)
     judges: dict[str, dict[str, Any]]
+    #: item -> facet id -> weight when that facet's own cue matched the sentence (none in older model files)
+    facet_cues: dict[str, dict[str, float]] = dataclasses.field(default_factory=dict)
 
     @classmethod
     def build(cls, buckets: int, sentence: dict[str, dict[str, Any]], judges: dict[str, dict[str, Any]]) -> Models:
@@ -87,7 +91,8 @@ class Models:
             for b, w in sentence[item]["words"].items():
                 words[rows[b], k] = w
         return cls(buckets, items, rows, words, np.array([float(sentence[i]["bias"]) for i in items]),
-                   np.array([float(sentence[i]["cue"]) for i in items]), judges)
+                   np.array([float(sentence[i]["cue"]) for i in items]), judges,
+                   {i: {str(f): float(w) for f, w in sentence[i].get("facets", {}).items()} for i in items})
 
     def scores(self, features: list[list[int]], weights: list[float]) -> tuple[Any, Any]:
         """Every sentence's linear score per item before its cue (sentences x items), and the damping of each
@@ -107,14 +112,20 @@ class Models:
         z = np.concatenate(parts) if parts else np.zeros((0, len(self.items)))
         return z, np.minimum(1.0, np.asarray(weights, dtype=float) / FULL_WEIGHT)
 
-    def item_scores(self, z: Any, damp: Any, item: str, cue_hit: set[int]) -> list[float]:
-        """How likely each sentence holds what the item asks, damped where the sentence counts little."""
+    def item_scores(self, z: Any, damp: Any, item: str, cue_hit: set[int],
+                    facet_hit: dict[str, set[int]] | None = None) -> list[float]:
+        """How likely each sentence holds what the item asks, damped where the sentence counts little.
+        `facet_hit`: per facet id, the sentences where that facet's own cue matched."""
         import numpy as np
 
         k = self.items.index(item)
         hit = np.zeros(len(damp))
         hit[sorted(cue_hit)] = 1.0
         lin = z[:, k] + self.bias[k] + self.cue[k] * hit
+        for fid, w in self.facet_cues.get(item, {}).items():
+            sents = sorted((facet_hit or {}).get(fid, ()))
+            if sents and w:
+                lin[sents] += w
         return list(damp / (1.0 + np.exp(-np.clip(lin, -30.0, 30.0))))
 
 
@@ -191,7 +202,9 @@ def parse_model(text: str, file: str) -> Models:
             intercept = [float(v) for v in j["intercept"]]
             if len(coef) != len(intercept) or any(len(row) != N_JUDGE_FEATURES for row in coef):
                 raise ValueError(f"{item_id}: the judge's coefficients do not fit its features")
-            sentence[str(item_id)] = {"bias": float(s["bias"]), "cue": float(s["cue"]), "words": words}
+            facets = {str(f): float(w) for f, w in s.get("facets", {}).items()}
+            sentence[str(item_id)] = {"bias": float(s["bias"]), "cue": float(s["cue"]), "words": words,
+                                      "facets": facets}
             judges[str(item_id)] = {"classes": classes, "coef": coef, "intercept": intercept,
                                     "positive_first": bool(j.get("positive_first", False))}
     except (ValueError, KeyError, TypeError, AttributeError) as exc:
@@ -247,9 +260,9 @@ class SentenceScores:
         self._damp: Any = None
         self._items: dict[int, list[float]] = {}
 
-    def __call__(self, ii: int, item: str) -> list[float] | None:
-        """How likely each sentence holds what item `item` (index ii of the checklist) asks; None when the
-        models have no scorer for the item."""
+    def __call__(self, ii: int, item: str, facet_ids: Sequence[str] = ()) -> list[float] | None:
+        """How likely each sentence holds what item `item` (index ii of the checklist, with these facets in their
+        order) asks; None when the models have no scorer for the item."""
         if item not in self.models.items or not self.scan.sentences:
             return None
         if ii not in self._items:
@@ -257,8 +270,16 @@ class SentenceScores:
                 self._z, self._damp = self.models.scores(
                     features_of(self.scan, self.models.buckets),
                     [self.scan.weight(i) for i in range(len(self.scan.sentences))])
-            self._items[ii] = self.models.item_scores(self._z, self._damp, item, cue_sentences(self.scan, ii))
+            self._items[ii] = self.models.item_scores(self._z, self._damp, item, cue_sentences(self.scan, ii),
+                                                      facet_sentences(self.scan, ii, facet_ids))
         return self._items[ii]
+
+
+def facet_sentences(scan: Scan, ii: int, facet_ids: Sequence[str]) -> dict[str, set[int]]:
+    """Per facet id of item ii, the sentences where that facet's own cue matched."""
+    from ..matching.matcher import CUE, key
+
+    return {fid: {h.sentence for h in scan.hits.get(key(ii, fi, CUE), ())} for fi, fid in enumerate(facet_ids)}
 
 
 def sentence_scores(scan: Scan, models: Models | None = None) -> SentenceScores | None:
@@ -285,7 +306,7 @@ def rejudge(scan: Scan, results: tuple[ItemResult, ...], models: Models | None =
         if r.id not in models.judges or r.status not in STATUSES:
             out.append(r)
             continue
-        likely = scores(ii, r.id)
+        likely = scores(ii, r.id, [f.id for f in r.facets])
         x = judge_features(likely, r.status, [(f.found, f.score) for f in r.facets])
         quotable = quotable_sentences(scan, ii, [f.id for f in r.facets])
         status = allowed(r.status, predict(models.judges[r.id], x), bool(r.evidence) or bool(quotable),
