@@ -9,10 +9,10 @@ grouped by document, so that each document is judged by models that never saw it
 1. a sentence scorer: logistic regression on hashed lemma unigrams and bigrams of a sentence, its section role,
    its block kind, whose statement it is (checker.matching.attribution), whether a cue of the item hit it and
    which of the item's facets' own cues matched it, trained to find the sentences that hold the labelled passage;
-2. an item judge: logistic regression from the sentence scores (best, second, mean of the top three, how many
-   above one half) and the checker's own verdict (status, share of facets found, best facet score) to the
-   labelled status (reported, partial or missing); it asks first whether the item is there at all (partial and
-   reported together against missing), then which of the two.
+2. an item judge: logistic regression from the sentence scores (best, second, mean of the top three, how many above
+   one half), the checker's own verdict (status, share of facets found, best facet score) and which built-in
+   checklist the label names, to the labelled status (reported, partial or missing); it asks first whether the item
+   is there at all (partial and reported together against missing), then which of the two.
 
 It prints, per labelled folder, the checker's figures against the learned ones (binary macro-F1, kappa,
 three-class agreement), and how often the top three sentences cover the labelled passage for the checker's
@@ -75,7 +75,8 @@ def _check(task):
                           "mention_only": only_mentioned(held.get(item.id), res.facets),
                           "label": labels[item.id],
                           "facet_hits": {f: sorted(v) for f, v in
-                                         facet_sentences(scan, ii, [f.id for f in item.facets]).items() if v}}
+                                         facet_sentences(scan, ii, [f.id for f in item.facets]).items() if v},
+                          "checklist": checklist}
     return {"document": document, "sentences": sentences, "features": features, "items": items}
 
 
@@ -212,7 +213,8 @@ def main(argv: list[str] | None = None) -> int:
             sentence_models = fitted
         print(f"  round {f + 1} of {len(rounds)} scored", file=sys.stderr)
 
-    feats = {k: judge_features(scores[k], r["it"]["tool"], r["it"]["facets"]) for k, r in enumerate(rows)}
+    feats = {k: judge_features(scores[k], r["it"]["tool"], r["it"]["facets"], r["it"]["checklist"])
+             for k, r in enumerate(rows)}
     # the shipped judge asks first whether the item is there at all; --compare also shows the one that takes the
     # likeliest of the three statuses at once
     variants = {"judged": True, "argmax": False} if args.compare else {"judged": True}

@@ -222,7 +222,8 @@ def judged(compiled: CompiledChecklist, scan, items: tuple, config: Config, scor
         return items
     from .verdicts.judge import needed_facets, rejudge
 
-    return rejudge(scan, items, needed=needed_facets(compiled.checklist), scores=scores)
+    return rejudge(scan, items, needed=needed_facets(compiled.checklist), scores=scores,
+                   checklist=compiled.checklist.id)
 
 
 def build_report(document: Document, checklist: Checklist, items, choice: str, warnings: tuple[str, ...],

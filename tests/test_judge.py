@@ -19,7 +19,7 @@ from checker.verdicts.judge import (Models, allowed, judge_features, parse_model
 
 from .conftest import DEMO
 
-N_FEATURES = len(judge_features([], "missing", []))
+N_FEATURES = len(judge_features([], "missing", [], "validation-study"))
 TEXT = ("Two radiologists with ten years of experience each outlined every lesion. We report the Dice "
         "similarity coefficient per case.")
 
@@ -334,3 +334,41 @@ def test_a_facets_own_cue_weighs_in_as_scikit_learns_logistic_regression_compute
                              {"count": set(np.flatnonzero(count).tolist())})
     assert np.allclose(got, lr.predict_proba(x)[:, 1], atol=1e-9)
     assert models.facet_cues["data.counts"]["count"] != 0.0
+
+
+def _missing_for_dataset_descriptions() -> Models:
+    """Models whose annotators judge says missing for a dataset's own description and reported otherwise."""
+    from checker.verdicts.judge import CHECKLISTS
+
+    n = N_FEATURES
+    coef = [[0.0] * n for _ in range(3)]
+    coef[0][n - len(CHECKLISTS) + CHECKLISTS.index("dataset-description")] = 5.0  # missing, for a dataset's card
+    judge = {"classes": ["missing", "partial", "reported"], "coef": coef, "intercept": [0.0, -5.0, 1.0],
+             "positive_first": True}
+    return Models.build(16, {"reference.annotators": {"bias": 0.0, "cue": 0.0, "words": {}}},
+                        {"reference.annotators": judge})
+
+
+def test_the_judge_reads_which_checklist_asks():
+    # the same sentences and the same cue verdict can be judged differently for a paper and for a dataset's own
+    # description (the labelling conventions differ by kind of document)
+    from checker.verdicts.judge import CHECKLISTS
+
+    scan, results = _scan_and_results(TEXT)
+    assert next(r for r in results if r.id == "reference.annotators").status == "reported"
+    models = _missing_for_dataset_descriptions()
+    status = {c: next(r for r in rejudge(scan, results, models, checklist=c) if r.id == "reference.annotators").status
+              for c in CHECKLISTS}
+    assert status == {"validation-study": "reported", "benchmark-proposal": "reported",
+                      "dataset-description": "missing"}
+
+
+def test_a_report_is_judged_by_the_checklist_it_uses(learned_judge, monkeypatch):
+    # the engine tells the judge which checklist the report uses
+    from checker.verdicts import judge
+
+    models = _missing_for_dataset_descriptions()
+    monkeypatch.setattr(judge, "shipped", lambda: models)
+    status = {c: next(it for it in check_text(TEXT, c).items if it.id == "reference.annotators").status
+              for c in ("validation-study", "dataset-description")}
+    assert status == {"validation-study": "reported", "dataset-description": "missing"}

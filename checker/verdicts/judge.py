@@ -10,8 +10,8 @@ checklists/judge.json, weigh that:
    block kind, whose statement it is, whether a cue of the item is in it and which of the item's facets' own
    cues matched it; it scores how likely the sentence
    holds what the item asks;
-2. an item judge: a logistic regression from the best sentence scores and the cues' own verdict (status, share of
-   facets found, best facet score) to reported, partial or missing; it first weighs whether the item is there at
+2. an item judge: a logistic regression from the best sentence scores, the cues' own verdict (status, share of
+   facets found, best facet score) and which built-in checklist asks, to reported, partial or missing; it first weighs whether the item is there at
    all (partial and reported together against missing), then which of the two.
 
 The judge may only move a verdict where quotes can back it: it never makes an item reported or partial without a
@@ -44,6 +44,8 @@ JUDGE_FILE = "judge.json"
 STATUSES = ("missing", "partial", "reported")
 #: the cues' statuses the judge reads, one feature each (the order of the shipped coefficients)
 CUE_STATUSES = ("missing", "not-applicable", "partial", "reported")
+#: the built-in checklists, one feature each (the order of the shipped coefficients)
+CHECKLISTS = ("validation-study", "benchmark-proposal", "dataset-description")
 WORD = re.compile(r"[a-z][a-z-]+")
 NUMBER = re.compile(r"\d+(?:[.,]\d+)?%?")
 #: sentences scored together (bounds the memory of a long document's scoring)
@@ -129,16 +131,20 @@ class Models:
         return list(damp / (1.0 + np.exp(-np.clip(lin, -30.0, 30.0))))
 
 
-def judge_features(scores: list[float], status: str, facets: list[tuple[bool, float]]) -> list[float]:
-    """What the item judge reads: the best sentence scores and the cues' own verdict."""
+def judge_features(scores: list[float], status: str, facets: list[tuple[bool, float]], checklist: str) -> list[float]:
+    """What the item judge reads: the best sentence scores, the cues' own verdict and which built-in checklist
+    asks (careful readers read one item by the conventions of its kind of document: the public dataset a paper
+    names is its data source, while a dataset's own description that only names the dataset it was drawn from
+    says a part of it)."""
     p = sorted(scores, reverse=True) + [0.0, 0.0, 0.0]
     return [p[0], p[1], (p[0] + p[1] + p[2]) / 3, min(5, sum(1 for x in scores if x > 0.5)) / 5] + \
            [float(status == s) for s in CUE_STATUSES] + \
-           [sum(f for f, _ in facets) / max(1, len(facets)), max([s for _, s in facets] + [0.0])]
+           [sum(f for f, _ in facets) / max(1, len(facets)), max([s for _, s in facets] + [0.0])] + \
+           [float(checklist == c) for c in CHECKLISTS]
 
 
 #: how many numbers the item judge reads
-N_JUDGE_FEATURES = len(judge_features([], "missing", []))
+N_JUDGE_FEATURES = len(judge_features([], "missing", [], ""))
 
 
 def predict(judge: dict[str, Any], x: list[float]) -> str:
@@ -290,10 +296,11 @@ def sentence_scores(scan: Scan, models: Models | None = None) -> SentenceScores 
 
 def rejudge(scan: Scan, results: tuple[ItemResult, ...], models: Models | None = None,
             needed: dict[str, frozenset[str]] | None = None,
-            scores: SentenceScores | None = None) -> tuple[ItemResult, ...]:
+            scores: SentenceScores | None = None, checklist: str = "") -> tuple[ItemResult, ...]:
     """The results with the judge's status where it has a model for the item and quotes can back its verdict.
     `needed` (see needed_facets): the judge calls such an item reported only where the cues found one of its
-    facets, else partial at most. `scores`: the document's sentence scores, if already at hand."""
+    facets, else partial at most. `scores`: the document's sentence scores, if already at hand. `checklist`: the
+    built-in checklist's id (see CHECKLISTS)."""
     models = models if models is not None else (scores.models if scores is not None else shipped())
     if models is None or not scan.sentences:
         return results
@@ -307,7 +314,7 @@ def rejudge(scan: Scan, results: tuple[ItemResult, ...], models: Models | None =
             out.append(r)
             continue
         likely = scores(ii, r.id, [f.id for f in r.facets])
-        x = judge_features(likely, r.status, [(f.found, f.score) for f in r.facets])
+        x = judge_features(likely, r.status, [(f.found, f.score) for f in r.facets], checklist)
         quotable = quotable_sentences(scan, ii, [f.id for f in r.facets])
         status = allowed(r.status, predict(models.judges[r.id], x), bool(r.evidence) or bool(quotable),
                          only_mentioned((needed or {}).get(r.id), r.facets))
