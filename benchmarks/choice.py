@@ -57,7 +57,8 @@ def _features(task):
     for a, b in _excerpts(doc, document):
         part = dataclasses.replace(doc, blocks=doc.blocks[a:b])
         c = cue_counts(docs[a:b])
-        excerpts.append((hashed(choice_features(docs[a:b], part, c), BUCKETS), choose_by_cues(c, paper_skeleton(part))[0]))
+        excerpts.append((hashed(choice_features(docs[a:b], part, c), BUCKETS),
+                         choose_by_cues(c, paper_skeleton(part))[0]))
     return {"document": document, "features": hashed(choice_features(docs, doc, counts), BUCKETS),
             "cues": choose_by_cues(counts, paper_skeleton(doc))[0], "excerpts": excerpts}
 

@@ -8,11 +8,11 @@ checklists/judge.json, weigh that:
 
 1. a sentence scorer: a logistic regression on hashed lemma unigrams and bigrams of a sentence, its section role,
    block kind, whose statement it is, whether a cue of the item is in it and which of the item's facets' own
-   cues matched it; it scores how likely the sentence
-   holds what the item asks;
+   cues matched it; it scores how likely the sentence holds what the item asks;
 2. an item judge: a logistic regression from the best sentence scores, the cues' own verdict (status, share of
-   facets found, best facet score) and which built-in checklist asks, to reported, partial or missing; it first weighs whether the item is there at
-   all (partial and reported together against missing), then which of the two.
+   facets found, best facet score) and which built-in checklist asks, to reported, partial or missing; it first
+   weighs whether the item is there at all (partial and reported together against missing), then which of the
+   two.
 
 The judge may only move a verdict where quotes can back it: it never makes an item reported or partial without a
 sentence where one of the item's facet cues was found (quoted, if the cues had counted it too little), and it
@@ -28,9 +28,9 @@ import dataclasses
 import math
 import re
 import zlib
+from collections.abc import Sequence
 from functools import lru_cache
 from importlib import resources
-from collections.abc import Sequence
 from typing import TYPE_CHECKING, Any
 
 from ..core.errors import ChecklistError
