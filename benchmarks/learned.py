@@ -7,8 +7,9 @@ document is checked once with the checklist its label names. Two models are then
 grouped by document, so that each document is judged by models that never saw it:
 
 1. a sentence scorer: logistic regression on hashed lemma unigrams and bigrams of a sentence, its section role,
-   its block kind, whose statement it is (checker.matching.attribution), whether a cue of the item hit it and
-   which of the item's facets' own cues matched it, trained to find the sentences that hold the labelled passage;
+   the words of its two innermost headings, its block kind, whose statement it is (checker.matching.attribution),
+   whether a cue of the item hit it and which of the item's facets' own cues matched it, trained to find the
+   sentences that hold the labelled passage;
 2. an item judge: logistic regression from the sentence scores (best, second, mean of the top three, how many above
    one half), the checker's own verdict (status, share of facets found, best facet score) and which built-in
    checklist the label names, to the labelled status (reported, partial or missing); it asks first whether the item
@@ -276,7 +277,8 @@ def main(argv: list[str] | None = None) -> int:
 
         out = [{"document": rows[k]["doc"]["document"], "folder": folder_of[rows[k]["doc"]["document"]],
                 "item": rows[k]["item"], "human": rows[k]["human"], "cues": rows[k]["it"]["tool"],
-                "judged": learned[k], "free": free[k], "hits": len(rows[k]["it"]["hit"]), "evidence": len(rows[k]["it"]["evidence"])} for k in range(len(rows))]
+                "judged": learned[k], "free": free[k], "hits": len(rows[k]["it"]["hit"]),
+                "evidence": len(rows[k]["it"]["evidence"])} for k in range(len(rows))]
         args.dump.write_text(json.dumps(out, indent=1) + "\n", encoding="utf-8")
     if args.write:
         _write(sentence_models, judges_all, len(trained), sorted({folder_of[d] for d in trained}))

@@ -7,8 +7,9 @@ per item, fitted by `python benchmarks/learned.py --write` on labelled documents
 checklists/judge.json, weigh that:
 
 1. a sentence scorer: a logistic regression on hashed lemma unigrams and bigrams of a sentence, its section role,
-   block kind, whose statement it is, whether a cue of the item is in it and which of the item's facets' own
-   cues matched it; it scores how likely the sentence holds what the item asks;
+   the words of the headings it stands under, its block kind, whose statement it is, whether a cue of the item is
+   in it and which of the item's facets' own cues matched it; it scores how likely the sentence holds what the
+   item asks;
 2. an item judge: a logistic regression from the best sentence scores, the cues' own verdict (status, share of
    facets found, best facet score) and which built-in checklist asks, to reported, partial or missing; it first
    weighs whether the item is there at all (partial and reported together against missing), then which of the
@@ -54,8 +55,11 @@ SENTENCES_AT_ONCE = 512
 FULL_WEIGHT = 0.9
 
 
-def sentence_features(lemmas: list[str], role: str, kind: str, whose: str, buckets: int) -> list[int]:
-    """The hashed features of one sentence: its lemmas (numbers as one word), lemma pairs, and where it stands."""
+def sentence_features(lemmas: list[str], role: str, kind: str, whose: str, buckets: int,
+                      heading: tuple[str, ...] = ()) -> list[int]:
+    """The hashed features of one sentence: its lemmas (numbers as one word), lemma pairs, where it stands and the
+    words of the headings it stands under (the two innermost: "Annotation protocol" says more than the section's
+    role alone)."""
     words = []
     for lemma in lemmas:
         if NUMBER.fullmatch(lemma):
@@ -64,6 +68,7 @@ def sentence_features(lemmas: list[str], role: str, kind: str, whose: str, bucke
             words.append(lemma)
     names = set(words) | {a + "_" + b for a, b in zip(words, words[1:])}
     names |= {"@role=" + role, "@kind=" + kind, "@whose=" + whose}
+    names |= {"@head=" + w for h in heading[-2:] for w in WORD.findall(h.lower())}
     return sorted({zlib.crc32(n.encode()) % buckets for n in names})
 
 
@@ -235,7 +240,8 @@ def features_of(scan: Scan, buckets: int) -> list[list[int]]:
         if di != current:  # one parsed block's lemmas at a time
             current, lemmas = di, [(t.lemma_ or t.lower_).lower() for t in scan.docs[di]]
         s = scan.sentences[i]
-        out.append(sentence_features(lemmas[a:b], s.role, s.kind, scan.attribution(i).kind, buckets))
+        out.append(sentence_features(lemmas[a:b], s.role, s.kind, scan.attribution(i).kind, buckets,
+                                     s.location.section))
     return out
 
 
