@@ -178,6 +178,22 @@ READINGS = [
                  "organisers, who compute the scores.", "missing", id="submit-to-organisers"),
     pytest.param(BP, "governance.organizer-participation", "Organisers may participate but are not eligible for "
                  "prizes.", "reported", id="organisers-may-participate"),
+    # organisers who approve registrations, list their affiliations or publish the participating teams' runs set
+    # no rule on their own taking part either (common practice in challenge pages)
+    pytest.param(BP, "governance.organizer-participation", "The organisers review each registration form and "
+                 "confirm your participation by e-mail.", "missing", id="organisers-approve-participation"),
+    pytest.param(BP, "governance.organizer-participation", "Organizing committee | Affiliation | Role",
+                 "missing", id="organisers-affiliation-table"),
+    pytest.param(BP, "governance.organizer-participation", "After the workshop the organizing team releases its "
+                 "scoring scripts together with the final runs of every participating team.", "missing",
+                 id="organisers-release-participants-runs"),
+    pytest.param(BP, "governance.organizer-participation", "Members of the organising institutions may take part, "
+                 "but their entries are listed out of competition.", "reported", id="organisers-may-take-part"),
+    # the legal terms of a contest, where technical failures may cancel it (common practice in contest terms), say
+    # nothing about a case without an output
+    pytest.param(BP, "results.missing", "The host reserves the right to cancel or suspend the contest if it cannot "
+                 "run as planned because of computer viruses, tampering or technical failures.", "missing",
+                 id="contest-terms-technical-failures"),
     # where the data come from, said by how and where they were gathered or by the public set used (common practice
     # in papers and dataset cards); naming the public dataset a paper used is its data source (the development
     # set's labelling conventions)
