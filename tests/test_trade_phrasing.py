@@ -149,6 +149,20 @@ READINGS = [
     # a rule on external data stated with a modal (common practice in challenge rules)
     pytest.param(BP, "data.external-policy", "Participants' models could not be trained on external data.",
                  "reported", id="could-not-be-trained"),
+    # the same rule in the other usual words of challenge rules: outside information or resources allowed, data
+    # collected by the teams, only the organisers' data (common practice in shared-task and challenge pages)
+    pytest.param(BP, "data.external-policy", "Teams may freely use any outside resources, such as other corpora or "
+                 "lexicons.", "reported", id="may-freely-use-resources"),
+    pytest.param(BP, "data.external-policy", "You are allowed to use external information when building your "
+                 "runs.", "reported", id="external-information-allowed"),
+    pytest.param(BP, "data.external-policy", "Only the images provided by the organizers can be used for training.",
+                 "reported", id="only-organisers-data"),
+    pytest.param(BP, "data.external-policy", "Teams may also collect additional data of their own.", "reported",
+                 id="may-collect-more-data"),
+    # a paper's backbone initialised on a standard public image set discloses its pretraining (common practice in
+    # method sections)
+    pytest.param(VS, "data.external-policy", "All detectors used an ImageNet-initialized backbone.", "reported",
+                 id="imagenet-initialised"),
     # a datasheet that names metrics without evaluating anything does not report an evaluation (the labelling
     # conventions: evaluation items are not-applicable for a datasheet); one that evaluates baselines does
     pytest.param(DS, "metrics.definition", "Each image is labelled benign or malignant; accuracy and sensitivity "
