@@ -106,6 +106,13 @@ READINGS = [
                  "pathologists.", "partial", id="several-experts"),
     pytest.param(DS, "reference.annotators", "All clips were labelled independently by multiple raters.", "partial",
                  id="multiple-raters"),
+    # ... as a team of annotators, as the document's own authors, or as the people who transcribed the data (common
+    # practice in dataset cards and papers)
+    pytest.param(DS, "reference.annotators", "Every frame was marked by a group of trained annotators.", "partial",
+                 id="a-group-of-annotators"),
+    pytest.param(DS, "reference.annotators", "All clips were labelled by the authors.", "partial", id="the-authors"),
+    pytest.param(DS, "reference.annotators", "The interviews were transcribed by students of the institute.",
+                 "partial", id="transcribed-by-students"),
     # ... or as a service, a team or a kind of worker (common practice in dataset cards)
     pytest.param(DS, "reference.annotators", "The transcriptions are done by a data company.", "partial",
                  id="done-by-a-company"),
