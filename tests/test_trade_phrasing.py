@@ -193,6 +193,12 @@ READINGS = [
                  "not-applicable", id="ranks-features"),
     pytest.param(VS, "ranking.method", "The five models were ranked by their mean AUC.", "reported",
                  id="ranks-models"),
+    # a metric built on ranks is no rule for ordering the methods (common practice in retrieval benchmarks); ranking
+    # the teams by it is
+    pytest.param(BP, "ranking.method", "Runs are scored by mean reciprocal rank, that is the average rank of the "
+                 "first relevant document over all queries.", "partial", id="reciprocal-rank-metric"),
+    pytest.param(BP, "ranking.method", "Teams are ordered by their mean reciprocal rank on the hidden queries.",
+                 "reported", id="ranked-by-reciprocal-rank"),
     # organisers who receive results or answer e-mails set no rule on their own taking part (common practice in
     # challenge pages); a rule names their eligibility
     pytest.param(BP, "governance.organizer-participation", "Participants submit their outputs by email to the task "
