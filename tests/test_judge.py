@@ -210,7 +210,6 @@ def test_features_are_hashed_words_numbers_and_where_the_sentence_stands():
     assert a == sorted(set(a)) and all(0 <= f < 1 << 18 for f in a)
 
 
-
 def test_the_words_of_the_headings_a_sentence_stands_under_are_features():
     words = ["two", "rater", "label", "120", "case"]
 
@@ -221,6 +220,7 @@ def test_the_words_of_the_headings_a_sentence_stands_under_are_features():
     assert under("Methods", "Annotation protocol") != under()
     # the two innermost headings count, whatever their case; the outer ones add nothing
     assert under("Part II", "Methods", "Annotation protocol") == under("Study", "METHODS", "annotation protocol")
+
 
 def test_a_damaged_model_file_is_named():
     with pytest.raises(ChecklistError, match=r"checklists/judge.json:1:1: not a judge model"):

@@ -288,10 +288,9 @@ class SentenceScores:
 
 
 def facet_sentences(scan: Scan, ii: int, facet_ids: Sequence[str]) -> dict[str, set[int]]:
-    """Per facet id of item ii, the sentences where that facet's own cue matched."""
-    from ..matching.matcher import CUE, key
-
-    return {fid: {h.sentence for h in scan.hits.get(key(ii, fi, CUE), ())} for fi, fid in enumerate(facet_ids)}
+    """Per facet id of item ii, the sentences where that facet's own cue matched (see quotable_sentences)."""
+    quotable = quotable_sentences(scan, ii, facet_ids)
+    return {fid: {si for si, (_, facets) in quotable.items() if fid in facets} for fid in facet_ids}
 
 
 def sentence_scores(scan: Scan, models: Models | None = None) -> SentenceScores | None:
@@ -333,7 +332,8 @@ def rejudge(scan: Scan, results: tuple[ItemResult, ...], models: Models | None =
     return tuple(out)
 
 
-def quotable_sentences(scan: Scan, ii: int, facet_ids: list[str]) -> dict[int, tuple[list[tuple[int, int]], set[str]]]:
+def quotable_sentences(scan: Scan, ii: int,
+                       facet_ids: Sequence[str]) -> dict[int, tuple[list[tuple[int, int]], set[str]]]:
     """The sentences where a facet's own cue of item ii was found (not only a `near`, `unless` or `applies_when`
     cue), with the matched spans and the facets."""
     from ..matching.matcher import CUE, key
