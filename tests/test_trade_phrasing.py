@@ -234,6 +234,24 @@ READINGS = [
                  id="named-dataset-will-be-used"),
     pytest.param(VS, "data.source", "We used the default settings of the detector.", "missing",
                  id="used-the-settings"),
+    # an annotation guideline states its procedure as instructions to the annotators: the task, what to choose for
+    # each unit and how many labels a unit may get (common practice in annotation manuals and crowdsourcing task
+    # pages)
+    pytest.param(DS, "reference.protocol", "Your task is to label each tweet with the emotion it expresses most "
+                 "strongly.", "reported", id="your-task-is-to-label"),
+    pytest.param(DS, "reference.protocol", "Annotators should assign exactly one of the five categories to each "
+                 "sentence.", "reported", id="annotators-should-assign-one-category"),
+    pytest.param(DS, "reference.protocol", "Each utterance receives a single label from the intent list.",
+                 "reported", id="each-unit-receives-one-label"),
+    pytest.param(DS, "reference.protocol", "Several labels may be selected for one clip when more than one sound "
+                 "is heard.", "reported", id="several-labels-may-be-selected"),
+    pytest.param(DS, "reference.protocol", "We asked the raters whether each answer was supported by the passage.",
+                 "reported", id="we-asked-the-raters"),
+    # a challenge's instructions to its participants are no annotation procedure (common practice in challenge
+    # pages)
+    pytest.param(BP, "reference.protocol", "The reference masks were drawn by two radiologists. Your task is to "
+                 "submit one prediction file with a label for every test image.", "partial",
+                 id="your-task-is-to-submit"),
 ]
 
 
