@@ -252,6 +252,20 @@ READINGS = [
     pytest.param(BP, "reference.protocol", "The reference masks were drawn by two radiologists. Your task is to "
                  "submit one prediction file with a label for every test image.", "partial",
                  id="your-task-is-to-submit"),
+    # a paper names the public set it builds on or was tested on, and a dataset card says where its recordings
+    # come from (common practice in papers and dataset cards)
+    pytest.param(VS, "data.source", "Our detector leverages the Harbour Birds corpus.", "reported",
+                 id="leverages-the-named-corpus"),
+    pytest.param(VS, "data.source", "We evaluate the model on Northfield Street dataset and report the mean score.",
+                 "reported", id="evaluated-on-a-named-dataset"),
+    pytest.param(DS, "data.source", "The recordings originate from two coastal field stations.", "reported",
+                 id="recordings-originate-from"),
+    # a set made from another public one, said to come from it, names that set only (the development set's
+    # labelling conventions)
+    pytest.param(DS, "data.source", "All images come from the Harbour Crops dataset.", "partial",
+                 id="images-come-from-a-named-dataset"),
+    pytest.param(VS, "data.source", "We evaluate the model on held-out data from the same distribution.",
+                 "missing", id="evaluated-on-held-out-data"),
 ]
 
 
