@@ -266,6 +266,16 @@ READINGS = [
                  id="images-come-from-a-named-dataset"),
     pytest.param(VS, "data.source", "We evaluate the model on held-out data from the same distribution.",
                  "missing", id="evaluated-on-held-out-data"),
+    # what the labels are, without how they were made, is part of the protocol only: the classes the annotations
+    # cover, the tagset, what the annotations consist of (the development set's labelling conventions); the classes
+    # a classifier is trained on are no word about the reference (common practice)
+    pytest.param(DS, "reference.protocol", "The images come with annotations for 23 object classes.", "partial",
+                 id="annotations-for-n-classes"),
+    pytest.param(DS, "reference.protocol", "The tagset has nine entity types.", "partial", id="the-tagset"),
+    pytest.param(DS, "reference.protocol", "Annotations include segmentation masks of hands and tools, as well as "
+                 "keypoints.", "partial", id="annotations-include"),
+    pytest.param(VS, "reference.protocol", "We trained the classifier for 30 epochs on 4 classes.", "missing",
+                 id="trained-on-n-classes"),
 ]
 
 
