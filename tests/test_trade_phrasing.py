@@ -276,6 +276,14 @@ READINGS = [
                  "keypoints.", "partial", id="annotations-include"),
     pytest.param(VS, "reference.protocol", "We trained the classifier for 30 epochs on 4 classes.", "missing",
                  id="trained-on-n-classes"),
+    # a data set sized in its own units, whatever they are (common practice in dataset cards and corpus papers);
+    # what describes the data (classes, columns) is no count of it
+    pytest.param(DS, "data.counts", "The corpus contains 2,720 extracts, each with seven annotations.", "reported",
+                 id="corpus-contains-n-extracts"),
+    pytest.param(DS, "data.counts", "The collection comprises 64 films from three decades.", "reported",
+                 id="collection-comprises-n-films"),
+    pytest.param(DS, "data.counts", "The dataset contains 14 classes of findings.", "missing",
+                 id="dataset-contains-n-classes"),
 ]
 
 
