@@ -284,6 +284,37 @@ READINGS = [
                  id="collection-comprises-n-films"),
     pytest.param(DS, "data.counts", "The dataset contains 14 classes of findings.", "missing",
                  id="dataset-contains-n-classes"),
+    # a device or an acquisition is named with its own words, not by a paper's deadline or by work "performed on"
+    # a server or on levels (common practice: competition timelines ask for camera-ready papers; evaluation
+    # protocols say where and how scoring is performed)
+    pytest.param(BP, "data.source", "We describe the timeline of the challenge. Camera-ready papers are due on "
+                 "25 July.", "not-applicable", id="camera-ready-is-no-camera"),
+    pytest.param(BP, "data.source", "Evaluation in this task is performed on three levels: incident, document and "
+                 "mention.", "not-applicable", id="evaluation-performed-on-levels"),
+    pytest.param(DS, "data.source", "The corpus has 40 hours of speech. Data collection was performed using "
+                 "smartphones at two clinics.", "reported", id="collection-performed-using"),
+    # a network applied slice by slice is no annotation procedure; people who draw slice by slice follow one
+    # (common practice in segmentation papers)
+    pytest.param(VS, "reference.protocol", "Reference tumour masks were available for all cases. We applied the 2D "
+                 "U-net slice by slice to the whole dataset.", "missing", id="network-applied-slice-by-slice"),
+    pytest.param(VS, "reference.protocol", "Two radiologists outlined each tumour slice by slice.", "reported",
+                 id="outlined-slice-by-slice"),
+    # "fine-tune" a size or a hyperparameter is no pretraining (common practice in student reports); a rule
+    # against private data sets is a rule on extra data (common practice in challenge rules)
+    pytest.param(VS, "data.external-policy", "Additionally, more time to fine tune sizes of test/training set could "
+                 "have improved the performance.", "missing", id="fine-tune-a-size"),
+    pytest.param(VS, "data.external-policy", "We fine-tuned the learning rate and the batch size on the validation "
+                 "set.", "missing", id="fine-tune-a-hyperparameter"),
+    pytest.param(VS, "data.external-policy", "We fine-tuned the network from ImageNet weights on our training "
+                 "images.", "reported", id="fine-tune-a-network"),
+    pytest.param(BP, "data.external-policy", "Participants may use public data; the usage of any private dataset "
+                 "during the development of the methods is not allowed.", "reported", id="private-dataset-not-allowed"),
+    # one ranking per metric is a ranking rule (common practice on leaderboards that give no combined score)
+    pytest.param(BP, "ranking.method", "The leaderboard ranks teams separately for each metric (no weighting).",
+                 "reported", id="ranked-for-each-metric"),
+    # a missing volume scored as zero (common practice in segmentation challenges' scoring programs)
+    pytest.param(BP, "results.missing", "Missing volumes receive a score of zero.", "reported",
+                 id="missing-volumes-score-zero"),
 ]
 
 
