@@ -315,6 +315,22 @@ READINGS = [
     # a missing volume scored as zero (common practice in segmentation challenges' scoring programs)
     pytest.param(BP, "results.missing", "Missing volumes receive a score of zero.", "reported",
                  id="missing-volumes-score-zero"),
+    # how several people's labels become one: averaged, thresholded on the share who agree, or a primary coder
+    # whose labels stand while a second coder only measures reliability (common practice in rating, crowd
+    # labelling and behavioural coding studies); one labeller per item is a design
+    pytest.param(BP, "reference.fusion", "Three raters scored every video. Rater annotations will be averaged.",
+                 "reported", id="rater-annotations-averaged"),
+    pytest.param(DS, "reference.fusion", "Each image was labelled by five workers. Labels were aggregated across "
+                 "workers.", "reported", id="aggregated-across-workers"),
+    pytest.param(DS, "reference.fusion", "Each pair was judged by 20 annotators. Pairs where more than 60% of the "
+                 "annotators marked a match are positives.", "reported", id="share-of-annotators-threshold"),
+    pytest.param(VS, "reference.fusion", "A primary coder completed annotation for the full length of the video, "
+                 "while an independent reliability coder completed annotation for the first thirty minutes of each "
+                 "video.", "reported", id="primary-and-reliability-coder"),
+    pytest.param(DS, "reference.fusion", "Sites were mapped one time by one individual labeller.", "reported",
+                 id="one-individual-labeller"),
+    pytest.param(VS, "reference.fusion", "The scores were averaged over five runs.", "not-applicable",
+                 id="averaged-over-runs"),
 ]
 
 
