@@ -331,6 +331,18 @@ READINGS = [
                  id="one-individual-labeller"),
     pytest.param(VS, "reference.fusion", "The scores were averaged over five runs.", "not-applicable",
                  id="averaged-over-runs"),
+    # a year after a name is the edition, not a count ("the BraTS 2021 test scans", common practice in challenge
+    # pages); a batch, a collage or a maximum of a few images is no data set
+    pytest.param(BP, "data.counts", "The Harbour 2021 test scans will not be made available to the participating "
+                 "teams.", "not-applicable", id="edition-year-is-no-count"),
+    pytest.param(BP, "data.counts", "The Harbour 2019 training images are provided as JPEG files.", "missing",
+                 id="edition-year-training-images"),
+    pytest.param(VS, "data.counts", "Figure 9 shows a batch of 5 testing images.", "missing", id="batch-of-images"),
+    pytest.param(DS, "data.counts", "Here we present a collage of six representative ultrasound images from the "
+                 "dataset.", "missing", id="collage-of-images"),
+    # the unit once, then each split's size (common practice in papers)
+    pytest.param(VS, "data.counts", "We used a cohort of 300 patients, 200 for training and 100 for testing.",
+                 "reported", id="n-for-training-m-for-testing"),
 ]
 
 
