@@ -343,6 +343,22 @@ READINGS = [
     # the unit once, then each split's size (common practice in papers)
     pytest.param(VS, "data.counts", "We used a cohort of 300 patients, 200 for training and 100 for testing.",
                  "reported", id="n-for-training-m-for-testing"),
+    # which submission counts and the time a submission may take are submission rules (common practice in
+    # challenge rules)
+    pytest.param(BP, "governance.submission-policy", "Participants submit Docker containers. Note: the highest "
+                 "version number tagged image will be used for the final evaluation of your model.", "reported",
+                 id="highest-version-image-is-used"),
+    pytest.param(BP, "governance.submission-policy", "Participants submit Docker containers. A successful "
+                 "submission MUST run a full evaluation loop (start-to-submission) on a p3.2xlarge machine in less "
+                 "than 90 minutes.", "reported", id="must-run-within-a-time-budget"),
+    # a reproducibility statement that lists what is shared before saying it is available (common practice in
+    # journals' data availability statements); the usual post-hoc tests compare methods
+    pytest.param(VS, "availability.data-code", "Analyses were performed using R version 4.0.3.[12] Data as well "
+                 "as details about how to access the code and a reproducible computing environment required to "
+                 "verify the results is available.[13]", "reported", id="data-and-code-listed-are-available"),
+    pytest.param(BP, "ranking.uncertainty", "Teams are compared by mean opinion score. Differences larger than "
+                 "Fisher's least significant difference are significant.", "reported",
+                 id="least-significant-difference"),
 ]
 
 
