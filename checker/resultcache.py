@@ -45,7 +45,7 @@ _MAX_INT_BITS = 256  # counts, pages, spans and parsed numbers; a 5,000-digit nu
 _expected: dict[str, tuple[str, str]] = {}
 #: one line per entry that was refused and deleted in this process (for --verbose)
 notices: list[str] = []
-_UNCACHED_SUFFIXES = (".tex", ".ltx", ".latex")
+_UNCACHED_SUFFIXES = (".tex", ".ltx", ".latex", ".rnw", ".snw")
 #: the distributions whose behaviour shapes a report (reading, sentences, matching, YAML)
 _LIBRARIES = ("spacy", "spacy-lookups-data", "pdfminer.six", "pypdfium2", "python-docx", "rapidfuzz", "PyYAML",
               "markdown-it-py", "lxml", "regex")

@@ -221,6 +221,25 @@ def test_verbatim_and_listings_are_not_prose(tmp_path):
     assert not any("not closed" in w for w in doc.warnings)
 
 
+def test_a_sweave_or_knitr_manuscript_is_read_as_latex_without_its_r_chunks(tmp_path):
+    # R users write papers as .Rnw (Sweave/knitr): LaTeX with R code chunks between "<<...>>=" and "@" (the
+    # format of Sweave's and knitr's manuals); the chunks are code, not prose, and line numbers must still point
+    # into the file the author edits
+    main = tmp_path / "paper.Rnw"
+    main.write_text(
+        "\\documentclass{article}\n\\begin{document}\n\\section{Methods}\n"
+        "<<setup, echo=FALSE, message=FALSE>>=\nlibrary(lme4)\nscores <- read.csv('scores.csv')\n@\n"
+        "Three readers scored each of the 120 scans.\n\n<<>>=\nsummary(scores)\n@\n"
+        "Ties were broken by the mean rank.\n\\end{document}\n",
+        encoding="utf-8",
+    )
+    doc = read_document(main)
+    assert "read.csv" not in doc.text and "summary(" not in doc.text and "lme4" not in doc.text
+    assert find(doc, "Three readers").location.line == 8
+    assert find(doc, "Ties were broken").location.line == 13
+    assert find(doc, "Three readers").section == ("Methods",)
+
+
 def test_tangled_markup_is_read_piece_by_piece(tmp_path):
     # environments opened inside two-argument macros make pylatexenc's tolerant parser backtrack
     # exponentially (each repeat triples its work); the reader stops it and reads paragraph by paragraph

@@ -33,6 +33,8 @@ _SUFFIXES = {
     ".tex": "latex",
     ".latex": "latex",
     ".ltx": "latex",
+    ".rnw": "latex",
+    ".snw": "latex",
     ".md": "markdown",
     ".markdown": "markdown",
     ".rmd": "markdown",

@@ -37,7 +37,10 @@ from .html import url_note
 from .text import LineText, decode_bytes, sniff_text_like
 
 FORMAT = "latex"
-SUFFIXES = (".tex", ".latex")
+SUFFIXES = (".tex", ".latex", ".rnw", ".snw")
+
+#: a Sweave or knitr code chunk: "<<label, echo=FALSE>>=" up to a line holding only "@"
+_CHUNK = re.compile(r"^[ \t]*<<[^\n]*>>=[ \t]*$.*?(?:^[ \t]*@[ \t]*$|\Z)", re.M | re.S)
 
 #: sectioning commands by depth; levels are counted from the shallowest one a document uses
 _SECTIONS = {"part": -1, "chapter": 0, "section": 1, "subsection": 2, "subsubsection": 3, "paragraph": 4,
@@ -813,8 +816,16 @@ def sniff(head: bytes, path: Path) -> str | None:
     return sniff_text_like(head, "a LaTeX file")
 
 
+def without_code_chunks(text: str) -> str:
+    """A Sweave or knitr file (.Rnw) with its R code chunks blanked: the code is not the manuscript's prose. Each
+    chunk keeps its lines, so that line numbers still point into the file."""
+    return _CHUNK.sub(lambda m: "\n" * m.group(0).count("\n"), text)
+
+
 def read(path: Path, data: bytes, limits: Limits) -> Parsed:
     text, warnings = decode_bytes(data)
+    if path.suffix.lower() in (".rnw", ".snw"):
+        text = without_code_chunks(text)
     reader = _LatexReader(path, limits)
     reader.warnings.extend(warnings)
     with _quiet_parser("pylatexenc.latex2text"):  # its complaints about odd macros are not the user's business
