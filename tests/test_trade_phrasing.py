@@ -395,3 +395,20 @@ def test_a_datasheet_that_only_names_metrics_says_why_its_quotes_do_not_count():
     assert item.status == "not-applicable" and item.evidence
     assert item.reason == ("not applicable: the document evaluates no methods on the data (the quoted passages only "
                            "mention the topic)")
+
+
+@pytest.mark.parametrize("sentence, status", [
+    ("DenseNet performed best on the test set.", "partial"),
+    ("The random forest outperformed all other methods in accuracy.", "partial"),
+    ("The random forest achieved the highest accuracy on the test set.", "partial"),
+    ("Accuracy was reported on the test set.", "missing"),
+])
+def test_an_informal_order_among_compared_methods_is_a_partial_ranking(sentence, status):
+    # a paper that compares several methods and names the best one without a rule is read as a partial ranking
+    # by careful readers (the labelling conventions; common practice in student and journal papers). The cues
+    # find the statement; the judge then weighs it with the rest of the document, so the cues are asked here.
+    from checker.core.config import Config
+
+    text = "We compared four methods on the same split. " + sentence
+    item = next(it for it in check_text(text, VS, Config(judge="cues")).items if it.id == "ranking.method")
+    assert item.status == status
