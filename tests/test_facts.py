@@ -16,6 +16,7 @@ from hypothesis import strategies as st
 
 from .conftest import medmnist_info
 from checker.matching.facts import (
+    COUNT,
     DECIMAL,
     MACROS,
     NUMBER,
@@ -143,8 +144,17 @@ def test_expand_macros_leaves_quantifiers_and_unknown_braces_alone():
     out = expand_macros(src)
     assert r"\w{2,3}" in out and "{FOO}" in out
     assert "{NUMBER}" not in out and "{DECIMAL}" not in out and "{UNIT}" not in out and "{PERCENT}" not in out
-    assert MACROS == {"NUMBER": NUMBER, "DECIMAL": DECIMAL, "UNIT": UNIT, "PERCENT": PERCENT}
+    assert MACROS == {"NUMBER": NUMBER, "COUNT": COUNT, "DECIMAL": DECIMAL, "UNIT": UNIT, "PERCENT": PERCENT}
     assert regex.compile(expand_macros(r"\{NUMBER\}")).fullmatch("{NUMBER}")  # an escaped brace stays literal
+
+
+def test_the_sentence_prefilter_knows_every_macro():
+    # regexscan names the macros itself (it cannot import facts); a macro it did not know would be read as the
+    # literal text "{COUNT}" and its regexes would never be tried
+    from checker.matching.regexscan import _MACRO_CHAR, required_word_sets
+
+    assert set(_MACRO_CHAR) == set(MACROS)
+    assert not any("{" in w for ws in required_word_sets(r"(?P<n>{COUNT})\s+test\s+images") for w in ws)
 
 
 def test_macros_work_inside_checklist_patterns_as_the_engine_compiles_them():

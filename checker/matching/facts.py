@@ -18,7 +18,7 @@ from .fact import Fact
 from ..core.words import builtin_words
 
 __all__ = [
-    "NUMBER", "DECIMAL", "UNIT", "PERCENT", "MACROS", "expand_macros", "parse_number", "Quantity",
+    "NUMBER", "COUNT", "DECIMAL", "UNIT", "PERCENT", "MACROS", "expand_macros", "parse_number", "Quantity",
     "parse_value", "Fact", "extract_facts", "KINDS",
 ]
 
@@ -80,7 +80,12 @@ UNIT = (
 #: a percentage: "12%", "12 %", "12.5 percent", "twelve per cent"
 PERCENT = rf"(?:(?:{DECIMAL}|{_WORDS_COMPACT}){_SP}?(?:%|(?i:per{_SP}?cent|percent|pct)\b))"
 
-MACROS: dict[str, str] = {"NUMBER": NUMBER, "DECIMAL": DECIMAL, "UNIT": UNIT, "PERCENT": PERCENT}
+#: the size of a data set: a {NUMBER} that is not a challenge's edition year after its name ("the Harbour 2021 test
+#: scans") nor the few items of a batch, collage, grid or maximum ("a batch of 5 testing images")
+COUNT = (r"(?!(?<=(?-i:[A-Z])[\w-]*\s)(?:19|20)\d\d\b)"
+         r"(?<!\b(?:batch|batches|collage|montage|mosaic|grid|maximum|minimum|panel)\s+of\s)" + rf"(?:{NUMBER})")
+
+MACROS: dict[str, str] = {"NUMBER": NUMBER, "COUNT": COUNT, "DECIMAL": DECIMAL, "UNIT": UNIT, "PERCENT": PERCENT}
 
 #: stands for "any decimal digit, as the regex module's \\d sees one" in MACRO_NEEDS
 DIGIT = "\\d"
@@ -89,16 +94,18 @@ _COUNT_WORDS = (DIGIT, "single", "dozen", *_ONES, *_TENS, "hundred", "thousand",
 #: over sentences that cannot match (a {NUMBER} needs a digit or a number word)
 MACRO_NEEDS: dict[str, tuple[tuple[str, ...], ...]] = {
     "NUMBER": (_COUNT_WORDS,),
+    "COUNT": (_COUNT_WORDS,),
     "DECIMAL": ((DIGIT,),),
     "PERCENT": (_COUNT_WORDS, ("%", "per", "pct")),
     "UNIT": (),
 }
 
-_MACRO = regexcache.compile(r"(?<!\\)\{(NUMBER|DECIMAL|UNIT|PERCENT)\}")
+_MACRO = regexcache.compile(r"(?<!\\)\{(" + "|".join(MACROS) + r")\}")
 
 
 def expand_macros(pattern: str) -> str:
-    """The pattern with {NUMBER}, {DECIMAL}, {UNIT} and {PERCENT} replaced; other braces ({2,3}) stay as written."""
+    """The pattern with {NUMBER}, {COUNT}, {DECIMAL}, {UNIT} and {PERCENT} replaced; other braces ({2,3}) stay as
+    written."""
     return _MACRO.sub(lambda m: "(?:" + MACROS[m.group(1)] + ")", pattern)
 
 

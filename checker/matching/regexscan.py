@@ -224,9 +224,10 @@ class _MacroNeed(frozenset):
     finds, so it narrows candidates but never picks them."""
 
 
-_MACRO = re.compile(r"(?<!\\)\{(NUMBER|DECIMAL|UNIT|PERCENT)\}")
-#: each macro as a private-use character while the source is parsed
-_MACRO_CHAR = {"NUMBER": "\ue000", "DECIMAL": "\ue001", "UNIT": "\ue002", "PERCENT": "\ue003"}
+#: each macro of facts.MACROS as a private-use character while the source is parsed (named here, not imported:
+#: facts compiles its patterns through core.limits, which reads this module)
+_MACRO_CHAR = {"NUMBER": "\ue000", "DECIMAL": "\ue001", "UNIT": "\ue002", "PERCENT": "\ue003", "COUNT": "\ue004"}
+_MACRO = re.compile(r"(?<!\\)\{(" + "|".join(_MACRO_CHAR) + r")\}")
 _CHAR_MACRO = {v: k for k, v in _MACRO_CHAR.items()}
 
 
