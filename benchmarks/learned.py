@@ -1,6 +1,7 @@
 """Does a learned scorer beat the hand-written cues and weights on documents it was not trained on?
 
     python benchmarks/learned.py [--dev DIR] [--extra DIR ...] [--test DIR ...] [--folds K] [--jobs N]
+                                 [--sentences shipped [--towards-shipped C]] [--write]
 
 An experiment, not part of the checker: it needs scikit-learn (installed with the test extra). Every labelled
 document is checked once with the checklist its label names. Two models are then trained per item, in K folds
@@ -19,6 +20,11 @@ It prints, per labelled folder, the checker's figures against the learned ones (
 three-class agreement), and how often the top three sentences cover the labelled passage for the checker's
 evidence and for the learned scorer. Features are hashed, so no word of any document is kept. `--test DIR` adds
 labelled folders that are never trained on: their documents are judged by models trained on all the others.
+
+When the documents the shipped models were fitted on are no longer at hand, `--sentences shipped` keeps the shipped
+sentence scorers and fits the item judges alone, and `--towards-shipped C` pulls each judge's weights towards the
+shipped judge's rather than towards zero: the new labels adjust it (further as C grows) instead of replacing what
+many more documents taught it. The shipped judge's figures on the same scores are printed beside.
 """
 
 from __future__ import annotations
@@ -95,18 +101,73 @@ def _sentence_model(lr, keep: int, facet_ids: list[str]) -> dict:
             "facets": {f: round(float(coef[BUCKETS + 1 + j]), 4) for j, f in enumerate(facet_ids)}}
 
 
+def _scores_of(models, rows: list[dict], wanted) -> dict[int, list[float]]:
+    """Every wanted row's sentence scores by these models (zeros for an item they have no scorer for)."""
+    out, z_of = {}, {}
+    for k, r in enumerate(rows):
+        if not wanted(k, r):
+            continue
+        doc = r["doc"]
+        if r["item"] not in models.items:
+            out[k] = [0.0] * len(doc["sentences"])
+            continue
+        if doc["document"] not in z_of:
+            z_of[doc["document"]] = models.scores(doc["features"], [s["weight"] for s in doc["sentences"]])
+        out[k] = models.item_scores(*z_of[doc["document"]], r["item"], set(r["it"]["hit"]),
+                                    {f: set(v) for f, v in r["it"]["facet_hits"].items()})
+    return out
+
+
 #: an item with too few labelled passages to learn from scores every sentence near zero
 NO_WORDS = {"bias": -30.0, "cue": 0.0, "words": {}}
 
 
-def _judge_model(y: list[str], x: list[list[float]], positive_first: bool = True) -> dict:
+def _judge_model(y: list[str], x: list[list[float]], positive_first: bool = True, prior: dict | None = None,
+                 c: float = 1.0) -> dict:
+    """The item judge: multinomial logistic regression. With `prior` (a judge fitted before) its weights are pulled
+    towards the prior's rather than towards zero, so a few hundred new labels adjust a judge fitted on many more
+    instead of replacing it; `c` is how far they may move it (larger: further)."""
     from sklearn.linear_model import LogisticRegression
 
     if len(set(y)) < 2:
         return {"classes": [y[0]], "coef": [], "intercept": []}
-    m = LogisticRegression(max_iter=3000).fit(x, y)
-    return {"classes": [str(c) for c in m.classes_], "coef": [[round(float(v), 4) for v in row] for row in m.coef_],
-            "intercept": [round(float(v), 4) for v in m.intercept_], "positive_first": positive_first}
+    classes = sorted(set(y))
+    if prior is not None and len(prior.get("classes", [])) == 3 and set(classes) <= set(prior["classes"]):
+        # a status the new labels never give keeps the prior's weights, lowered only as far as the labels push it
+        classes = list(prior["classes"])
+        coef, intercept = _fit_towards(classes, y, x, prior, c)
+    else:
+        m = LogisticRegression(max_iter=3000, C=c if prior is None else 1.0).fit(x, y)
+        coef, intercept, classes = m.coef_, m.intercept_, [str(k) for k in m.classes_]
+    return {"classes": classes, "coef": [[round(float(v), 4) for v in row] for row in coef],
+            "intercept": [round(float(v), 4) for v in intercept], "positive_first": positive_first}
+
+
+def _fit_towards(classes: list[str], y: list[str], x: list[list[float]], prior: dict, c: float):
+    """Minimise c * (negative log-likelihood) + 1/2 |W - W_prior|^2 (intercepts unpenalised), from the prior."""
+    import numpy as np
+    from scipy.optimize import minimize
+    from scipy.special import logsumexp
+
+    X = np.asarray(x, dtype=float)
+    Y = np.zeros((len(y), len(classes)))
+    Y[np.arange(len(y)), [classes.index(v) for v in y]] = 1.0
+    w0, b0 = np.asarray(prior["coef"], dtype=float), np.asarray(prior["intercept"], dtype=float)
+    k, d = w0.shape
+
+    def loss(theta):
+        w, b = theta[:k * d].reshape(k, d), theta[k * d:]
+        z = X @ w.T + b
+        lse = logsumexp(z, axis=1)
+        p = np.exp(z - lse[:, None])
+        nll = float(np.sum(lse - np.sum(Y * z, axis=1)))
+        gz = c * (p - Y)
+        gw = gz.T @ X + (w - w0)
+        return c * nll + 0.5 * float(np.sum((w - w0) ** 2)), np.concatenate([gw.ravel(), gz.sum(axis=0)])
+
+    theta = minimize(loss, np.concatenate([w0.ravel(), b0]), jac=True, method="L-BFGS-B",
+                     options={"maxiter": 3000}).x
+    return theta[:k * d].reshape(k, d), theta[k * d:]
 
 
 def main(argv: list[str] | None = None) -> int:
@@ -122,6 +183,15 @@ def main(argv: list[str] | None = None) -> int:
                     help=f"store the models fitted on all documents but --test ones in checklists/{JUDGE_FILE}")
     ap.add_argument("--compare", action="store_true",
                     help="also show the judge that takes the likeliest of the three statuses at once")
+    ap.add_argument("--sentences", choices=("fit", "shipped"), default="fit",
+                    help="fit the sentence scorers per fold (fit), or keep the shipped ones and fit the item judges "
+                         "alone (shipped: the judges learn the labels' conventions from the scores users get)")
+    ap.add_argument("--towards-shipped", type=float, metavar="C",
+                    help="fit each item judge towards the shipped one's weights rather than towards zero; C: how far "
+                         "the labels may move it (with --sentences shipped)")
+    ap.add_argument("--judge-c", type=float, default=1.0, help="the item judges' inverse regularisation strength")
+    ap.add_argument("--reuse", type=Path, help="keep the checked documents in this file and reuse them next time "
+                                                "(only while the documents and the checklists stay the same)")
     ap.add_argument("--dump", type=Path, help="write every labelled item's statuses (cues, judge, human) as JSON")
     args = ap.parse_args(argv)
     if not (args.dev / "labels").is_dir():
@@ -143,8 +213,17 @@ def main(argv: list[str] | None = None) -> int:
         for lf in load_labels(folder / "labels"):
             tasks.append((lf.document, lf.checklist, {it.item_id: (it.status, it.quote) for it in lf.items}))
             folder_of[lf.document] = folder.name
-    with ProcessPoolExecutor(max_workers=max(1, args.jobs)) as pool:
-        checked = list(pool.map(_check, tasks))
+    if args.reuse and args.reuse.is_file():
+        import pickle
+
+        checked = pickle.loads(args.reuse.read_bytes())
+    else:
+        with ProcessPoolExecutor(max_workers=max(1, args.jobs)) as pool:
+            checked = list(pool.map(_check, tasks))
+        if args.reuse:
+            import pickle
+
+            args.reuse.write_bytes(pickle.dumps(checked))
     for d in checked:
         if "error" in d:
             print(f"  not checked: {d['document']}: {d['error']}")
@@ -188,7 +267,24 @@ def main(argv: list[str] | None = None) -> int:
 
     scores: dict[int, list[float]] = {}
     sentence_models: dict[str, dict] = {}
-    for f in rounds:
+    prior, raw_about, shipped_scores = None, "", {}
+    if args.sentences != "fit" or args.towards_shipped is not None:
+        import json
+
+        from checker.verdicts.judge import shipped
+
+        prior = shipped()
+        if prior is None:
+            print(f"learned: no shipped checklists/{JUDGE_FILE} to start from")
+            return 2
+        raw = json.loads((ROOT / "checklists" / JUDGE_FILE).read_text(encoding="utf-8"))
+        raw_about = str(raw.get("about", ""))
+        shipped_scores = _scores_of(prior, rows, lambda k, r: True)
+        if args.sentences == "shipped":
+            sentence_models = {i: {**m["sentence"], "words": {int(b): w for b, w in m["sentence"]["words"].items()}}
+                               for i, m in raw["items"].items()}  # as read (the words' buckets are numbers)
+            scores = shipped_scores
+    for f in rounds if args.sentences != "shipped" else ():
         by_item = defaultdict(list)
         for r in rows:
             if learns_from(r["doc"]["document"], f):
@@ -200,16 +296,7 @@ def main(argv: list[str] | None = None) -> int:
                 C=0.5, class_weight="balanced", solver="liblinear").fit(vstack([x_of(r) for r in rs]), y), args.keep,
                 facets_of[item_id])
         models = Models.build(BUCKETS, fitted, {})
-        z_of = {}
-        for k, r in enumerate(rows):
-            doc = r["doc"]
-            if fold[doc["document"]] == f and r["item"] in fitted:
-                if doc["document"] not in z_of:
-                    z_of[doc["document"]] = models.scores(doc["features"], [s["weight"] for s in doc["sentences"]])
-                scores[k] = models.item_scores(*z_of[doc["document"]], r["item"], set(r["it"]["hit"]),
-                                               {f: set(v) for f, v in r["it"]["facet_hits"].items()})
-            elif fold[doc["document"]] == f:
-                scores[k] = [0.0] * len(doc["sentences"])
+        scores.update(_scores_of(models, rows, lambda k, r, f=f: fold[r["doc"]["document"]] == f))
         if f == args.folds:
             sentence_models = fitted
         print(f"  round {f + 1} of {len(rounds)} scored", file=sys.stderr)
@@ -219,6 +306,11 @@ def main(argv: list[str] | None = None) -> int:
     # the shipped judge asks first whether the item is there at all; --compare also shows the one that takes the
     # likeliest of the three statuses at once
     variants = {"judged": True, "argmax": False} if args.compare else {"judged": True}
+    c_judge = args.towards_shipped if args.towards_shipped is not None else args.judge_c
+
+    def prior_of(item_id: str) -> dict | None:
+        return None if args.towards_shipped is None else prior.judges.get(item_id)
+
     learned_by: dict[str, dict[int, str]] = {}
     free: dict[int, str] = {}  # what the shipped judge said before `allowed` (for --dump)
     judges_all: dict[str, dict] = {}
@@ -230,7 +322,7 @@ def main(argv: list[str] | None = None) -> int:
                 if learns_from(r["doc"]["document"], f):
                     by_item[r["item"]].append(k)
             judges = {item_id: _judge_model([three_class(rows[k]["human"]) for k in ks], [feats[k] for k in ks],
-                                            positive_first)
+                                            positive_first, prior=prior_of(item_id), c=c_judge)
                       for item_id, ks in sorted(by_item.items())}
             for k, r in enumerate(rows):
                 if fold[r["doc"]["document"]] == f:
@@ -245,6 +337,17 @@ def main(argv: list[str] | None = None) -> int:
                 judges_all = judges
         learned_by[variant] = learned
     learned = learned_by["judged"]
+    if prior is not None:  # the shipped sentence scorers and item judges, for comparison
+        variants["shipped judge"] = True
+        learned_by["shipped judge"] = {}
+        for k, r in enumerate(rows):
+            if r["item"] not in prior.judges:
+                learned_by["shipped judge"][k] = r["it"]["tool"]
+                continue
+            x = judge_features(shipped_scores[k], r["it"]["tool"], r["it"]["facets"], r["it"]["checklist"])
+            learned_by["shipped judge"][k] = allowed(r["it"]["tool"], predict(prior.judges[r["item"]], x),
+                                                     bool(r["it"]["evidence"]) or r["it"]["quotable"],
+                                                     r["it"]["mention_only"])
 
     print(f"\n{len(documents)} documents, {len(rows)} labelled items, {args.folds} folds grouped by document"
           + (f"; never trained on: {', '.join(sorted(tested))}" if tested else ""))
@@ -265,8 +368,9 @@ def main(argv: list[str] | None = None) -> int:
             if name == "cues":
                 covered = sum(quote_covers(rows[k]["quote"], rows[k]["it"]["evidence"][:3]) for k in both)
             else:
+                by = shipped_scores if name == "shipped judge" else scores
                 covered = sum(quote_covers(rows[k]["quote"], [rows[k]["doc"]["sentences"][i]["text"]
-                                                         for i in np.argsort(-np.asarray(scores[k]),
+                                                         for i in np.argsort(-np.asarray(by[k]),
                                                                              kind="stable")[:3]])
                               for k in both)
             f1, kappa, three = macro_f1(pairs), binary_kappa(pairs), three_class_agreement(pairs)
@@ -281,18 +385,25 @@ def main(argv: list[str] | None = None) -> int:
                 "evidence": len(rows[k]["it"]["evidence"])} for k in range(len(rows))]
         args.dump.write_text(json.dumps(out, indent=1) + "\n", encoding="utf-8")
     if args.write:
-        _write(sentence_models, judges_all, len(trained), sorted({folder_of[d] for d in trained}))
+        about = f"fitted by benchmarks/learned.py --write on {len(trained)} labelled documents; hashed words only"
+        if args.sentences == "shipped":
+            before = raw_about.split(";")[0]  # where the kept sentence scorers come from
+            before = before if before.startswith("sentence scorers") else f"sentence scorers {before}"
+            how = f"--sentences shipped --towards-shipped {args.towards_shipped}" if args.towards_shipped else \
+                "--sentences shipped"
+            about = (f"{before}; item judges refitted{' towards those before' if args.towards_shipped else ''} on "
+                     f"{len(trained)} labelled documents ({how}); hashed words only")
+        _write(sentence_models, judges_all, about)
     return 0
 
 
-def _write(sentence_models: dict, judges: dict, documents: int, folders: list[str]) -> None:
+def _write(sentence_models: dict, judges: dict, about: str) -> None:
     import json
 
     from checker.core.output import write_atomic
 
     items = {i: {"sentence": sentence_models.get(i, NO_WORDS), "judge": judges[i]} for i in sorted(judges)}
-    data = {"about": f"fitted by benchmarks/learned.py --write on {documents} labelled documents; hashed words only",
-            "buckets": BUCKETS, "items": items}
+    data = {"about": about, "buckets": BUCKETS, "items": items}
     target = ROOT / "checklists" / JUDGE_FILE
     write_atomic(target, json.dumps(data, sort_keys=True, separators=(",", ":")) + "\n")
     print(f"wrote {target} ({len(items)} items, {target.stat().st_size // 1024} KiB)")
