@@ -191,7 +191,8 @@ def main(argv: list[str] | None = None) -> int:
                          "the labels may move it (with --sentences shipped)")
     ap.add_argument("--judge-c", type=float, default=1.0, help="the item judges' inverse regularisation strength")
     ap.add_argument("--reuse", type=Path, help="keep the checked documents in this file and reuse them next time "
-                                                "(only while the documents and the checklists stay the same)")
+                                                "the same labelled documents are asked for (only while the "
+                                                "documents and the checklists stay the same)")
     ap.add_argument("--dump", type=Path, help="write every labelled item's statuses (cues, judge, human) as JSON")
     args = ap.parse_args(argv)
     if not (args.dev / "labels").is_dir():
@@ -213,17 +214,16 @@ def main(argv: list[str] | None = None) -> int:
         for lf in load_labels(folder / "labels"):
             tasks.append((lf.document, lf.checklist, {it.item_id: (it.status, it.quote) for it in lf.items}))
             folder_of[lf.document] = folder.name
-    if args.reuse and args.reuse.is_file():
-        import pickle
+    import pickle
 
-        checked = pickle.loads(args.reuse.read_bytes())
+    kept = pickle.loads(args.reuse.read_bytes()) if args.reuse and args.reuse.is_file() else {}
+    if isinstance(kept, dict) and kept.get("tasks") == tasks:  # the same documents with the same labels
+        checked = kept["checked"]
     else:
         with ProcessPoolExecutor(max_workers=max(1, args.jobs)) as pool:
             checked = list(pool.map(_check, tasks))
         if args.reuse:
-            import pickle
-
-            args.reuse.write_bytes(pickle.dumps(checked))
+            args.reuse.write_bytes(pickle.dumps({"tasks": tasks, "checked": checked}))
     for d in checked:
         if "error" in d:
             print(f"  not checked: {d['document']}: {d['error']}")
