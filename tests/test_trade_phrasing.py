@@ -81,6 +81,14 @@ READINGS = [
     pytest.param(DS, "data.counts", "In total, there are 1,422,914 sentences in the corpus.", "reported",
                  id="in-total-there-are"),
     pytest.param(DS, "data.counts", "There are 2 reasons for this choice.", "missing", id="there-are-no-unit"),
+    # a split or a total counted in the data set's own unit, whatever the field (common practice: trajectories in
+    # driving data, utterances in speech corpora, clips in video); score points and what each unit holds are not
+    # the data set's size
+    pytest.param(DS, "data.counts", "The training split has 300 clips.", "reported", id="split-in-own-unit"),
+    pytest.param(DS, "data.counts", "Pedestrian trajectories (1,793 / 2,010)", "reported", id="unit-with-split-counts"),
+    pytest.param(DS, "data.counts", "The release has 1,793 trajectories in total.", "reported", id="total-in-own-unit"),
+    pytest.param(DS, "data.counts", "Scores: 50 points in total.", "missing", id="score-points-in-total"),
+    pytest.param(DS, "data.counts", "Each scene has 3 trajectories in total.", "missing", id="what-each-unit-has"),
     pytest.param(DS, "data.counts", "The dataset contains 1,797 images of handwritten digits.", "reported",
                  id="total-no-split"),
     # a dataset that names its own split but leaves out the sizes reports only part of its counts (the
