@@ -89,6 +89,14 @@ READINGS = [
     pytest.param(DS, "data.counts", "The release has 1,793 trajectories in total.", "reported", id="total-in-own-unit"),
     pytest.param(DS, "data.counts", "Scores: 50 points in total.", "missing", id="score-points-in-total"),
     pytest.param(DS, "data.counts", "Each scene has 3 trajectories in total.", "missing", id="what-each-unit-has"),
+    # who labelled, named by the kind of worker or team (common practice in dataset documentation): a background
+    # without training or experience is partial, as careful readers label it
+    pytest.param(DS, "reference.expertise", "The labels were collected through crowdsourcing.", "partial",
+                 id="crowdsourced-labels"),
+    pytest.param(DS, "reference.expertise", "Each clip was labelled by the in-house annotation team.", "partial",
+                 id="annotation-team"),
+    pytest.param(DS, "reference.expertise", "Professional annotators drew the boxes.", "partial",
+                 id="professional-annotators"),
     pytest.param(DS, "data.counts", "The dataset contains 1,797 images of handwritten digits.", "reported",
                  id="total-no-split"),
     # a dataset that names its own split but leaves out the sizes reports only part of its counts (the
