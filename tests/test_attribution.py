@@ -22,6 +22,12 @@ from checker.engine import check_document, check_text
     ("Annotators marked every lesion in the scans.", "related-work", OTHER_WORK),
     ("Please describe how the annotations of several readers were merged.", "body", TEMPLATE),
     ("Describe the number of annotators and their expertise.", "body", TEMPLATE),
+    # a datasheet template's question with its own examples (common practice in datasheet templates); a statement
+    # with an example in brackets stays the study's
+    ("Who was involved in the data collection process (e.g., students, crowdworkers, contractors)?", "body",
+     TEMPLATE),
+    ("Are there recommended data splits (for example, training, validation and testing)?", "body", TEMPLATE),
+    ("Two radiologists (e.g., a neuroradiologist) annotated each scan.", "methods", THIS_STUDY),
     ("In future work we plan to investigate consensus labels from several readers.", "discussion", PLAN),
     ("Bootstrap intervals could be explored in future editions.", "discussion", PLAN),
     ("Dice is widely used to compare segmentations.", "methods", BACKGROUND),
@@ -42,6 +48,15 @@ def test_attribution_of_typical_sentences(text, role, kind):
 def test_units_with_superscripts_are_not_citations():
     # "mm²" is a unit, not reference 2
     assert attribute("Each lesion larger than 5 mm² was outlined.", "methods").kind == THIS_STUDY
+
+
+def test_a_templates_example_answers_are_not_the_documents_answer():
+    # a datasheet left unanswered: the question's own examples name annotators, the document names none
+    text = ("Collection process\n\n"
+            "Who labelled the data (e.g., crowdworkers, an in-house annotation team, trained radiologists)?\n\n"
+            "The images were taken with a handheld camera at three field sites.")
+    items = {it.id: it for it in check_text(text, "dataset-description").items}
+    assert items["reference.expertise"].status in ("missing", "not-applicable")
 
 
 def test_other_work_never_makes_an_item_reported():

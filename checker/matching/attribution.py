@@ -89,6 +89,12 @@ _TEMPLATE = re.compile(
     re.IGNORECASE,
 )
 
+# A form's question that offers its own examples, as datasheet and checklist templates do ("Who was involved in the
+# data collection process (e.g., students, crowdworkers, contractors)?"): the examples are the template's, not
+# the answer's
+_FORM_QUESTION = re.compile(r"\(\s*(?:e\.\s?g\.|for\s+example|such\s+as)[^)]*\)[^.!]*\?\s*[\"'’”)\]]*\s*$",
+                            re.IGNORECASE)
+
 # General statements: what is usual or known, not what was done here.
 _GENERAL = re.compile(
     r"\b(?:is|are)\s+(?:widely|commonly|frequently|often|usually|typically|generally)\s+(?:used|applied|"
@@ -151,6 +157,8 @@ def attribute(text: str, role: str = "body", kind: str = "paragraph") -> Attribu
     own = _SELF.search(text) or _SELF_SINGULAR.search(text)
     if _TEMPLATE.search(text) and not re.match(r"\s*(?:we|our|my)\b|\s*I\s", text, re.IGNORECASE):
         return Attribution(TEMPLATE, "an instruction or placeholder")
+    if _FORM_QUESTION.search(text):
+        return Attribution(TEMPLATE, "a form's question with its examples")
     if _PLAN.search(text):
         return Attribution(PLAN, "future work or a plan")
     cited = _CITATION.search(text)
