@@ -170,6 +170,16 @@ def _fit_towards(classes: list[str], y: list[str], x: list[list[float]], prior: 
     return theta[:k * d].reshape(k, d), theta[k * d:]
 
 
+def _verdict(row: dict, judge: dict | None, x: list[float]) -> tuple[str, str]:
+    """What a judge says of a labelled item (the cues' status without one), and the status it may give where
+    quotes can back it (checker.verdicts.judge.allowed)."""
+    from checker.verdicts.judge import allowed, predict
+
+    it = row["it"]
+    said = it["tool"] if judge is None else predict(judge, x)
+    return said, allowed(it["tool"], said, bool(it["evidence"]) or it["quotable"], it["mention_only"])
+
+
 def main(argv: list[str] | None = None) -> int:
     ap = argparse.ArgumentParser(description=__doc__.split("\n\n")[0])
     ap.add_argument("--dev", type=Path, default=ROOT.parent / "shared" / "eval" / "dev")
@@ -189,7 +199,6 @@ def main(argv: list[str] | None = None) -> int:
     ap.add_argument("--towards-shipped", type=float, metavar="C",
                     help="fit each item judge towards the shipped one's weights rather than towards zero; C: how far "
                          "the labels may move it (with --sentences shipped)")
-    ap.add_argument("--judge-c", type=float, default=1.0, help="the item judges' inverse regularisation strength")
     ap.add_argument("--reuse", type=Path, help="keep the checked documents in this file and reuse them next time "
                                                 "the same labelled documents are asked for (only while the "
                                                 "documents and the checklists stay the same)")
@@ -207,7 +216,7 @@ def main(argv: list[str] | None = None) -> int:
         return 0
     from checker.many.evaluation import (Pair, binary_kappa, load_labels, macro_f1, quote_covers, three_class,
                                          three_class_agreement)
-    from checker.verdicts.judge import Models, allowed, judge_features, predict
+    from checker.verdicts.judge import Models, judge_features
 
     tasks, folder_of = [], {}
     for folder in [args.dev, *args.extra, *args.test]:
@@ -271,13 +280,14 @@ def main(argv: list[str] | None = None) -> int:
     if args.sentences != "fit" or args.towards_shipped is not None:
         import json
 
-        from checker.verdicts.judge import shipped
+        from checker.verdicts.judge import parse_model
 
-        prior = shipped()
-        if prior is None:
+        source = ROOT / "checklists" / JUDGE_FILE
+        if not source.is_file():
             print(f"learned: no shipped checklists/{JUDGE_FILE} to start from")
             return 2
-        raw = json.loads((ROOT / "checklists" / JUDGE_FILE).read_text(encoding="utf-8"))
+        text = source.read_text(encoding="utf-8")
+        prior, raw = parse_model(text, f"checklists/{JUDGE_FILE}"), json.loads(text)
         raw_about = str(raw.get("about", ""))
         shipped_scores = _scores_of(prior, rows, lambda k, r: True)
         if args.sentences == "shipped":
@@ -306,7 +316,7 @@ def main(argv: list[str] | None = None) -> int:
     # the shipped judge asks first whether the item is there at all; --compare also shows the one that takes the
     # likeliest of the three statuses at once
     variants = {"judged": True, "argmax": False} if args.compare else {"judged": True}
-    c_judge = args.towards_shipped if args.towards_shipped is not None else args.judge_c
+    c_judge = args.towards_shipped if args.towards_shipped is not None else 1.0
 
     def prior_of(item_id: str) -> dict | None:
         return None if args.towards_shipped is None else prior.judges.get(item_id)
@@ -326,11 +336,7 @@ def main(argv: list[str] | None = None) -> int:
                       for item_id, ks in sorted(by_item.items())}
             for k, r in enumerate(rows):
                 if fold[r["doc"]["document"]] == f:
-                    j = judges.get(r["item"])
-                    tool = r["it"]["tool"]
-                    said = tool if j is None else predict(j, feats[k])
-                    learned[k] = allowed(tool, said, bool(r["it"]["evidence"]) or r["it"]["quotable"],
-                                         r["it"]["mention_only"])
+                    said, learned[k] = _verdict(r, judges.get(r["item"]), feats[k])
                     if variant == "judged":
                         free[k] = said
             if f == args.folds and variant == "judged":
@@ -339,15 +345,10 @@ def main(argv: list[str] | None = None) -> int:
     learned = learned_by["judged"]
     if prior is not None:  # the shipped sentence scorers and item judges, for comparison
         variants["shipped judge"] = True
-        learned_by["shipped judge"] = {}
-        for k, r in enumerate(rows):
-            if r["item"] not in prior.judges:
-                learned_by["shipped judge"][k] = r["it"]["tool"]
-                continue
-            x = judge_features(shipped_scores[k], r["it"]["tool"], r["it"]["facets"], r["it"]["checklist"])
-            learned_by["shipped judge"][k] = allowed(r["it"]["tool"], predict(prior.judges[r["item"]], x),
-                                                     bool(r["it"]["evidence"]) or r["it"]["quotable"],
-                                                     r["it"]["mention_only"])
+        learned_by["shipped judge"] = {
+            k: _verdict(r, prior.judges.get(r["item"]), judge_features(shipped_scores[k], r["it"]["tool"],
+                                                                        r["it"]["facets"], r["it"]["checklist"]))[1]
+            for k, r in enumerate(rows)}
 
     print(f"\n{len(documents)} documents, {len(rows)} labelled items, {args.folds} folds grouped by document"
           + (f"; never trained on: {', '.join(sorted(tested))}" if tested else ""))

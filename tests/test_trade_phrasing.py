@@ -89,6 +89,7 @@ READINGS = [
     pytest.param(DS, "data.counts", "The release has 1,793 trajectories in total.", "reported", id="total-in-own-unit"),
     pytest.param(DS, "data.counts", "Scores: 50 points in total.", "missing", id="score-points-in-total"),
     pytest.param(DS, "data.counts", "Each scene has 3 trajectories in total.", "missing", id="what-each-unit-has"),
+    pytest.param(DS, "data.counts", "Images were collected from 3 sites.", "missing", id="sites-are-no-size"),
     # who labelled, named by the kind of worker or team (common practice in dataset documentation): a background
     # without training or experience is partial, as careful readers label it
     pytest.param(DS, "reference.expertise", "The labels were collected through crowdsourcing.", "partial",

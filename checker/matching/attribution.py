@@ -85,15 +85,12 @@ _TEMPLATE = re.compile(
     # a draft's placeholder standing for a passage still to come: "[Results to be added]", "(TBD)"
     r"|^\s*[\[(][^\])]{0,80}?\b(?:to\s+be\s+(?:added|completed|written|filled\s+in|inserted|determined|confirmed|"
     r"announced|updated|decided)|TBD|TBA|TODO|FIXME)\b[^\])]{0,40}[\])]"
-    r"|<(?:insert|describe|add|enter|your)[^>]{0,80}>",
+    r"|<(?:insert|describe|add|enter|your)[^>]{0,80}>"
+    # a form's question that offers its own examples, as datasheet templates ask ("Who was involved in the data
+    # collection process (e.g., students, crowdworkers, contractors)?"): the examples are the template's
+    r"|\(\s*(?:e\.\s?g\.|for\s+example|such\s+as)[^)]*\)[^.!]*\?\s*[\"'’”)\]]*\s*$",
     re.IGNORECASE,
 )
-
-# A form's question that offers its own examples, as datasheet and checklist templates do ("Who was involved in the
-# data collection process (e.g., students, crowdworkers, contractors)?"): the examples are the template's, not
-# the answer's
-_FORM_QUESTION = re.compile(r"\(\s*(?:e\.\s?g\.|for\s+example|such\s+as)[^)]*\)[^.!]*\?\s*[\"'’”)\]]*\s*$",
-                            re.IGNORECASE)
 
 # General statements: what is usual or known, not what was done here.
 _GENERAL = re.compile(
@@ -156,9 +153,7 @@ def attribute(text: str, role: str = "body", kind: str = "paragraph") -> Attribu
         return Attribution(THIS_STUDY, "a heading")
     own = _SELF.search(text) or _SELF_SINGULAR.search(text)
     if _TEMPLATE.search(text) and not re.match(r"\s*(?:we|our|my)\b|\s*I\s", text, re.IGNORECASE):
-        return Attribution(TEMPLATE, "an instruction or placeholder")
-    if _FORM_QUESTION.search(text):
-        return Attribution(TEMPLATE, "a form's question with its examples")
+        return Attribution(TEMPLATE, "a template's instruction, placeholder or question")
     if _PLAN.search(text):
         return Attribution(PLAN, "future work or a plan")
     cited = _CITATION.search(text)
